@@ -1,0 +1,131 @@
+"""The ``tubeplan`` command: argument parsing and output only; the work is in the packages.
+
+Exit statuses: 0 done; 1 internal error (one line and a hint; traceback with
+``--debug``); 2 bad input (one ``FILE:LINE: message``); 3 the stock or
+supplies cannot carry the design (with what is short).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from planner.spec import InputError
+
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT = 0, 1, 2, 3
+
+#: The bundled demo, planned by ``tubeplan plan`` with no arguments.
+DEMO_DIR = Path(__file__).resolve().parent.parent / "inventory_demo"
+DEMO_DESIGN = DEMO_DIR / "design.yaml"
+DEMO_STOCK = DEMO_DIR / "stock.yaml"
+DEMO_OUT = Path("plan_out")
+
+CAUTION = ("CAUTION: tube plate supplies are high voltage and can kill; filter capacitors hold "
+           "their charge after switch-off; heater windings carry amperes; glass runs hot. Follow "
+           "your local electrical codes and licensed practice.")
+
+
+def _print_json(document) -> None:
+    sys.stdout.write(json.dumps(document, indent=2, sort_keys=True) + "\n")
+
+
+# --- check --------------------------------------------------------------------------------
+
+def _add_check(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "check", help="validate a design (and a stock file) and summarise them",
+        description="Validate a design file, and optionally a stock file, and print a summary.")
+    parser.add_argument("design", help="design file (YAML)")
+    parser.add_argument("--stock", help="stock file (YAML)")
+    parser.set_defaults(run=_run_check)
+
+
+def _run_check(args) -> int:
+    from planner.report import design_summary, stock_summary
+    from planner.spec import load_design, load_stock
+
+    design = load_design(args.design)
+    print(design_summary(design))
+    if args.stock:
+        print()
+        print(stock_summary(load_stock(args.stock)))
+    return EXIT_OK
+
+
+# --- plan ---------------------------------------------------------------------------------
+
+def _add_plan(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "plan", help="plan a build from a design and a stock file (no arguments: the demo)",
+        description="Plan a build: minimise, map onto stages, design resistors, choose tubes "
+                    "within the stock, prove the result and write the plan. With no arguments, "
+                    f"plans the bundled demo into ./{DEMO_OUT}.")
+    parser.add_argument("design", nargs="?", help="design file (YAML); default: the bundled demo")
+    parser.add_argument("--stock", help="stock file (YAML); default: the demo's stock")
+    parser.add_argument("--out", help=f"output directory; default: ./{DEMO_OUT} for the demo")
+    parser.set_defaults(run=_run_plan)
+
+
+def _run_plan(args) -> int:
+    from planner.pipeline import plan_files
+
+    if args.design is None:
+        design, stock = DEMO_DESIGN, Path(args.stock) if args.stock else DEMO_STOCK
+    else:
+        if not args.stock:
+            raise InputError(args.design, 0, "plan needs a stock file: add --stock STOCK.yaml")
+        design, stock = Path(args.design), Path(args.stock)
+    out = Path(args.out) if args.out else DEMO_OUT
+    result = plan_files(design, stock, out, args)
+    print(result.summary)
+    print()
+    print(CAUTION)
+    return EXIT_OK if result.planned else EXIT_SHORT
+
+
+_SUBCOMMANDS = (_add_check, _add_plan)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="tubeplan",
+        description="Plan digital logic built from vacuum tubes: minimise the logic, map it onto "
+                    "tube stages, design every resistor, choose tube types within your stock, "
+                    "prove the result and report budgets, parts and wiring.",
+        epilog=CAUTION)
+    parser.add_argument("--debug", action="store_true", help="show a traceback on internal errors")
+    subparsers = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for add in _SUBCOMMANDS:
+        add(subparsers)
+    return parser
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "run", None):
+        parser.print_help()
+        return EXIT_INPUT
+    try:
+        return args.run(args)
+    except InputError as problem:
+        print(problem, file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("tubeplan: interrupted; nothing was written", file=sys.stderr)
+        return EXIT_INTERNAL
+    except BrokenPipeError:
+        return EXIT_OK
+    except Exception as problem:  # the last line of defence: one line, a hint, no traceback
+        if args.debug:
+            raise
+        print(f"tubeplan: internal error: {type(problem).__name__}: {problem}. Hint: run again with "
+              "--debug for the traceback and report it with your design and stock files",
+              file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,55 @@
+"""Summaries printed by ``tubeplan check``: what the files say, before any planning."""
+
+from __future__ import annotations
+
+from collections import Counter
+
+from tabulate import tabulate
+
+from planner.logic import table_from_expr
+from planner.spec import Design, Stock
+
+
+def design_summary(design: Design) -> str:
+    """Inputs, signals, and each output with its inputs and care-set size."""
+    lines = [f"design {design.name!r} ({design.path})"]
+    shown_inputs = [f"{spec.name} (and ~{spec.name})" if spec.complement else spec.name
+                    for spec in design.inputs]
+    lines.append(f"inputs ({len(design.inputs)}): {', '.join(shown_inputs)}")
+    if design.signals:
+        lines.append(f"signals ({len(design.signals)}): {', '.join(design.signal_names)}")
+    rows = []
+    for output in design.outputs:
+        flat = design.flatten(output.expr)
+        flat_dc = design.flatten(output.dont_care)
+        used = sorted(flat.free_symbols | flat_dc.free_symbols, key=lambda s: design.input_names.index(s.name))
+        names = tuple(symbol.name for symbol in used)
+        table = table_from_expr(flat, names, flat_dc)
+        care = bin(table.care).count("1")
+        rows.append([output.name, ", ".join(names) or "(constant)", f"{care} of {1 << len(names)}",
+                     bin(table.on).count("1")])
+    lines.append(tabulate(rows, headers=["output", "depends on", "care set", "true on"]))
+    return "\n".join(lines)
+
+
+def stock_summary(stock: Stock) -> str:
+    """Usable envelopes per type, sections by kind, supplies and heater amps available."""
+    rows, kinds = [], Counter()
+    for entry in stock.tubes:
+        tube = stock.catalogue.get(entry.tube)
+        usable = entry.count - entry.reserve
+        section_kinds = Counter(section.kind for section in tube.sections)
+        for kind, number in section_kinds.items():
+            kinds[kind] += number * usable
+        rows.append([entry.tube, tube.base, entry.count, entry.reserve, usable,
+                     ", ".join(f"{n} {k}" for k, n in sorted(section_kinds.items())),
+                     "yes" if entry.scarce else ""])
+    lines = [f"stock ({stock.path})",
+             tabulate(rows, headers=["tube", "base", "on hand", "reserve", "usable", "sections", "scarce"]),
+             "usable sections by kind: " + ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())),
+             f"plate supply {stock.plate.volts:g} V, {stock.plate.max_ma:g} mA max; "
+             f"bias supply {stock.bias.volts:g} V, {stock.bias.max_ma:g} mA max",
+             "heater windings: " + ", ".join(f"{w.id} {w.volts:g} V {w.max_amps:g} A" for w in stock.windings)
+             + f" ({sum(w.max_amps for w in stock.windings):g} A in all)",
+             f"diodes: {stock.diodes}"]
+    return "\n".join(lines)

@@ -1,0 +1,299 @@
+"""Reading and checking a design file: the logic the builder wants."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+import sympy
+
+from .expressions import expression_names, is_valid_name, parse_expression
+from .fields import check_keys, describe, expect_list, expect_mapping, get_bool, get_text, line_of
+from .yamlfile import Mapping, YamlFile, read_yaml
+
+#: Most inputs a minterm list may range over (2**20 assignments).
+MAX_MINTERM_INPUTS = 20
+
+# The plan names its own nets n1, n2, ...; user names must not collide with them.
+_RESERVED_NET = re.compile(r"n[0-9]+")
+
+
+@dataclass(frozen=True)
+class InputSpec:
+    """A primary input; ``complement`` means its inverse is available as net ``~name``."""
+
+    name: str
+    complement: bool = False
+
+
+@dataclass(frozen=True)
+class SignalSpec:
+    """A named intermediate expression over inputs and earlier signals."""
+
+    name: str
+    expr: sympy.Basic
+
+
+@dataclass(frozen=True)
+class OutputSpec:
+    """A design output: ``expr`` on the care set; ``dont_care`` where any value will do.
+
+    For outputs given as minterm lists, ``over`` names the inputs (first = most
+    significant bit) and ``minterms`` / ``dont_care_minterms`` keep the lists.
+    """
+
+    name: str
+    expr: sympy.Basic
+    dont_care: sympy.Basic = sympy.false
+    text: str = ""
+    over: tuple[str, ...] | None = None
+    minterms: tuple[int, ...] | None = None
+    dont_care_minterms: tuple[int, ...] | None = None
+
+
+@dataclass(frozen=True)
+class Design:
+    """A whole design: inputs, named signals (topological order) and outputs."""
+
+    name: str
+    path: str
+    inputs: tuple[InputSpec, ...]
+    signals: tuple[SignalSpec, ...] = ()
+    outputs: tuple[OutputSpec, ...] = ()
+    lines: dict = field(default_factory=dict, compare=False, repr=False)
+
+    @property
+    def input_names(self) -> tuple[str, ...]:
+        return tuple(spec.name for spec in self.inputs)
+
+    @property
+    def signal_names(self) -> tuple[str, ...]:
+        return tuple(spec.name for spec in self.signals)
+
+    def flatten(self, expr: sympy.Basic) -> sympy.Basic:
+        """``expr`` with every named signal replaced by its definition (inputs only).
+
+        >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
+        ...            (SignalSpec("s", parse_expression("a & b")),))
+        >>> d.flatten(parse_expression("s | ~a"))
+        b | ~a
+        """
+        flat: dict = {}
+        for signal in self.signals:
+            flat[sympy.Symbol(signal.name)] = signal.expr.xreplace(flat)
+        return expr.xreplace(flat)
+
+
+def load_design(path) -> Design:
+    """Read and check the design file at ``path``; raise InputError on any mistake."""
+    return design_from_yaml(read_yaml(path))
+
+
+def design_from_yaml(file: YamlFile) -> Design:
+    top = expect_mapping(file, file.data, 1, "the design file")
+    check_keys(file, top, ("design", "inputs", "signals", "outputs"), "the design file",
+               required=("design", "inputs", "outputs"))
+    name = get_text(file, top, "design", "the design file")
+    inputs = _read_inputs(file, top)
+    input_names = {spec.name for spec in inputs}
+
+    signal_map = top.get("signals")
+    if signal_map is None:
+        signal_map = Mapping()
+        signal_map.line, signal_map.lines, signal_map.raw = line_of(top, "signals"), {}, {}
+    expect_mapping(file, signal_map, line_of(top, "signals"), "signals")
+    output_map = expect_mapping(file, top["outputs"], line_of(top, "outputs"), "outputs")
+    if not output_map:
+        raise file.error(line_of(top, "outputs"), "outputs is empty; expected at least one output")
+
+    _check_new_names(file, signal_map, "signal", input_names, {})
+    _check_new_names(file, output_map, "output", input_names, signal_map.lines)
+
+    parsed = {}
+    for signal, value in signal_map.items():
+        parsed[signal] = _expression_value(file, signal_map, signal, value, f"signal {signal!r}")
+    known = input_names | set(signal_map)
+    for signal, expr in parsed.items():
+        _check_references(file, line_of(signal_map, signal), f"signal {signal!r}", expr, known,
+                          set(output_map))
+    order = _topological_order(file, signal_map, parsed)
+    signals = tuple(SignalSpec(signal, parsed[signal]) for signal in order)
+
+    outputs = tuple(_read_output(file, output_map, output, value, known, [s.name for s in inputs],
+                                 set(output_map))
+                    for output, value in output_map.items())
+    lines = {"inputs": dict((spec.name, line) for spec, line in zip(inputs, _input_lines(top))),
+             "signals": dict(signal_map.lines), "outputs": dict(output_map.lines)}
+    return Design(name, file.path, inputs, signals, outputs, lines)
+
+
+def _input_lines(top: Mapping) -> list[int]:
+    return list(top["inputs"].lines)
+
+
+def _read_inputs(file: YamlFile, top: Mapping) -> tuple[InputSpec, ...]:
+    items = expect_list(file, top["inputs"], line_of(top, "inputs"), "inputs")
+    if not items:
+        raise file.error(line_of(top, "inputs"), "inputs is empty; expected at least one input name")
+    seen: dict[str, int] = {}
+    inputs = []
+    for item, line in zip(items, items.lines):
+        if isinstance(item, Mapping):
+            check_keys(file, item, ("name", "complement"), "an input", required=("name",))
+            name = item["name"]
+            complement = get_bool(file, item, "complement", f"input {name!r}", default=False)
+            line = line_of(item, "name")
+        else:
+            name, complement = item, False
+        if not isinstance(name, str):
+            raise file.error(line, f"an input name must be text, found {describe(name)}")
+        _check_name(file, line, name, "input")
+        if name in seen:
+            raise file.error(line, f"input {name!r} is listed twice (first on line {seen[name]})")
+        seen[name] = line
+        inputs.append(InputSpec(name, complement))
+    return tuple(inputs)
+
+
+def _check_name(file: YamlFile, line: int, name: str, kind: str) -> None:
+    if not is_valid_name(name):
+        raise file.error(line, f"{kind} name {name!r} is not a valid name; expected letters, digits and "
+                               "'_', starting with a letter or '_', and not one of not/and/or/xor")
+    if _RESERVED_NET.fullmatch(name):
+        raise file.error(line, f"{kind} name {name!r} is reserved: names n1, n2, ... are the plan's own nets")
+
+
+def _check_new_names(file: YamlFile, mapping: Mapping, kind: str, inputs: set, signal_lines: dict) -> None:
+    for name in mapping:
+        line = line_of(mapping, name)
+        _check_name(file, line, name, kind)
+        if name in inputs:
+            raise file.error(line, f"{kind} {name!r} has the same name as an input")
+        if name in signal_lines:
+            raise file.error(line, f"{kind} {name!r} has the same name as the signal on line "
+                                   f"{signal_lines[name]}")
+
+
+def _expression_value(file: YamlFile, mapping: Mapping, key: str, value, what: str) -> sympy.Basic:
+    """Parse the expression given as the value of ``key`` (text or a bare 0 / 1)."""
+    line = line_of(mapping, key)
+    if isinstance(value, (str, int)) and not isinstance(value, (Mapping,)):
+        text = mapping.raw.get(key, value)
+        if not isinstance(text, str):
+            text = str(text)
+        return parse_expression(text, path=file.path, line=line)
+    raise file.error(line, f"{what} must be an expression such as 'a & ~b', found {describe(value)}")
+
+
+def _check_references(file: YamlFile, line: int, what: str, expr, known: set, outputs: set) -> None:
+    for name in sorted(expression_names(expr)):
+        if name in known:
+            continue
+        if name in outputs:
+            raise file.error(line, f"{what} uses output {name!r}; outputs cannot feed logic: "
+                                   "define it under signals and use the signal")
+        raise file.error(line, f"{what} uses {name!r}, which is not an input or a signal")
+
+
+def _topological_order(file: YamlFile, signal_map: Mapping, parsed: dict) -> list[str]:
+    """Signals ordered so each uses only earlier ones (file order where free); cycles are errors."""
+    uses = {name: sorted(expression_names(expr) & set(parsed)) for name, expr in parsed.items()}
+    state: dict[str, int] = {}  # 1: on the current path, 2: done
+    order: list[str] = []
+    for start in parsed:
+        if state.get(start):
+            continue
+        path = [start]
+        iterators = [iter(uses[start])]
+        state[start] = 1
+        while iterators:
+            nxt = next(iterators[-1], None)
+            if nxt is None:
+                done = path.pop()
+                iterators.pop()
+                state[done] = 2
+                order.append(done)
+            elif state.get(nxt) == 1:
+                cycle = path[path.index(nxt):] + [nxt]
+                raise file.error(line_of(signal_map, nxt),
+                                 "signals depend on each other in a cycle: " + " -> ".join(cycle))
+            elif not state.get(nxt):
+                state[nxt] = 1
+                path.append(nxt)
+                iterators.append(iter(uses[nxt]))
+    return order
+
+
+def _read_output(file: YamlFile, output_map: Mapping, name: str, value, known: set,
+                 input_order: list[str], outputs: set) -> OutputSpec:
+    line = line_of(output_map, name)
+    what = f"output {name!r}"
+    if not isinstance(value, Mapping):
+        expr = _expression_value(file, output_map, name, value, what)
+        _check_references(file, line, what, expr, known, outputs)
+        return OutputSpec(name, expr, sympy.false, str(output_map.raw.get(name, value)))
+    if "minterms" not in value and "expr" in value:
+        check_keys(file, value, ("expr", "dont_care"), what, required=("expr",))
+        expr = _expression_value(file, value, "expr", value["expr"], what)
+        _check_references(file, line, what, expr, known, outputs)
+        dont_care = sympy.false
+        if "dont_care" in value:
+            dont_care = _expression_value(file, value, "dont_care", value["dont_care"], f"{what} dont_care")
+            _check_references(file, line_of(value, "dont_care"), f"{what} dont_care", dont_care, known, outputs)
+        return OutputSpec(name, expr, dont_care, str(value.raw.get("expr", value["expr"])))
+    check_keys(file, value, ("minterms", "dont_care", "over"), what, required=("minterms", "over"))
+    over_list = expect_list(file, value["over"], line_of(value, "over"), f"{what} over")
+    if not over_list:
+        raise file.error(line_of(value, "over"), f"{what} over is empty; expected input names")
+    if len(over_list) > MAX_MINTERM_INPUTS:
+        raise file.error(line_of(value, "over"),
+                         f"{what} ranges over {len(over_list)} inputs; the limit for a minterm list is "
+                         f"{MAX_MINTERM_INPUTS}: split the block into named signals")
+    over: list[str] = []
+    for item, item_line in zip(over_list, over_list.lines):
+        if not isinstance(item, str) or item not in input_order:
+            raise file.error(item_line, f"{what} over lists {describe(item)}, which is not an input; "
+                                        f"expected one of: {', '.join(input_order)}")
+        if item in over:
+            raise file.error(item_line, f"{what} over lists {item!r} twice")
+        over.append(item)
+    size = 1 << len(over)
+    on = _read_indices(file, value, "minterms", what, size)
+    dc = _read_indices(file, value, "dont_care", what, size) if "dont_care" in value else ()
+    both = sorted(set(on) & set(dc))
+    if both:
+        raise file.error(line_of(value, "dont_care"),
+                         f"{what}: minterm {both[0]} is listed both as a minterm and as a don't-care")
+    symbols = [sympy.Symbol(n) for n in over]
+    text = f"minterms {list(on)} over {', '.join(over)}"
+    return OutputSpec(name, _sum_of_minterms(symbols, on), _sum_of_minterms(symbols, dc), text,
+                      tuple(over), on, dc)
+
+
+def _read_indices(file: YamlFile, mapping: Mapping, key: str, what: str, size: int) -> tuple[int, ...]:
+    items = expect_list(file, mapping[key], line_of(mapping, key), f"{what} {key}")
+    seen = set()
+    for item, line in zip(items, items.lines):
+        if isinstance(item, bool) or not isinstance(item, int):
+            raise file.error(line, f"{what} {key} must list whole numbers, found {describe(item)}")
+        if not 0 <= item < size:
+            raise file.error(line, f"{what} {key}: index {item} is out of range; with "
+                                   f"{size.bit_length() - 1} inputs the indices run from 0 to {size - 1}")
+        if item in seen:
+            raise file.error(line, f"{what} {key}: index {item} is listed twice")
+        seen.add(item)
+    return tuple(sorted(seen))
+
+
+def _sum_of_minterms(symbols: list, indices) -> sympy.Basic:
+    """OR of the minterms ``indices`` over ``symbols`` (first symbol = most significant bit)."""
+    width = len(symbols)
+    terms = []
+    for index in indices:
+        literals = [symbol if (index >> (width - 1 - position)) & 1 else sympy.Not(symbol)
+                    for position, symbol in enumerate(symbols)]
+        terms.append(sympy.And(*literals))
+    return sympy.Or(*terms)
+
+
+__all__ = ["Design", "InputSpec", "OutputSpec", "SignalSpec", "load_design"]
