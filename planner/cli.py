@@ -43,14 +43,16 @@ def _add_check(subparsers) -> None:
 
 
 def _run_check(args) -> int:
-    from planner.report import design_summary, stock_summary
     from planner.spec import load_design, load_stock
 
     design = load_design(args.design)
+    stock = load_stock(args.stock) if args.stock else None
+    from planner.report import design_summary, stock_summary
+
     print(design_summary(design))
-    if args.stock:
+    if stock is not None:
         print()
-        print(stock_summary(load_stock(args.stock)))
+        print(stock_summary(stock))
     return EXIT_OK
 
 
