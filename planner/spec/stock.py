@@ -187,16 +187,19 @@ def _read_tubes(file: YamlFile, top: Mapping, catalogue: Catalogue) -> tuple[Tub
     table = expect_mapping(file, top["tubes"], line_of(top, "tubes"), "tubes")
     if not table:
         raise file.error(line_of(top, "tubes"), "tubes is empty; expected at least one tube type")
-    known = catalogue.names()
-    entries = []
+    entries, seen = [], {}
     for name, data in table.items():
         line = line_of(table, name)
-        if name not in known:
+        if name not in catalogue:
             near = catalogue.closest(name, 3)
             hint = f"; closest known types: {', '.join(near)}" if near else ""
             raise file.error(line, f"unknown tube type {name!r}{hint}. Define it under custom_types "
                                    "if it is not in the catalogue")
         what = f"tubes.{name}"
+        canonical = catalogue.get(name).name
+        if canonical in seen:
+            raise file.error(line, f"tube type {canonical} is listed twice (first on line {seen[canonical]})")
+        seen[canonical] = line
         if isinstance(data, int) and not isinstance(data, bool):
             data_map = Mapping({"count": data})
             data_map.line, data_map.lines, data_map.raw = line, {"count": line}, {}
@@ -213,7 +216,7 @@ def _read_tubes(file: YamlFile, top: Mapping, catalogue: Catalogue) -> tuple[Tub
         scarce = get_bool(file, entry, "scarce", what, default=False)
         condition = get_number(file, entry, "condition", what, default=None, minimum=0.1, maximum=1.0)
         price = get_number(file, entry, "unit_price", what, default=None, minimum=0)
-        entries.append(TubeStock(name, count, reserve, scarce, condition, price))
+        entries.append(TubeStock(canonical, count, reserve, scarce, condition, price))
     return tuple(sorted(entries, key=lambda entry: entry.tube))
 
 
