@@ -86,9 +86,13 @@ def read_yaml(path: str) -> YamlFile:
 
 def parse_yaml_text(text: str, path: str) -> YamlFile:
     """Parse YAML ``text`` (named ``path`` in messages) into a YamlFile."""
-    loader = yaml.SafeLoader(text)
     try:
+        loader = yaml.SafeLoader(text)
         root = loader.get_single_node()
+    except yaml.reader.ReaderError as problem:
+        line = text.count("\n", 0, max(problem.position, 0)) + 1
+        raise InputError(path, line, f"not valid YAML: character U+{problem.character:04X} is not allowed "
+                                     "in a YAML file") from None
     except yaml.MarkedYAMLError as problem:
         mark = problem.problem_mark or problem.context_mark
         line = mark.line + 1 if mark else 1
