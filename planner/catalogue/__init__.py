@@ -9,7 +9,9 @@ Public API:
   docs/catalogue.md)
 - models (one section, voltages to cathode): ``plate_current_amps``,
   ``screen_current_amps``, ``grid_current_amps``, ``cutoff_grid_volts``,
-  ``CUTOFF_AMPS``
+  ``g3_gate``, ``CUTOFF_AMPS``
+- SPICE: ``spice_subcircuit(tube, kind_or_means) -> str``,
+  ``subcircuit_name``, ``spice_nodes``
 """
 
 from .builtin import builtin_catalogue
@@ -17,10 +19,12 @@ from .custom import tube_type_from_mapping
 from .models import (
     CUTOFF_AMPS,
     cutoff_grid_volts,
+    g3_gate,
     grid_current_amps,
     plate_current_amps,
     screen_current_amps,
 )
+from .spice import spice_nodes, spice_subcircuit, subcircuit_name
 from .types import Catalogue, CatalogueDataError, FrozenMap, ModelParams, Section, TubeType
 
 __all__ = [
@@ -33,8 +37,12 @@ __all__ = [
     "TubeType",
     "builtin_catalogue",
     "cutoff_grid_volts",
+    "g3_gate",
     "grid_current_amps",
     "plate_current_amps",
     "screen_current_amps",
+    "spice_nodes",
+    "spice_subcircuit",
+    "subcircuit_name",
     "tube_type_from_mapping",
 ]

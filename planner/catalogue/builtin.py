@@ -1,10 +1,12 @@
 """The built-in tube catalogue, written in the custom-type format.
 
 Each entry goes through ``tube_type_from_mapping`` like a user's own type.
-Sources name the datasheet or handbook a value was read from; "from memory"
-marks values recalled rather than read. Model parameters were fitted
-(benchmarks/fit_koren.py) to the typical operating points of the datasheet
-named in ``sources.model``.
+``sources`` names the datasheet or handbook a value was read from; "from
+memory" marks values recalled from the manufacturers' data but not read
+while writing this file. Model parameters were fitted by
+benchmarks/fit_koren.py to the typical operating points named in
+``sources.model``. The broadcast 7-pin pentagrid converter (6BE6 and its
+kin) is deliberately not in this catalogue.
 """
 
 from __future__ import annotations
@@ -14,24 +16,216 @@ from functools import cache
 from .custom import tube_type_from_mapping
 from .types import Catalogue, FrozenMap
 
-_NOVAL_DUAL_TRIODE_PINS = [
+MEMORY = "from memory"
+
+# 9-pin noval dual triode, basing 9A: unit 1 on pins 6-7-8, unit 2 on 1-2-3,
+# heater halves on 4 and 5 with the centre tap on 9.
+NOVAL_DUAL_TRIODE = [
     {"pins": {"plate": 6, "grid": 7, "cathode": 8}},
     {"pins": {"plate": 1, "grid": 2, "cathode": 3}},
 ]
-_NOVAL_CT_HEATER = {"pins": [4, 5], "centre_tap": 9}
+NOVAL_HEATER_PINS = {"pins": [4, 5], "centre_tap": 9}
+
+# 7-pin miniature heptode basing 7CH: g1 on 7, g3 on 1, g2 and g4 on 6,
+# cathode and g5 on 2, plate 5, heater 3-4.
+HEPTODE_7CH = [{"pins": {"plate": 5, "grid": 7, "grid3": 1, "screen": 6, "cathode": 2}}]
+
+GRID_DIODE = 5e-4
+"""Grid-cathode perveance (A/V^1.5) for a positive grid: about 0.5 mA at +1 V,
+the order of Koren's typical 2 kilohm grid resistance (from memory)."""
+
+BRIMAR_12AU7 = "Brimar 12AU7 application report VAD/513.4 (1950)"
+SYLVANIA_12AX7 = "Sylvania 12AX7 data sheet, as tabulated in the Wikipedia 12AX7 article"
+ECC81_PAGE = "vacuumtubes.io ECC81/12AT7 data summary"
+EH_6SN7 = "Electro-Harmonix 6SN7EH data sheet"
+RU_6SN7 = "RCA 6SN7 class A1 data as tabulated in the Russian Wikipedia 6SN7 article"
+OP316_5965 = "op316.com 5965 data page (tube manual values)"
 
 BUILTIN_DATA = {
     "12AU7": {
-        "description": "medium-mu dual triode",
+        "description": "medium-mu dual triode (ECC82)",
         "kind": "triode",
         "base": "9-pin noval",
-        "sections": _NOVAL_DUAL_TRIODE_PINS,
-        "heater": {**_NOVAL_CT_HEATER, "volts": 6.3, "amps": 0.3, "series_volts": 12.6, "series_amps": 0.15},
-        "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.75, "max_heater_cathode_volts": 200},
+        "sections": NOVAL_DUAL_TRIODE,
+        "heater": {**NOVAL_HEATER_PINS, "volts": 6.3, "amps": 0.3, "series_volts": 12.6, "series_amps": 0.15},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.75, "max_heater_cathode_volts": 250},
         "capacitance_pf": {"input": 1.6, "output": 0.5, "grid_plate": 1.5},
-        "model": {"equation": "koren-triode", "mu": 21.5, "ex": 1.3, "kg1": 1180, "kp": 84, "kvb": 300,
-                  "grid_perveance": 0.0005},
-        "sources": {"default": "from memory"},
+        "model": {"equation": "koren-triode", "mu": 19.66, "ex": 1.274, "kg1": 1343, "kp": 106.2, "kvb": 239.4,
+                  "grid_perveance": GRID_DIODE},
+        "sources": {"default": BRIMAR_12AU7, "capacitance_pf": MEMORY,
+                    "model": "fitted to the RCA 12AU7 typical operation points (100 V 0 V 11.8 mA; "
+                             "250 V -8.5 V 10.5 mA; cut-off -24 V), points from memory"},
+    },
+    "12AX7": {
+        "description": "high-mu dual triode (ECC83)",
+        "kind": "triode",
+        "base": "9-pin noval",
+        "sections": NOVAL_DUAL_TRIODE,
+        "heater": {**NOVAL_HEATER_PINS, "volts": 6.3, "amps": 0.3, "series_volts": 12.6, "series_amps": 0.15},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 1.0, "max_heater_cathode_volts": 180},
+        "capacitance_pf": {"input": 1.6, "output": 0.46, "grid_plate": 1.7},
+        "model": {"equation": "koren-triode", "mu": 105.3, "ex": 0.9848, "kg1": 949.7, "kp": 708.3, "kvb": 7843,
+                  "grid_perveance": GRID_DIODE},
+        "sources": {"default": SYLVANIA_12AX7, "sections": MEMORY, "heater.pins": MEMORY,
+                    "heater.centre_tap": MEMORY, "ratings.max_heater_cathode_volts": MEMORY,
+                    "capacitance_pf": MEMORY,
+                    "model": "fitted to the Sylvania 12AX7 point 250 V -2 V 1.2 mA (read) and the "
+                             "RCA point 100 V -1 V 0.5 mA (from memory)"},
+    },
+    "12AT7": {
+        "description": "high-mu dual triode for high current (ECC81)",
+        "kind": "triode",
+        "base": "9-pin noval",
+        "sections": NOVAL_DUAL_TRIODE,
+        "heater": {**NOVAL_HEATER_PINS, "volts": 6.3, "amps": 0.3, "series_volts": 12.6, "series_amps": 0.15},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.5, "max_heater_cathode_volts": 90},
+        "capacitance_pf": {"input": 2.2, "output": 0.5, "grid_plate": 1.5},
+        "model": {"equation": "koren-triode", "mu": 130.5, "ex": 1.056, "kg1": 188.1, "kp": 180.5, "kvb": 5401,
+                  "grid_perveance": GRID_DIODE},
+        "sources": {"default": ECC81_PAGE, "ratings.max_heater_cathode_volts": MEMORY,
+                    "capacitance_pf": MEMORY,
+                    "model": "fitted to the RCA 12AT7 typical operation points (100 V 270 ohm 3.7 mA; "
+                             "250 V 200 ohm 10 mA; cut-off -12 V), points from memory"},
+    },
+    "5965": {
+        "description": "computer dual triode, medium-high mu, long life in cut-off",
+        "kind": "triode",
+        "base": "9-pin noval",
+        "sections": NOVAL_DUAL_TRIODE,
+        "heater": {**NOVAL_HEATER_PINS, "volts": 6.3, "amps": 0.45, "series_volts": 12.6, "series_amps": 0.225},
+        "ratings": {"max_plate_volts": 330, "max_plate_watts": 2.4, "max_heater_cathode_volts": 100},
+        "capacitance_pf": {"input": 4.0, "output": 0.5, "grid_plate": 3.0},
+        "model": {"equation": "koren-triode", "mu": 47.9, "ex": 1.295, "kg1": 359.5, "kp": 208.4, "kvb": 297.3,
+                  "grid_perveance": GRID_DIODE},
+        "sources": {"default": OP316_5965,
+                    "model": "fitted to the 5965 point 150 V 220 ohm 8.5 mA, gm 6.7 mA/V, mu 47, "
+                             f"rp 6.3 kilohm ({OP316_5965})"},
+    },
+    "6SN7": {
+        "description": "medium-mu dual triode, octal (6SN7GT ratings)",
+        "kind": "triode",
+        "base": "octal",
+        "sections": [
+            {"pins": {"grid": 4, "plate": 5, "cathode": 6}},
+            {"pins": {"grid": 1, "plate": 2, "cathode": 3}},
+        ],
+        "heater": {"volts": 6.3, "amps": 0.6, "pins": [7, 8]},
+        "ratings": {"max_plate_volts": 450, "max_plate_watts": 3.5, "max_heater_cathode_volts": 200},
+        "capacitance_pf": {"input": 3.0, "output": 1.2, "grid_plate": 4.0},
+        "model": {"equation": "koren-triode", "mu": 21.22, "ex": 1.269, "kg1": 1250, "kp": 175.7, "kvb": 271.5,
+                  "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY, "sections": EH_6SN7, "heater": EH_6SN7,
+                    "model": f"fitted to the point 250 V -8 V 9 mA ({RU_6SN7}) and the RCA point "
+                             "90 V 0 V 10 mA (from memory)"},
+    },
+    "6J6": {
+        "description": "dual triode with a common cathode, 7-pin miniature",
+        "kind": "triode",
+        "base": "7-pin miniature",
+        "shared_cathode": True,
+        "sections": [
+            {"pins": {"plate": 2, "grid": 5, "cathode": 7}},
+            {"pins": {"plate": 1, "grid": 6, "cathode": 7}},
+        ],
+        "heater": {"volts": 6.3, "amps": 0.45, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 1.5, "max_heater_cathode_volts": 100},
+        "capacitance_pf": {"input": 2.2, "output": 0.4, "grid_plate": 1.6},
+        "model": {"equation": "koren-triode", "mu": 39.1, "ex": 1.147, "kg1": 444.3, "kp": 187.8, "kvb": 303.3,
+                  "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY,
+                    "model": "fitted to the RCA 6J6 point 100 V, 50 ohm common cathode resistor, "
+                             "8.5 mA per unit, gm 5.3 mA/V, mu 38 (from memory)"},
+    },
+    "6AU6": {
+        "description": "sharp cut-off pentode, suppressor on its own pin",
+        "kind": "pentode",
+        "base": "7-pin miniature",
+        "sections": [{"pins": {"grid": 1, "grid3": 2, "plate": 5, "screen": 6, "cathode": 7}}],
+        "heater": {"volts": 6.3, "amps": 0.3, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 3.5, "max_screen_volts": 150,
+                    "max_screen_watts": 0.75, "max_heater_cathode_volts": 200},
+        "capacitance_pf": {"input": 5.5, "output": 5.0, "grid_plate": 0.0035},
+        "model": {"equation": "koren-pentode", "mu": 56.4, "ex": 1.137, "kg1": 609.8, "kp": 121, "kvb": 7.706,
+                  "kg2": 492.7, "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY,
+                    "model": "fitted to the RCA 6AU6 typical operation points (100/100 V 150 ohm "
+                             "5.0 mA; 250/125 V 100 ohm 7.6 mA; 250/150 V 68 ohm 10.6 mA), "
+                             "points from memory"},
+    },
+    "6AK5": {
+        "description": "sharp cut-off pentode, high transconductance (cathode also on pin 7)",
+        "kind": "pentode",
+        "base": "7-pin miniature",
+        "sections": [{"pins": {"grid": 1, "cathode": 2, "plate": 5, "screen": 6}}],
+        "heater": {"volts": 6.3, "amps": 0.175, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 180, "max_plate_watts": 1.7, "max_screen_volts": 140,
+                    "max_screen_watts": 0.5, "max_heater_cathode_volts": 90},
+        "capacitance_pf": {"input": 4.0, "output": 2.8, "grid_plate": 0.02},
+        "model": {"equation": "koren-pentode", "mu": 35.7, "ex": 1.379, "kg1": 771.1, "kp": 112, "kvb": 8.909,
+                  "kg2": 793.2, "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY,
+                    "model": "fitted to the RCA 6AK5 typical operation points (120/120 V 200 ohm "
+                             "7.5 mA; 180/120 V 200 ohm 7.7 mA), points from memory"},
+    },
+    "6AS6": {
+        "description": "sharp cut-off pentode for suppressor-grid gating (g1 and g3 both control)",
+        "kind": "dual-control",
+        "base": "7-pin miniature",
+        "sections": [{"pins": {"grid": 1, "cathode": 2, "plate": 5, "screen": 6, "grid3": 7}}],
+        "heater": {"volts": 6.3, "amps": 0.175, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 180, "max_plate_watts": 1.0, "max_screen_volts": 140,
+                    "max_screen_watts": 0.6, "max_heater_cathode_volts": 100},
+        "capacitance_pf": {"input": 4.0, "output": 3.0, "grid_plate": 0.02},
+        "model": {"equation": "koren-pentode", "mu": 37.1, "ex": 1.335, "kg1": 846.6, "kp": 100.3, "kvb": 20.85,
+                  "kg2": 744.1, "g3_zero_volts": -13.39, "g3_ex": 1.592, "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY,
+                    "model": "fitted to the RCA 6AS6 typical operation (120 V plate and screen, g1 "
+                             "-2 V, g3 0 V: 5.2 mA, screen 3.5 mA) and g3 cut-off near -15 V, "
+                             "points from memory"},
+    },
+    "6CS6": {
+        "description": "heptode with two control grids (g1, g3) for gating and sync separation",
+        "kind": "dual-control",
+        "base": "7-pin miniature",
+        "sections": HEPTODE_7CH,
+        "heater": {"volts": 6.3, "amps": 0.3, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 1.1, "max_screen_volts": 100,
+                    "max_screen_watts": 1.1, "max_heater_cathode_volts": 200},
+        "capacitance_pf": {"input": 5.5, "output": 7.5, "grid_plate": 0.05},
+        "model": {"equation": "koren-pentode", "mu": 12.93, "ex": 1.222, "kg1": 3157, "kp": 101.4, "kvb": 10.54,
+                  "kg2": 504.4, "g3_zero_volts": -2.93, "g3_ex": 1.59, "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY,
+                    "model": "fitted to Sylvania/RCA 6CS6 typical operation (100 V plate, 30 V "
+                             "screen, g1 -1 V, g3 0 V: 1.1 mA) and g1 and g3 cut-off near -3 V, "
+                             "points from memory"},
+    },
+    "5915": {
+        "description": "computer heptode with two control grids (g1, g3) for gating",
+        "kind": "dual-control",
+        "base": "7-pin miniature",
+        "sections": HEPTODE_7CH,
+        "heater": {"volts": 6.3, "amps": 0.3, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 300, "max_plate_watts": 1.0, "max_screen_volts": 110,
+                    "max_screen_watts": 1.0, "max_heater_cathode_volts": 100},
+        "capacitance_pf": {"input": 5.5, "output": 7.5, "grid_plate": 0.3},
+        "model": {"equation": "koren-pentode", "mu": 38.31, "ex": 1.494, "kg1": 1262, "kp": 114, "kvb": 10.21,
+                  "kg2": 566.6, "g3_zero_volts": -3.577, "g3_ex": 1.619, "grid_perveance": GRID_DIODE},
+        "sources": {"default": MEMORY,
+                    "model": "fitted to GE 5915 typical operation (150 V plate, 75 V screen, g1 and "
+                             "g3 at 0 V: 5.6 mA) and g1 and g3 cut-off near -4 V, points from memory"},
+    },
+    "6AL5": {
+        "description": "dual diode, separate cathodes (pin 6: internal shield)",
+        "kind": "diode",
+        "base": "7-pin miniature",
+        "sections": [
+            {"pins": {"plate": 7, "cathode": 1}},
+            {"pins": {"plate": 2, "cathode": 5}},
+        ],
+        "heater": {"volts": 6.3, "amps": 0.3, "pins": [3, 4]},
+        "ratings": {"max_plate_volts": 330, "max_plate_ma": 9, "max_heater_cathode_volts": 330},
+        "model": {"equation": "diode", "perveance": 1.2e-3},
+        "sources": {"default": MEMORY},
     },
 }
 

@@ -46,8 +46,8 @@ EQUATIONS_FOR_KIND = {"triode": ("koren-triode", "child-langmuir"),
 TOP_KEYS = ("description", "kind", "base", "sections", "shared_cathode", "heater",
             "ratings", "capacitance_pf", "model", "sources")
 HEATER_KEYS = ("volts", "amps", "pins", "centre_tap", "series_volts", "series_amps")
-RATING_KEYS = ("max_plate_volts", "max_plate_watts", "max_screen_volts", "max_screen_watts",
-               "max_grid_ma", "max_heater_cathode_volts")
+RATING_KEYS = ("max_plate_volts", "max_plate_watts", "max_plate_ma", "max_screen_volts",
+               "max_screen_watts", "max_grid_ma", "max_heater_cathode_volts")
 CAP_KEYS = {"input": "c_in_pf", "output": "c_out_pf", "grid_plate": "c_gp_pf"}
 
 SOURCE_PATHS = {
@@ -125,7 +125,7 @@ def _sections(data: Mapping, pin_count: int) -> tuple[Section, ...]:
     default_kind = data.get("kind")
     out = []
     for i, entry in enumerate(raw, start=1):
-        path = f"sections.{i}"
+        path = f"sections.{i - 1}"
         entry = _mapping(entry, path)
         _no_extra(entry, ("kind", "means", "pins"), path)
         kind = entry.get("kind", default_kind)
@@ -165,7 +165,7 @@ def _heater(data: Mapping, pin_count: int):
     pins = heater.get("pins")
     if not isinstance(pins, (list, tuple)) or len(pins) != 2:
         raise CatalogueDataError("heater.pins", f"expected a list of the two heater pins, got {pins!r}")
-    pins = tuple(_pin(p, f"heater.pins.{i}", pin_count) for i, p in enumerate(pins, start=1))
+    pins = tuple(_pin(p, f"heater.pins.{i}", pin_count) for i, p in enumerate(pins))
     if pins[0] == pins[1]:
         raise CatalogueDataError("heater.pins", "expected two different pins")
     tap = heater.get("centre_tap")
@@ -197,7 +197,7 @@ def _check_pins(sections, heater_pins, tap, shared_cathode: bool) -> None:
             raise CatalogueDataError(where, f"pin {pin} is already used by {used[pin]}")
         used[pin] = where
 
-    for i, p in enumerate(heater_pins, start=1):
+    for i, p in enumerate(heater_pins):
         claim(p, f"heater.pins.{i}")
     if tap is not None:
         claim(tap, "heater.centre_tap")
@@ -206,21 +206,23 @@ def _check_pins(sections, heater_pins, tap, shared_cathode: bool) -> None:
         if len(cathodes) != 1:
             raise CatalogueDataError("shared_cathode", "true, but the sections name different cathode "
                                      f"pins {sorted(cathodes)}; expected one common cathode pin")
-        claim(cathodes.pop(), "sections.*.pins.cathode (shared)")
+        claim(cathodes.pop(), "shared_cathode")
     for s in sections:
         for role, p in s.pins.items():
             if shared_cathode and role == "cathode":
                 continue
-            claim(p, f"sections.{s.index}.pins.{role}")
+            claim(p, f"sections.{s.index - 1}.pins.{role}")
 
 
 def _ratings(data: Mapping, sections):
     ratings = _mapping(data.get("ratings"), "ratings")
     _no_extra(ratings, RATING_KEYS, "ratings")
     has_screen = any("screen" in s.pins for s in sections)
+    diodes = all(s.kind == "diode" for s in sections)
     values = {
         "max_plate_volts": _number(ratings, "max_plate_volts", "ratings"),
-        "max_plate_watts": _number(ratings, "max_plate_watts", "ratings"),
+        "max_plate_watts": _number(ratings, "max_plate_watts", "ratings", required=not diodes),
+        "max_plate_ma": _number(ratings, "max_plate_ma", "ratings", required=diodes),
         "max_screen_volts": _number(ratings, "max_screen_volts", "ratings", required=False),
         "max_screen_watts": _number(ratings, "max_screen_watts", "ratings", required=has_screen),
         "max_grid_ma": _number(ratings, "max_grid_ma", "ratings", required=False),
@@ -302,7 +304,8 @@ def tube_type_from_mapping(name: str, data: Mapping) -> TubeType:
     """Build and check a ``TubeType`` from the custom-type format (docs/catalogue.md).
 
     Raises ``CatalogueDataError(field, message)``: ``field`` is the dotted
-    path inside the type ("heater.volts", "sections.2.pins.grid") and the
+    path inside the type ("heater.volts", "sections.1.pins.grid"; list
+    positions count from 0, as in the stock reader) and the
     message says what was expected. Checks: known keys only, numbers
     positive, pins within the base and unique (a shared cathode excepted),
     heater series option consistent (twice the volts, half the amps), the

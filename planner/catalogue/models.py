@@ -99,26 +99,34 @@ def g3_gate(model: ModelParams, grid3_volts: float) -> float:
     return u / (1.0 + u**n) ** (1.0 / n)
 
 
-def _screen_volts(tube: TubeType, screen_volts: float | None) -> float:
+def _model(tube: TubeType | ModelParams) -> ModelParams:
+    return tube if isinstance(tube, ModelParams) else tube.model
+
+
+def _name(tube: TubeType | ModelParams) -> str:
+    return getattr(tube, "name", tube.equation)
+
+
+def _screen_volts(tube, screen_volts: float | None) -> float:
     if screen_volts is None:
-        raise ValueError(f"{tube.name} has a screen grid: give screen_volts")
+        raise ValueError(f"{_name(tube)} has a screen grid: give screen_volts")
     return screen_volts
 
 
-def _pentode_parts(tube: TubeType, plate_volts: float, grid_volts: float, screen_volts: float):
+def _pentode_parts(tube, plate_volts: float, grid_volts: float, screen_volts: float):
     """(plate current, screen current) of the Koren pentode, no g3 gating."""
-    m = tube.model
+    m = _model(tube)
     e1x = _koren_e1(m, screen_volts, grid_volts, triode=False) ** m.ex
     ip = 2.0 * e1x / m.kg1 * math.atan(plate_volts / m.kvb) if plate_volts > 0.0 else 0.0
     return ip, e1x / m.kg2
 
 
-def _is_dual(tube: TubeType) -> bool:
-    return tube.model.g3_zero_volts is not None
+def _is_dual(tube) -> bool:
+    return _model(tube).g3_zero_volts is not None
 
 
 def plate_current_amps(
-    tube: TubeType,
+    tube: TubeType | ModelParams,
     *,
     plate_volts: float,
     grid_volts: float,
@@ -127,6 +135,7 @@ def plate_current_amps(
 ) -> float:
     """Plate current in amperes of one section of ``tube`` (voltages to cathode).
 
+    ``tube`` is a ``TubeType`` or its ``ModelParams`` (as when fitting).
     The model follows ``tube.model.equation`` (module docstring); a diode
     section's current is its anode current at ``plate_volts`` (grids
     ignored). ``grid3_volts`` matters only for dual-control sections;
@@ -137,7 +146,7 @@ def plate_current_amps(
     >>> 0.009 < plate_current_amps(t, plate_volts=250, grid_volts=-8.5) < 0.012
     True
     """
-    m = tube.model
+    m = _model(tube)
     if m.equation == "koren-triode":
         if plate_volts <= 0.0:
             return 0.0
@@ -151,11 +160,11 @@ def plate_current_amps(
         return m.perveance * _three_halves(grid_volts + plate_volts / m.mu)
     if m.equation == "diode":
         return m.perveance * _three_halves(plate_volts)
-    raise ValueError(f"{tube.name}: unknown model equation {m.equation!r}")
+    raise ValueError(f"{_name(tube)}: unknown model equation {m.equation!r}")
 
 
 def screen_current_amps(
-    tube: TubeType,
+    tube: TubeType | ModelParams,
     *,
     plate_volts: float,
     grid_volts: float,
@@ -167,7 +176,7 @@ def screen_current_amps(
     For dual-control sections it includes the current that g3 turns back
     from the plate (module docstring). Cost O(1).
     """
-    m = tube.model
+    m = _model(tube)
     if m.equation != "koren-pentode":
         return 0.0
     ip, ig2 = _pentode_parts(tube, plate_volts, grid_volts, _screen_volts(tube, screen_volts))
@@ -176,19 +185,19 @@ def screen_current_amps(
     return ig2
 
 
-def grid_current_amps(tube: TubeType, *, grid_volts: float) -> float:
+def grid_current_amps(tube: TubeType | ModelParams, *, grid_volts: float) -> float:
     """Control-grid current in amperes for a grid positive to the cathode.
 
     Three-halves law of the grid-cathode diode with ``model.grid_perveance``;
     0 for a negative grid or when the type has no grid-current model.
     Contact potential and initial-velocity current are neglected. Cost O(1).
     """
-    k = tube.model.grid_perveance
+    k = _model(tube).grid_perveance
     return 0.0 if k is None else k * _three_halves(grid_volts)
 
 
 def cutoff_grid_volts(
-    tube: TubeType,
+    tube: TubeType | ModelParams,
     *,
     plate_volts: float,
     screen_volts: float | None = None,
@@ -204,10 +213,10 @@ def cutoff_grid_volts(
     model evaluations. Raises ValueError if the section is below the
     threshold even at 0 V or has no grid.
     """
-    if tube.model.equation == "diode":
-        raise ValueError(f"{tube.name} is a diode: it has no grid")
+    if _model(tube).equation == "diode":
+        raise ValueError(f"{_name(tube)} is a diode: it has no grid")
     if grid3 and not _is_dual(tube):
-        raise ValueError(f"{tube.name} has no second control grid")
+        raise ValueError(f"{_name(tube)} has no second control grid")
 
     def current(v: float) -> float:
         if grid3:
@@ -218,7 +227,7 @@ def cutoff_grid_volts(
 
     hi = 0.0
     if current(hi) <= threshold_amps:
-        raise ValueError(f"{tube.name}: plate current is below {threshold_amps} A even at 0 V grid")
+        raise ValueError(f"{_name(tube)}: plate current is below {threshold_amps} A even at 0 V grid")
     lo = -(abs(plate_volts) + abs(screen_volts or 0.0)) - 100.0
     while hi - lo > 1e-3:
         mid = 0.5 * (lo + hi)
