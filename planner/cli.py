@@ -87,7 +87,34 @@ def _run_plan(args) -> int:
     return EXIT_OK if result.planned else EXIT_SHORT
 
 
-_SUBCOMMANDS = (_add_check, _add_plan)
+# --- tubes --------------------------------------------------------------------------------
+
+def _add_tubes(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "tubes", help="list the tube catalogue (type, kind, sections, heater, base, source)",
+        description="List the built-in tube catalogue, with a stock file's custom types if given.")
+    parser.add_argument("--stock", help="stock file (YAML) whose custom_types are listed too")
+    parser.add_argument("--json", action="store_true", help="print every value and its source as JSON")
+    parser.set_defaults(run=_run_tubes)
+
+
+def _run_tubes(args) -> int:
+    from planner.catalogue import builtin_catalogue, catalogue_document, format_catalogue
+
+    if args.stock:
+        from planner.spec import load_stock
+
+        catalogue = load_stock(args.stock).catalogue
+    else:
+        catalogue = builtin_catalogue()
+    if args.json:
+        _print_json(catalogue_document(catalogue))
+    else:
+        sys.stdout.write(format_catalogue(catalogue))
+    return EXIT_OK
+
+
+_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan)
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -12,10 +12,13 @@ Public API:
   ``g3_gate``, ``CUTOFF_AMPS``
 - SPICE: ``spice_subcircuit(tube, kind_or_means) -> str``,
   ``subcircuit_name``, ``spice_nodes``
+- listings (``tubeplan tubes``): ``format_catalogue(catalogue) -> str``,
+  ``catalogue_document(catalogue) -> dict``, ``tube_document(tube) -> dict``
 """
 
 from .builtin import builtin_catalogue
 from .custom import tube_type_from_mapping
+from .listing import catalogue_document, format_catalogue, tube_document
 from .models import (
     CUTOFF_AMPS,
     cutoff_grid_volts,
@@ -36,6 +39,8 @@ __all__ = [
     "Section",
     "TubeType",
     "builtin_catalogue",
+    "catalogue_document",
+    "format_catalogue",
     "cutoff_grid_volts",
     "g3_gate",
     "grid_current_amps",
@@ -44,5 +49,6 @@ __all__ = [
     "spice_nodes",
     "spice_subcircuit",
     "subcircuit_name",
+    "tube_document",
     "tube_type_from_mapping",
 ]
