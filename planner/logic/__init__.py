@@ -1,0 +1,28 @@
+"""Logic layer: truth tables as bitsets, two-level minimisation, equivalence.
+
+sympy expressions are the type at this layer's boundary; inside, functions
+are integers used as bitsets (bit ``i`` = input assignment ``i``,
+``names[0]`` most significant).
+
+Public API
+----------
+- :class:`TruthTable`, :func:`table_from_expr`, :func:`table_from_minterms`
+- :class:`Cube`, :class:`Cover` (``literals``, ``terms``, ``to_expr()``, ``text()``)
+- :func:`minimise`, :func:`minimise_complement`, :func:`prime_implicants`
+- :class:`Forms`, :func:`forms`, :func:`expr_forms`, :func:`used_inputs`
+- :func:`equivalent`, :func:`counterexample`
+- :func:`format_expr`, :func:`symbol_names`
+"""
+
+from .cover import Cover, Cube
+from .equivalence import EXHAUSTIVE_LIMIT, counterexample, equivalent
+from .minimise import Forms, expr_forms, forms, minimise, minimise_complement, used_inputs
+from .primes import prime_implicants
+from .table import TruthTable, symbol_names, table_from_expr, table_from_minterms
+from .text import format_expr
+
+__all__ = [
+    "Cover", "Cube", "EXHAUSTIVE_LIMIT", "Forms", "TruthTable", "counterexample", "equivalent",
+    "expr_forms", "format_expr", "forms", "minimise", "minimise_complement", "prime_implicants",
+    "symbol_names", "table_from_expr", "table_from_minterms", "used_inputs",
+]

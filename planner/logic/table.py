@@ -1,0 +1,292 @@
+"""Truth tables as Python integers used as bitsets.
+
+Bit ``i`` of a table is the input assignment ``i``, where ``names[0]`` is the
+most significant bit of ``i``.  With ``n`` inputs, input ``names[k]`` is bit
+position ``p = n - 1 - k`` of the assignment; :class:`Cube` masks use the same
+positions.  Whole tables are combined with single integer operations (``&``,
+``|``, ``^``), 2**n assignments at a time.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Iterable, Mapping
+
+import sympy
+from sympy.logic.boolalg import (
+    And, BooleanFalse, BooleanTrue, Equivalent, ITE, Implies, Nand, Nor, Not, Or, Xnor, Xor,
+)
+
+MAX_TABLE_INPUTS = 24
+"""Largest input count for which a full table is built (2**24 bits = 2 MiB)."""
+
+
+@dataclass(frozen=True)
+class TruthTable:
+    """A single-output function with don't-cares.
+
+    ``on``: assignments where the function is 1; ``dc``: assignments where its
+    value does not matter; every other assignment is in the off-set.
+
+    >>> t = table_from_minterms(("a", "b"), [1, 2])
+    >>> bin(t.on), bin(t.off), t.care == t.full
+    ('0b110', '0b1001', True)
+    """
+
+    names: tuple[str, ...]
+    on: int
+    dc: int = 0
+
+    def __post_init__(self) -> None:
+        names = tuple(self.names)
+        object.__setattr__(self, "names", names)
+        if len(set(names)) != len(names):
+            raise ValueError(f"input names repeat: {names}")
+        if len(names) > MAX_TABLE_INPUTS:
+            raise ValueError(f"{len(names)} inputs: a truth table holds at most {MAX_TABLE_INPUTS}")
+        full = (1 << (1 << len(names))) - 1
+        if self.on < 0 or self.dc < 0 or (self.on | self.dc) & ~full:
+            raise ValueError("on/dc bits lie outside the 2**n assignments")
+        if self.on & self.dc:
+            raise ValueError("an assignment is in both the on-set and the don't-care set")
+
+    @property
+    def n(self) -> int:
+        return len(self.names)
+
+    @property
+    def full(self) -> int:
+        """All 2**n assignments."""
+        return (1 << (1 << len(self.names))) - 1
+
+    @property
+    def off(self) -> int:
+        return self.full ^ (self.on | self.dc)
+
+    @property
+    def care(self) -> int:
+        return self.full ^ self.dc
+
+    def complement(self) -> "TruthTable":
+        """The table of ~f: same don't-cares, on- and off-sets exchanged."""
+        return TruthTable(self.names, self.off, self.dc)
+
+
+def variable_bits(n: int, position: int) -> int:
+    """Table of the input at bit ``position`` of the assignment, over ``n`` inputs.
+
+    Cost: log2(2**n / 2**(p+1)) shift-and-or steps.  The pattern is 2**p
+    zeros then 2**p ones, repeated; each step doubles the repeated part.
+
+    >>> bin(variable_bits(2, 1)), bin(variable_bits(2, 0))
+    ('0b1100', '0b1010')
+    """
+    width = 1 << position
+    pattern = ((1 << width) - 1) << width
+    length = width << 1
+    size = 1 << n
+    while length < size:
+        pattern |= pattern << length
+        length <<= 1
+    return pattern
+
+
+class Space:
+    """Literal tables of one input count, built once per computation.
+
+    ``one[p]`` / ``zero[p]``: assignments where bit ``p`` is 1 / 0.
+    """
+
+    __slots__ = ("n", "full", "one", "zero")
+
+    def __init__(self, n: int) -> None:
+        self.n = n
+        self.full = (1 << (1 << n)) - 1
+        self.one = tuple(variable_bits(n, p) for p in range(n))
+        self.zero = tuple(self.full ^ b for b in self.one)
+
+    def cube_bits(self, mask: int, value: int) -> int:
+        """Assignments inside the cube (``x & mask == value``); ``len(mask)`` ANDs."""
+        bits = self.full
+        m = mask
+        while m:
+            low = m & -m
+            p = low.bit_length() - 1
+            bits &= self.one[p] if value & low else self.zero[p]
+            m ^= low
+        return bits
+
+    def flip(self, bits: int, p: int) -> int:
+        """``bits`` with input ``p`` negated in every assignment (mirror across ``p``)."""
+        w = 1 << p
+        return ((bits >> w) & self.zero[p]) | ((bits << w) & self.one[p])
+
+
+def iter_bits(x: int) -> Iterable[int]:
+    """Positions of the set bits of ``x``, lowest first."""
+    while x:
+        low = x & -x
+        yield low.bit_length() - 1
+        x ^= low
+
+
+def _core_form(node: sympy.Basic) -> sympy.Basic | None:
+    """``node`` rewritten one level into And/Or/Not/Xor, or None if it is already core.
+
+    Lets every traversal handle the few other sympy connectives without recursion.
+    """
+    if isinstance(node, (And, Or, Not, Xor)):
+        return None
+    args = node.args
+    if isinstance(node, Nand):
+        return Not(And(*args))
+    if isinstance(node, Nor):
+        return Not(Or(*args))
+    if isinstance(node, Xnor):
+        return Not(Xor(*args))
+    if isinstance(node, Implies):
+        return Or(Not(args[0]), args[1])
+    if isinstance(node, Equivalent):
+        return Or(And(*args), And(*[Not(a) for a in args]))
+    if isinstance(node, ITE):
+        return Or(And(args[0], args[1]), And(Not(args[0]), args[2]))
+    raise TypeError(f"not a boolean expression sympy can hand to the logic layer: {node!r}")
+
+
+def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
+    """Bit-parallel value of ``expr``: each symbol name maps to its table.
+
+    Iterative post-order walk with a memo keyed by node identity, so shared
+    subexpressions are evaluated once and nesting depth is unlimited.  Cost:
+    one big-integer operation per argument of every distinct node.
+
+    >>> a, b = sympy.symbols("a b")
+    >>> bin(evaluate(a & ~b, {"a": 0b1100, "b": 0b1010}, 0b1111))
+    '0b100'
+    """
+    memo: dict[int, int] = {}
+    rewritten: dict[int, sympy.Basic] = {}  # keeps rewritten nodes alive while their ids are in use
+    stack = [expr]
+    while stack:
+        node = stack[-1]
+        key = id(node)
+        if key in memo:
+            stack.pop()
+            continue
+        if isinstance(node, sympy.Symbol):
+            if node.name not in variables:
+                raise ValueError(f"the expression uses {node.name!r}, which is not among the inputs "
+                                 f"{tuple(variables)}")
+            memo[key] = variables[node.name]
+            stack.pop()
+            continue
+        if isinstance(node, BooleanTrue):
+            memo[key] = full
+            stack.pop()
+            continue
+        if isinstance(node, BooleanFalse):
+            memo[key] = 0
+            stack.pop()
+            continue
+        if not isinstance(node, sympy.Basic):
+            raise TypeError(f"not a sympy boolean expression: {node!r}")
+        if key not in rewritten:
+            core = _core_form(node)
+            rewritten[key] = node if core is None else core
+        core = rewritten[key]
+        args = core.args if core is node else (core,)
+        pending = [a for a in args if id(a) not in memo]
+        if pending:
+            stack.extend(pending)
+            continue
+        stack.pop()
+        values = [memo[id(a)] for a in args]
+        if core is not node:
+            memo[key] = values[0]
+        elif isinstance(node, And):
+            v = full
+            for x in values:
+                v &= x
+            memo[key] = v
+        elif isinstance(node, Or):
+            v = 0
+            for x in values:
+                v |= x
+            memo[key] = v
+        elif isinstance(node, Xor):
+            v = 0
+            for x in values:
+                v ^= x
+            memo[key] = v
+        else:  # Not
+            memo[key] = full ^ values[0]
+    return memo[id(expr)]
+
+
+def symbol_names(expr: sympy.Basic) -> frozenset[str]:
+    """Names of the symbols in ``expr`` (iterative: any nesting depth).
+
+    >>> sorted(symbol_names(sympy.Symbol("b") | ~sympy.Symbol("a")))
+    ['a', 'b']
+    """
+    seen: set[int] = set()
+    names: set[str] = set()
+    stack = [expr]
+    while stack:
+        node = stack.pop()
+        if id(node) in seen:
+            continue
+        seen.add(id(node))
+        if isinstance(node, sympy.Symbol):
+            names.add(node.name)
+        else:
+            stack.extend(node.args)
+    return frozenset(names)
+
+
+def table_from_expr(expr: sympy.Basic, names: Iterable[str],
+                    dont_care: sympy.Basic = sympy.false) -> TruthTable:
+    """Truth table of ``expr`` over ``names``; where ``dont_care`` holds the value is free.
+
+    Cost: one big-integer operation per expression node (see :func:`evaluate`).
+
+    >>> a, b = sympy.symbols("a b")
+    >>> t = table_from_expr(a ^ b, ("a", "b"), dont_care=a & b)
+    >>> bin(t.on), bin(t.dc)
+    ('0b110', '0b1000')
+    """
+    names = tuple(names)
+    space = Space(len(names))
+    variables = {name: space.one[len(names) - 1 - k] for k, name in enumerate(names)}
+    f = evaluate(expr, variables, space.full)
+    dc = evaluate(dont_care, variables, space.full)
+    return TruthTable(names, f & (space.full ^ dc), dc)
+
+
+def table_from_minterms(names: Iterable[str], minterms: Iterable[int],
+                        dont_care: Iterable[int] = ()) -> TruthTable:
+    """Truth table from on-set and don't-care assignment numbers.
+
+    >>> table_from_minterms(("a", "b", "c"), [0, 7], dont_care=[3]).dc
+    8
+    """
+    names = tuple(names)
+    size = 1 << len(names)
+    on = dc = 0
+    for m in minterms:
+        if not 0 <= m < size:
+            raise ValueError(f"minterm {m} is outside 0..{size - 1} for {len(names)} inputs")
+        on |= 1 << m
+    for m in dont_care:
+        if not 0 <= m < size:
+            raise ValueError(f"don't-care {m} is outside 0..{size - 1} for {len(names)} inputs")
+        dc |= 1 << m
+    if on & dc:
+        raise ValueError(f"assignments listed as both on and don't-care: {list(iter_bits(on & dc))}")
+    return TruthTable(names, on, dc)
+
+
+def assignment(names: tuple[str, ...], index: int) -> dict[str, bool]:
+    """The input values of assignment number ``index`` (``names[0]`` most significant)."""
+    n = len(names)
+    return {name: bool(index >> (n - 1 - k) & 1) for k, name in enumerate(names)}
