@@ -104,7 +104,7 @@ def _model(tube: TubeType | ModelParams) -> ModelParams:
 
 
 def _name(tube: TubeType | ModelParams) -> str:
-    return getattr(tube, "name", tube.equation)
+    return tube.equation if isinstance(tube, ModelParams) else tube.name
 
 
 def _screen_volts(tube, screen_volts: float | None) -> float:
@@ -202,13 +202,16 @@ def cutoff_grid_volts(
     plate_volts: float,
     screen_volts: float | None = None,
     grid3: bool = False,
+    other_grid_volts: float = 0.0,
     threshold_amps: float = CUTOFF_AMPS,
 ) -> float:
     """Grid voltage (to cathode) at which the plate current falls to ``threshold_amps``.
 
-    ``grid3=False``: the g1 voltage, with g3 at 0 V on a dual-control
-    section. ``grid3=True``: the g3 voltage with g1 at 0 V (dual-control
-    sections only). Plate current is monotone in the grid voltage, so this
+    ``grid3=False``: the g1 voltage, with g3 at ``other_grid_volts`` on a
+    dual-control section. ``grid3=True``: the g3 voltage with g1 at
+    ``other_grid_volts`` (dual-control sections only). The default threshold
+    is ``CUTOFF_AMPS`` (10 uA), the figure datasheets use for "grid voltage
+    for plate current cut-off". Plate current is monotone in the grid voltage, so this
     is bisection on [-(plate + screen volts) - 100, 0] to 1 mV: about 20
     model evaluations. Raises ValueError if the section is below the
     threshold even at 0 V or has no grid.
@@ -220,10 +223,10 @@ def cutoff_grid_volts(
 
     def current(v: float) -> float:
         if grid3:
-            return plate_current_amps(tube, plate_volts=plate_volts, grid_volts=0.0,
+            return plate_current_amps(tube, plate_volts=plate_volts, grid_volts=other_grid_volts,
                                       grid3_volts=v, screen_volts=screen_volts)
         return plate_current_amps(tube, plate_volts=plate_volts, grid_volts=v,
-                                  screen_volts=screen_volts)
+                                  grid3_volts=other_grid_volts, screen_volts=screen_volts)
 
     hi = 0.0
     if current(hi) <= threshold_amps:

@@ -1,0 +1,127 @@
+"""Custom tube types (the stock file's custom_types) and their checks.
+
+The example type below is invented test data (a fixture), not a real tube.
+"""
+
+import copy
+
+import pytest
+
+from planner.catalogue import (
+    CatalogueDataError,
+    builtin_catalogue,
+    plate_current_amps,
+    tube_type_from_mapping,
+)
+from planner.catalogue.builtin import BUILTIN_DATA
+
+# Invented fixture: a single triode on a 7-pin base.
+EXAMPLE = {
+    "description": "invented single triode for tests",
+    "kind": "triode",
+    "base": "7-pin miniature",
+    "sections": [{"pins": {"plate": 1, "grid": 6, "cathode": 7}}],
+    "heater": {"volts": 6.3, "amps": 0.15, "pins": [3, 4]},
+    "ratings": {"max_plate_volts": 250, "max_plate_watts": 1.0},
+    "capacitance_pf": {"input": 2.0},
+    "model": {"equation": "child-langmuir", "mu": 20, "perveance": 0.001},
+    "sources": {"default": "invented for this test"},
+}
+
+
+def with_change(path, value, data=EXAMPLE):
+    data = copy.deepcopy(data)
+    node = data
+    keys = path.split(".")
+    for k in keys[:-1]:
+        node = node[int(k)] if isinstance(node, list) else node[k]
+    last = keys[-1]
+    if value is KeyError:
+        del node[last]
+    elif isinstance(node, list):
+        node[int(last)] = value
+    else:
+        node[last] = value
+    return data
+
+
+def test_example_reads_and_models():
+    tube = tube_type_from_mapping("X1", EXAMPLE)
+    assert tube.sections[0].means == ("single",)
+    assert tube.sources["heater_volts"] == "invented for this test"
+    # Child-Langmuir three-halves law: 1 mA/V^1.5 * (0 + 100/20)^1.5 = 11.18 mA.
+    assert plate_current_amps(tube, plate_volts=100, grid_volts=0) == pytest.approx(0.001 * 5 ** 1.5)
+    assert plate_current_amps(tube, plate_volts=100, grid_volts=-6) == 0.0
+
+
+@pytest.mark.parametrize("name", sorted(BUILTIN_DATA))
+def test_builtin_data_goes_through_the_same_reader(name):
+    assert tube_type_from_mapping(name, BUILTIN_DATA[name]) == builtin_catalogue().get(name)
+
+
+BAD = [
+    ("heater.volts", -6.3, "heater.volts", "greater than zero"),
+    ("heater.volts", "six", "heater.volts", "a number"),
+    ("heater.amps", KeyError, "heater.amps", "missing"),
+    ("base", "loctal", "base", "7-pin miniature"),
+    ("kind", "tetrode", "kind", "triode"),
+    ("sections.0.pins.grid", 9, "sections.0.pins.grid", "1 to 7"),
+    ("sections.0.pins.grid", 3, "sections.0.pins.grid", "already used"),
+    ("sections.0.pins.cathode", KeyError, "sections.0.pins.cathode", "missing"),
+    ("sections.0.means", ["dual"], "sections.0.means", "can do"),
+    ("sections.0.pins.screen", 2, "sections.0.pins.screen", "unknown key"),
+    ("heater.series_volts", 12.6, "heater", "both series_volts and series_amps"),
+    ("model.equation", "koren-pentode", "model.equation", "triode section takes"),
+    ("model.mu", KeyError, "model.mu", "missing"),
+    ("model.g3_zero_volts", -5, "model.g3_zero_volts", "only dual-control"),
+    ("ratings.max_screen_watts", 1.0, "ratings.max_screen_watts", "no screen"),
+    ("sources", KeyError, "sources", "no source for"),
+    ("sources.default", "", "sources.default", "datasheet"),
+    ("colour", "red", "colour", "unknown key"),
+]
+
+
+@pytest.mark.parametrize("path, value, field, words", BAD)
+def test_bad_custom_types_say_where_and_what(path, value, field, words):
+    with pytest.raises(CatalogueDataError) as info:
+        tube_type_from_mapping("X1", with_change(path, value))
+    assert info.value.field == field
+    assert words in info.value.message
+
+
+def test_series_heater_must_be_twice_the_volts_and_half_the_amps():
+    data = with_change("heater", {"volts": 6.3, "amps": 0.3, "pins": [3, 4], "centre_tap": 5,
+                                  "series_volts": 12.0, "series_amps": 0.15})
+    with pytest.raises(CatalogueDataError, match="twice"):
+        tube_type_from_mapping("X1", data)
+    data["heater"]["series_volts"] = 12.6
+    assert tube_type_from_mapping("X1", data).heater_series == (12.6, 0.15)
+    del data["heater"]["centre_tap"]
+    with pytest.raises(CatalogueDataError) as info:
+        tube_type_from_mapping("X1", data)
+    assert info.value.field == "heater.centre_tap"
+
+
+def test_dual_control_custom_type_needs_a_g3_gate():
+    data = copy.deepcopy(BUILTIN_DATA["6AS6"])
+    del data["model"]["g3_zero_volts"]
+    with pytest.raises(CatalogueDataError) as info:
+        tube_type_from_mapping("MY6AS6", data)
+    assert info.value.field == "model.g3_zero_volts"
+
+
+def test_shared_cathode_rules():
+    data = copy.deepcopy(BUILTIN_DATA["6J6"])
+    data["sections"][1]["pins"]["cathode"] = 2
+    with pytest.raises(CatalogueDataError, match="different cathode"):
+        tube_type_from_mapping("MY6J6", data)
+    data = copy.deepcopy(BUILTIN_DATA["6J6"])
+    data["shared_cathode"] = False
+    with pytest.raises(CatalogueDataError, match="already used"):
+        tube_type_from_mapping("MY6J6", data)
+
+
+def test_with_custom_adds_and_sorts():
+    cat = builtin_catalogue().with_custom([tube_type_from_mapping("AA1", EXAMPLE)])
+    assert cat.names()[-1] == "AA1" and "12AU7" in cat and "aa1" in cat
+    assert builtin_catalogue().names() != cat.names()
