@@ -1,0 +1,29 @@
+"""Stage synthesis: the stage network, from minimised forms to plate nodes and branches.
+
+A stage is one plate node with one plate load; it computes
+``NOT(OR over branches of AND over the branch's inputs)``, or copies its input
+(a follower).  This package turns a :class:`planner.spec.Design` into a proven
+:class:`Network` under the limits of :class:`SynthesisOptions`, offers every
+block's candidates for the integer program, inserts followers for fan-out,
+and simulates and proves networks.  See ``docs/stages.md``.
+
+Public API
+----------
+- :class:`Branch`, :class:`Stage`, :class:`Network`, :class:`NetworkCost`, :func:`stage_view`, :data:`MEANS`
+- :class:`SynthesisOptions`, :data:`DEFAULT_MAX_BRANCHES`
+- :func:`synthesise` -> :class:`Synthesis` (``network``, ``candidates``: :class:`Candidate`)
+- :func:`insert_followers`
+- :func:`simulate`, :func:`input_patterns`, :func:`prove`, :class:`ProofError`
+"""
+
+from .followers import insert_followers
+from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, Stage, stage_view
+from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
+from .simulate import ProofError, input_patterns, prove, simulate
+from .synthesis import Candidate, Synthesis, synthesise
+
+__all__ = [
+    "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "MEANS", "MODES", "Network", "NetworkCost", "ProofError",
+    "SECTIONS_PER_BRANCH", "Stage", "Synthesis", "SynthesisOptions", "input_patterns", "insert_followers",
+    "prove", "simulate", "stage_view", "synthesise",
+]

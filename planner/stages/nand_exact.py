@@ -1,0 +1,72 @@
+"""Exact minimum NAND circuits for small functions (NAND-only mode).
+
+Given nets with known functions (truth tables as bitsets over a block's own
+variables), find the fewest two-input NAND gates and inverters that produce a
+net equal to a target on its care set.  Iterative deepening depth-first search
+over circuits, where a state is the *set* of functions available so far: every
+order in which the same gates could be added collapses to one state, and a
+state already searched with as many gates left is not searched again.  A gate
+that repeats an available function is never added.  The search is exhaustive,
+so the first depth that succeeds is the minimum (exact synthesis by
+enumeration; cf. Knuth, TAOCP vol. 4A, section 7.1.2, on minimum Boolean
+chains).  Its cost grows roughly as ``(nets^2)^gates``: it is used only for
+blocks of at most :data:`EXACT_MAX_VARIABLES` variables and circuits of at most
+:data:`EXACT_MAX_GATES` gates.
+
+>>> a, b = 0b1100, 0b1010          # two variables, names[0] most significant
+>>> len(nand_circuit([a, b], a ^ b, 0b1111, 0b1111, 4))     # exclusive-OR: four NANDs
+4
+"""
+
+from __future__ import annotations
+
+EXACT_MAX_VARIABLES = 3
+EXACT_MAX_GATES = 6
+
+
+def nand_circuit(start: list[int], target: int, care: int, full: int,
+                 max_gates: int) -> list[tuple[int, int]] | None:
+    """Fewest gates ``(i, j)`` (node indices; ``i == j`` an inverter) reaching ``target``.
+
+    Nodes ``0 .. len(start)-1`` are the start functions, gate ``g`` is node
+    ``len(start) + g``; the last gate produces the target.  ``[]`` when a start
+    function already matches; None when more than ``max_gates`` gates are needed.
+    ``full`` is the set of all assignments (the complement of ``f`` is ``full & ~f``).
+    """
+    if any((f ^ target) & care == 0 for f in start):
+        return []
+    for depth in range(1, max_gates + 1):
+        seen: dict[frozenset[int], int] = {}
+        found = _search(list(start), [], target, care, full, depth, seen)
+        if found is not None:
+            return found
+    return None
+
+
+def _search(nodes: list[int], gates: list[tuple[int, int]], target: int, care: int, full: int, left: int,
+            seen: dict[frozenset[int], int]) -> list[tuple[int, int]] | None:
+    """Depth-first: add one gate, at most ``left`` more; return the gate list when the target appears."""
+    state = frozenset(nodes)
+    if seen.get(state, -1) >= left:
+        return None
+    seen[state] = left
+    n = len(nodes)
+    if left == 1:
+        for i in range(n):
+            for j in range(i, n):
+                if ((full & ~(nodes[i] & nodes[j])) ^ target) & care == 0:
+                    return gates + [(i, j)]
+        return None
+    for i in range(n):
+        for j in range(i, n):
+            f = full & ~(nodes[i] & nodes[j])
+            if f in state:
+                continue
+            if (f ^ target) & care == 0:
+                return gates + [(i, j)]
+            nodes.append(f)
+            found = _search(nodes, gates + [(i, j)], target, care, full, left - 1, seen)
+            nodes.pop()
+            if found is not None:
+                return found
+    return None
