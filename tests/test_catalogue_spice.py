@@ -22,7 +22,8 @@ from planner.catalogue import (
 CAT = builtin_catalogue()
 pytestmark = [
     pytest.mark.ngspice,
-    pytest.mark.skipif(shutil.which("ngspice") is None, reason="ngspice is not installed (apt install ngspice)"),
+    pytest.mark.skipif(shutil.which("ngspice") is None,
+                       reason="ngspice is not installed (apt install ngspice)"),
 ]
 
 SHORT = {"plate": "p", "screen": "s", "grid": "g", "grid3": "g3", "cathode": "k"}

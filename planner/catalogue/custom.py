@@ -250,7 +250,8 @@ def _model(data: Mapping, kind: str) -> ModelParams:
     model = _mapping(data.get("model"), "model")
     equation = model.get("equation")
     if equation not in EQUATIONS:
-        raise CatalogueDataError("model.equation", f"expected one of {', '.join(EQUATIONS)}, got {equation!r}")
+        raise CatalogueDataError("model.equation",
+                                 f"expected one of {', '.join(EQUATIONS)}, got {equation!r}")
     if equation not in EQUATIONS_FOR_KIND[kind]:
         raise CatalogueDataError("model.equation", f"a {kind} section takes "
                                  f"{' or '.join(EQUATIONS_FOR_KIND[kind])}, got {equation!r}")
@@ -313,7 +314,8 @@ def tube_type_from_mapping(name: str, data: Mapping) -> TubeType:
     Cost O(number of pins).
     """
     if not isinstance(name, str) or not NAME_RE.match(name):
-        raise CatalogueDataError("name", f"expected a type name of letters, digits, '-', '_', '.', '/', got {name!r}")
+        raise CatalogueDataError("name", "expected a type name of letters, digits, '-', '_', '.', '/', "
+                                         f"got {name!r}")
     data = _mapping(data, "")
     _no_extra(data, TOP_KEYS, "")
     base = data.get("base")
