@@ -1,0 +1,375 @@
+"""The aggregated integer program: how many stages of each class go on each tube type.
+
+Stages that need the same thing (the same branch means, the same fan-out
+requirement, so the same ways to build them) are interchangeable, so the model
+counts them per way instead of giving every branch its own binary: the model's
+size grows with the number of stage classes and tube types, not with the design.
+
+Variables (all integers):
+
+* ``x[c, w]``: stages of class ``c`` built the ``w``-th way (a tube type and
+  template); ``sum_w x[c, w] = count(c)``;
+* ``n[t]``: envelopes of type ``t``, at most ``count - reserve`` (plus ``buy[t]``
+  when diagnosing a shortage);
+* ``h[t, k]``: envelopes of type ``t`` heated the ``k``-th way (a winding whose
+  volts equal the heater's, wired parallel or series); ``sum_k h[t, k] = n[t]``.
+
+Constraints: section packing by Hall's condition (below), winding amps, plate
+and bias supply milliamperes, and diode sections for diode-AND branches when the
+stock allows vacuum diodes only.
+
+Packing.  Sections of a type differ in what they can do (a pentode section of a
+triode-pentode cannot gate on g3).  Demands ``d[k]`` of each kind ("single",
+"dual", "follower") fit into ``n`` identical envelopes iff for every set ``S`` of
+kinds ``sum_{k in S} d[k] <= n * |sections serving some kind in S|`` (Hall's
+theorem for the transportation problem; P. Hall 1935, via max-flow min-cut).  A
+type whose sections share one cathode cannot put a cathode follower (cathode at
+its output) beside grounded-cathode sections: each follower then takes a whole
+envelope, and the other kinds pack into the ``n - followers`` envelopes left.
+
+Objective (``spec.Objective``): ``envelopes * sum n + heater_watts * sum watts(h)
++ scarce * sum_{scarce t} n[t]``, or lexicographically (scarce envelopes, then
+envelopes, then heater watts) by successive solves, each earlier optimum fixed
+as a constraint.  Ties are broken by a tiny cost on each envelope that grows with
+the type's place in name order (at most 1e-6 of one envelope in all), so equal
+plans are told apart the same way every time; reported objectives leave it out.
+"""
+
+from __future__ import annotations
+
+import itertools
+import time
+from dataclasses import dataclass
+
+import pulp
+
+from .solver import Outcome, solve
+
+KINDS = ("dual", "single", "follower")
+TIE_BREAK = 1e-6
+
+
+@dataclass(frozen=True)
+class HeaterWay:
+    """One way to heat an envelope: on ``winding`` wired ``connection`` at ``amps``."""
+
+    winding: str
+    connection: str
+    volts: float
+    amps: float
+
+    @property
+    def watts(self) -> float:
+        return self.volts * self.amps
+
+
+@dataclass(frozen=True)
+class TubeKind:
+    """A stocked tube type as the model sees it.
+
+    ``sections``: for each amplifying section, the kinds of demand it can serve;
+    ``diode_sections``: diodes per envelope usable in a diode AND (0 unless the
+    type holds only diodes with their own cathodes).
+    """
+
+    tube: str
+    usable: int
+    scarce: bool
+    sections: tuple[frozenset, ...]
+    diode_sections: int
+    shared_cathode: bool
+    heaters: tuple[HeaterWay, ...]
+
+
+@dataclass(frozen=True)
+class Way:
+    """One way to build a stage: sections it takes on ``tube`` and the currents it draws.
+
+    ``demand``: (kind, sections) pairs; ``plate_ma`` / ``plate_ma_typical`` from
+    B+, ``bias_ma`` from the bias rail, worst case from the electrical templates.
+    ``template``: the template's name ("single", "dual", "follower", ...).
+    """
+
+    tube: str
+    template: str
+    demand: tuple[tuple[str, int], ...]
+    plate_ma: float
+    plate_ma_typical: float
+    bias_ma: float
+    fanout_limit: int
+
+
+@dataclass(frozen=True)
+class StageClass:
+    """Interchangeable stages: ``stages`` (ids, in stage order) each built one of ``ways``;
+    ``diodes``: AND-gate diodes each stage needs."""
+
+    key: tuple
+    stages: tuple[str, ...]
+    ways: tuple[Way, ...]
+    diodes: int = 0
+
+    @property
+    def count(self) -> int:
+        return len(self.stages)
+
+
+@dataclass(frozen=True)
+class Supplies:
+    """Limits of the rails and windings; ``fixed_*``: currents no choice changes."""
+
+    plate_max_ma: float
+    bias_max_ma: float
+    windings: tuple[tuple[str, float, float], ...]  # id, volts, max amps
+    fixed_plate_ma: float = 0.0
+    fixed_plate_ma_typical: float = 0.0
+    fixed_bias_ma: float = 0.0
+
+
+@dataclass(frozen=True)
+class Weights:
+    """Objective weights (``spec.Objective``) and mode."""
+
+    envelopes: float = 1.0
+    heater_watts: float = 0.05
+    scarce: float = 5.0
+    mode: str = "weighted"
+
+
+@dataclass(frozen=True)
+class Problem:
+    """The whole aggregated mapping problem; ``vacuum_diodes``: diode ANDs need tube diodes."""
+
+    kinds: tuple[TubeKind, ...]
+    classes: tuple[StageClass, ...]
+    supplies: Supplies
+    weights: Weights
+    vacuum_diodes: bool = False
+
+
+@dataclass(frozen=True)
+class Level:
+    """One solve of the objective sequence: criterion, its value, LP bound, solver gap."""
+
+    criterion: str
+    value: float
+    lp_bound: float
+    gap: float
+    status: str
+
+
+@dataclass(frozen=True)
+class Counts:
+    """A solution of the aggregated model.
+
+    ``ways[c][w]``: stages of class ``c`` built way ``w``; ``envelopes[t]``;
+    ``heaters[t]``: count per heater way of kind ``t``; ``purchase[t]``: extra
+    envelopes (shortage diagnosis only); ``overloads``: (what, amount) with
+    amount in A for windings ("H1") and mA for "plate" and "bias".
+    """
+
+    ways: tuple[tuple[int, ...], ...]
+    envelopes: tuple[int, ...]
+    heaters: tuple[tuple[int, ...], ...]
+    purchase: tuple[int, ...]
+    overloads: tuple[tuple[str, float], ...]
+    levels: tuple[Level, ...]
+    status: str
+    seconds: float
+    terms: tuple[tuple[str, float], ...]
+
+
+class Infeasible(Exception):
+    """The model has no solution within the stock and supplies."""
+
+
+def _subsets(kinds: list[str]):
+    for r in range(1, len(kinds) + 1):
+        yield from itertools.combinations(kinds, r)
+
+
+class _Model:
+    """The pulp model of a :class:`Problem`; ``slack``: allow purchases and overloads."""
+
+    def __init__(self, problem: Problem, *, slack: bool) -> None:
+        self.problem = problem
+        self.slack = slack
+        self.fixes = 0
+        self.lp = pulp.LpProblem("tubeplan_mapping", pulp.LpMinimize)
+        kinds, classes, supplies = problem.kinds, problem.classes, problem.supplies
+        self.x = [[pulp.LpVariable(f"x_{c}_{w}", 0, cls.count, cat="Integer") for w in range(len(cls.ways))]
+                  for c, cls in enumerate(classes)]
+        index = {kind.tube: t for t, kind in enumerate(kinds)}
+        self.buy = [pulp.LpVariable(f"buy_{t}", 0, None, cat="Integer") if slack else 0
+                    for t in range(len(kinds))]
+        self.n = [pulp.LpVariable(f"n_{t}", 0, None if slack else max(kind.usable, 0), cat="Integer")
+                  for t, kind in enumerate(kinds)]
+        self.h = [[pulp.LpVariable(f"h_{t}_{k}", 0, None, cat="Integer") for k in range(len(kind.heaters))]
+                  for t, kind in enumerate(kinds)]
+        for c, cls in enumerate(classes):
+            self.lp += pulp.lpSum(self.x[c]) == cls.count, f"class_{c}"
+        demand = [{k: [] for k in KINDS} for _ in kinds]
+        plate, bias = [], []
+        for c, cls in enumerate(classes):
+            for w, way in enumerate(cls.ways):
+                for kind, sections in way.demand:
+                    demand[index[way.tube]][kind].append(sections * self.x[c][w])
+                plate.append(way.plate_ma * self.x[c][w])
+                bias.append(way.bias_ma * self.x[c][w])
+        for t, kind in enumerate(kinds):
+            if slack:
+                self.lp += self.n[t] <= max(kind.usable, 0) + self.buy[t], f"stock_{t}"
+            self.lp += pulp.lpSum(self.h[t]) == self.n[t], f"heated_{t}"
+            self._packing(t, kind, demand[t])
+        diodes = sum(cls.count * cls.diodes for cls in classes)
+        if problem.vacuum_diodes and diodes:
+            self.lp += pulp.lpSum(kind.diode_sections * self.n[t] for t, kind in enumerate(kinds)
+                                  if kind.diode_sections) >= diodes, "diodes"
+        self.over = {}
+        for wi, (ident, _volts, max_amps) in enumerate(supplies.windings):
+            amps = pulp.lpSum(way.amps * self.h[t][k] for t, kind in enumerate(kinds)
+                              for k, way in enumerate(kind.heaters) if way.winding == ident)
+            self.lp += amps <= max_amps + self._over(ident, f"over_w{wi}"), f"winding_{wi}"
+        self.lp += (pulp.lpSum(plate) + supplies.fixed_plate_ma
+                    <= supplies.plate_max_ma + self._over("plate", "over_plate")), "plate"
+        self.lp += (pulp.lpSum(bias) + supplies.fixed_bias_ma
+                    <= supplies.bias_max_ma + self._over("bias", "over_bias")), "bias"
+        self.envelopes = pulp.lpSum(self.n)
+        self.scarce = pulp.lpSum(self.n[t] for t, kind in enumerate(kinds) if kind.scarce)
+        self.heater_watts = pulp.lpSum(way.watts * self.h[t][k] for t, kind in enumerate(kinds)
+                                       for k, way in enumerate(kind.heaters))
+        ranks = {t: r for r, t in enumerate(sorted(range(len(kinds)), key=lambda t: kinds[t].tube))}
+        scale = TIE_BREAK / max(1, len(kinds)) / max(1, sum(cls.count for cls in classes) + len(kinds))
+        self.tie = pulp.lpSum(scale * (ranks[t] + 1) * self.n[t] for t in range(len(kinds)))
+        self.purchase = pulp.lpSum(self.buy) if slack else 0
+        self.overload = pulp.lpSum(var / max(limit, 1e-9) for var, limit in self._limits())
+
+    def _over(self, what: str, name: str):
+        if not self.slack:
+            return 0
+        var = pulp.LpVariable(name, 0, None)
+        self.over[what] = var
+        return var
+
+    def _limits(self):
+        supplies = self.problem.supplies
+        limits = {ident: max_amps for ident, _v, max_amps in supplies.windings}
+        limits.update(plate=supplies.plate_max_ma, bias=supplies.bias_max_ma)
+        return [(var, limits[what]) for what, var in self.over.items()]
+
+    def _packing(self, t: int, kind: TubeKind, demand: dict) -> None:
+        present = [k for k in KINDS if demand[k]]
+        if not present:
+            return
+        n = self.n[t]
+        followers = pulp.lpSum(demand["follower"])
+        grounded = [k for k in present if k != "follower"]
+        if kind.shared_cathode and "follower" in present:
+            self.lp += followers <= n, f"followers_{t}"
+            groups = [(grounded, n - followers)] if grounded else []
+        else:
+            groups = [(present, n)]
+        for members, envelopes in groups:
+            for subset in _subsets(members):
+                serving = sum(1 for caps in kind.sections if caps & set(subset))
+                self.lp += (pulp.lpSum(term for k in subset for term in demand[k])
+                            <= serving * envelopes), f"pack_{t}_{'_'.join(subset)}"
+
+    def weighted(self):
+        w = self.problem.weights
+        return w.envelopes * self.envelopes + w.heater_watts * self.heater_watts + w.scarce * self.scarce
+
+    def criterion(self, name: str):
+        return {"weighted": self.weighted(), "scarce envelopes": self.scarce, "envelopes": self.envelopes,
+                "heater watts": self.heater_watts, "purchase": self.purchase,
+                "overload": self.overload}[name]
+
+    def run(self, name: str, *, solver: str, deadline: float, gap: float, tie: bool) -> tuple[Outcome, float]:
+        """Solve for criterion ``name`` (its LP relaxation too); return the outcome and the LP bound."""
+        expr = self.criterion(name)
+        self.lp.setObjective(expr + self.tie if tie else expr)
+        remaining = max(1.0, deadline - time.monotonic())
+        relaxed = solve(self.lp, solver=solver, time_limit_s=remaining, gap=gap, relax=True)
+        if relaxed.status == "infeasible":
+            return relaxed, float("nan")
+        bound = relaxed.objective if relaxed.objective is not None else float("nan")
+        remaining = max(1.0, deadline - time.monotonic())
+        outcome = solve(self.lp, solver=solver, time_limit_s=remaining, gap=gap)
+        return outcome, bound
+
+    def fix(self, name: str, value: float) -> None:
+        """Keep criterion ``name`` at its optimum ``value`` in later solves."""
+        expr = self.criterion(name)
+        integral = name in ("scarce envelopes", "envelopes", "purchase")
+        limit = round(value) if integral else value + 1e-6 * max(1.0, abs(value))
+        self.fixes += 1
+        self.lp += expr <= limit, f"fixed_{self.fixes}"
+
+    def counts(self, levels, status: str, seconds: float) -> Counts:
+        val = lambda v: int(round(v.value() or 0)) if isinstance(v, pulp.LpVariable) else int(v)  # noqa: E731
+        terms = (("envelopes", float(pulp.value(self.envelopes) or 0)),
+                 ("heater watts", float(pulp.value(self.heater_watts) or 0)),
+                 ("scarce envelopes", float(pulp.value(self.scarce) or 0)),
+                 ("weighted", float(pulp.value(self.weighted()) or 0)))
+        return Counts(tuple(tuple(val(v) for v in row) for row in self.x),
+                      tuple(val(v) for v in self.n),
+                      tuple(tuple(val(v) for v in row) for row in self.h),
+                      tuple(val(v) for v in self.buy),
+                      tuple((what, float(var.value() or 0)) for what, var in sorted(self.over.items())),
+                      tuple(levels), status, seconds, terms)
+
+
+def _criteria(weights: Weights) -> tuple[str, ...]:
+    if weights.mode == "lexicographic":
+        return ("scarce envelopes", "envelopes", "heater watts")
+    return ("weighted",)
+
+
+def _sequence(model: _Model, criteria, *, solver: str, deadline: float, gap: float) -> Counts:
+    start = time.monotonic()
+    levels, status = [], "optimal"
+    for i, name in enumerate(criteria):
+        outcome, bound = model.run(name, solver=solver, deadline=deadline, gap=gap, tie=i == len(criteria) - 1)
+        if not outcome.solved:
+            raise Infeasible(name)
+        value = float(pulp.value(model.criterion(name)) or 0)
+        solver_gap = outcome.gap if outcome.status == "feasible" else 0.0
+        levels.append(Level(name, value, min(bound, value) if bound == bound else bound, solver_gap,
+                            outcome.status))
+        status = "feasible" if outcome.status == "feasible" else status
+        if i < len(criteria) - 1:
+            model.fix(name, value)
+    return model.counts(levels, status, time.monotonic() - start)
+
+
+def solve_problem(problem: Problem, *, solver: str = "cbc", time_limit_s: float = 60.0,
+                  gap: float = 0.0) -> Counts:
+    """The optimal counts of ``problem`` within stock and supplies; :class:`Infeasible` if none.
+
+    Cost: one LP and one integer solve per criterion (three in lexicographic mode).
+    """
+    deadline = time.monotonic() + time_limit_s
+    return _sequence(_Model(problem, slack=False), _criteria(problem.weights), solver=solver,
+                     deadline=deadline, gap=gap)
+
+
+def diagnose(problem: Problem, *, solver: str = "cbc", time_limit_s: float = 60.0, gap: float = 0.0,
+             forbid: tuple[str, ...] = (), allow_only: tuple[str, ...] | None = None,
+             fixed_purchase: tuple[tuple[str, int], ...] = ()) -> Counts:
+    """The smallest purchase (fewest envelopes bought), then the least overload, then the objective.
+
+    Purchases and overloads are slack variables; the three criteria are solved
+    in that order, each optimum fixed.  ``forbid``: types that may not be
+    bought; ``allow_only``: only these may be bought; ``fixed_purchase``:
+    purchases held at these counts (used to test alternatives).
+    """
+    deadline = time.monotonic() + time_limit_s
+    model = _Model(problem, slack=True)
+    for t, kind in enumerate(problem.kinds):
+        held = dict(fixed_purchase)
+        if kind.tube in held:
+            model.lp += model.buy[t] == held[kind.tube], f"held_{t}"
+        elif kind.tube in forbid or (allow_only is not None and kind.tube not in allow_only):
+            model.lp += model.buy[t] == 0, f"forbid_{t}"
+    return _sequence(model, ("purchase", "overload") + _criteria(problem.weights), solver=solver,
+                     deadline=deadline, gap=gap)
