@@ -1,0 +1,51 @@
+"""``tubeplan plan`` end to end: read the files, plan, prove, write the outputs.
+
+This module only composes the layers; each step's work lives in its package.
+"""
+
+from __future__ import annotations
+
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+from planner.mapping import MappingOptions, Shortage, plan_design
+from planner.report import plan_summary, write_plan
+from planner.spec import load_design, load_stock
+
+
+@dataclass(frozen=True)
+class PlanResult:
+    """What a planning run produced: ``planned`` is False when the stock is short."""
+
+    planned: bool
+    summary: str
+    files: tuple[Path, ...] = ()
+
+
+def _progress(message: str) -> None:
+    print(f"tubeplan: {message}", file=sys.stderr, flush=True)
+
+
+def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
+               options: MappingOptions | None = None, *, quiet: bool = False) -> PlanResult:
+    """Plan ``design_path`` with ``stock_path`` and write the plan into ``out_dir``.
+
+    Bad input raises planner.spec.InputError; a short stock gives ``planned=False``
+    with the shortage as the summary, and writes nothing.
+    """
+    progress = None if quiet else _progress
+    design = load_design(design_path)
+    stock = load_stock(stock_path)
+    options = options or MappingOptions()
+    if progress:
+        options = options.with_progress(progress)
+    try:
+        plan = plan_design(design, stock, options)
+    except Shortage as shortage:
+        return PlanResult(False, str(shortage))
+    if progress:
+        progress(f"writing the plan into {out_dir}")
+    files = write_plan(plan, Path(out_dir), stock=stock, design_path=Path(design_path),
+                       stock_path=Path(stock_path))
+    return PlanResult(True, plan_summary(plan), tuple(files))
