@@ -10,8 +10,9 @@ that repeats an available function is never added.  The search is exhaustive,
 so the first depth that succeeds is the minimum (exact synthesis by
 enumeration; cf. Knuth, TAOCP vol. 4A, section 7.1.2, on minimum Boolean
 chains).  Its cost grows roughly as ``(nets^2)^gates``: it is used only for
-blocks of at most :data:`EXACT_MAX_VARIABLES` variables and circuits of at most
-:data:`EXACT_MAX_GATES` gates.
+functions of at most :data:`EXACT_MAX_VARIABLES` variables, circuits of at
+most :data:`EXACT_MAX_GATES` gates, and gives up (returns None, so the caller
+keeps its heuristic circuit) after :data:`EXACT_MAX_STATES` states.
 
 >>> a, b = 0b1100, 0b1010          # two variables, names[0] most significant
 >>> len(nand_circuit([a, b], a ^ b, 0b1111, 0b1111, 4))     # exclusive-OR: four NANDs
@@ -22,34 +23,38 @@ from __future__ import annotations
 
 EXACT_MAX_VARIABLES = 3
 EXACT_MAX_GATES = 6
+EXACT_MAX_STATES = 20_000
 
 
-def nand_circuit(start: list[int], target: int, care: int, full: int,
-                 max_gates: int) -> list[tuple[int, int]] | None:
+def nand_circuit(start: list[int], target: int, care: int, full: int, max_gates: int,
+                 max_states: int = EXACT_MAX_STATES) -> list[tuple[int, int]] | None:
     """Fewest gates ``(i, j)`` (node indices; ``i == j`` an inverter) reaching ``target``.
 
     Nodes ``0 .. len(start)-1`` are the start functions, gate ``g`` is node
     ``len(start) + g``; the last gate produces the target.  ``[]`` when a start
-    function already matches; None when more than ``max_gates`` gates are needed.
+    function already matches; None when more than ``max_gates`` gates are needed
+    or the search visits more than ``max_states`` states (deterministically).
     ``full`` is the set of all assignments (the complement of ``f`` is ``full & ~f``).
     """
     if any((f ^ target) & care == 0 for f in start):
         return []
+    budget = [max_states]
     for depth in range(1, max_gates + 1):
         seen: dict[frozenset[int], int] = {}
-        found = _search(list(start), [], target, care, full, depth, seen)
-        if found is not None:
+        found = _search(list(start), [], target, care, full, depth, seen, budget)
+        if found is not None or budget[0] <= 0:
             return found
     return None
 
 
 def _search(nodes: list[int], gates: list[tuple[int, int]], target: int, care: int, full: int, left: int,
-            seen: dict[frozenset[int], int]) -> list[tuple[int, int]] | None:
+            seen: dict[frozenset[int], int], budget: list[int]) -> list[tuple[int, int]] | None:
     """Depth-first: add one gate, at most ``left`` more; return the gate list when the target appears."""
     state = frozenset(nodes)
-    if seen.get(state, -1) >= left:
+    if seen.get(state, -1) >= left or budget[0] <= 0:
         return None
     seen[state] = left
+    budget[0] -= 1
     n = len(nodes)
     if left == 1:
         for i in range(n):
@@ -65,7 +70,7 @@ def _search(nodes: list[int], gates: list[tuple[int, int]], target: int, care: i
             if (f ^ target) & care == 0:
                 return gates + [(i, j)]
             nodes.append(f)
-            found = _search(nodes, gates + [(i, j)], target, care, full, left - 1, seen)
+            found = _search(nodes, gates + [(i, j)], target, care, full, left - 1, seen, budget)
             nodes.pop()
             if found is not None:
                 return found

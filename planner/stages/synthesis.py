@@ -39,6 +39,8 @@ from .simulate import input_patterns, prove
 
 #: Up to this many signals every polarity choice is tried (2**6 networks built).
 MAX_POLARITY_ENUMERATION = 6
+#: Most nets the exact NAND search starts from (the inputs, then the latest nets built).
+EXACT_MAX_START = 14
 #: Passes of coordinate descent over signal polarities above that.
 POLARITY_PASSES = 3
 
@@ -85,6 +87,7 @@ class _Block:
     table: TruthTable
     sop: Cover
     inverted: Cover
+    flat: TruthTable | None = None
 
     @property
     def variables(self) -> tuple[str, ...]:
@@ -144,9 +147,15 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
         if exhaustive and signal_set & set(variables):
             unreachable = table.full & ~_reachable(variables, bits, full)
             table = TruthTable(variables, table.on & ~unreachable, table.dc | unreachable)
-        if exhaustive and kind == "signal":
-            bits[name] = table_from_expr(design.flatten(expr), names).on
-        blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table)))
+        flat = None
+        if exhaustive:
+            flat_expr, flat_dc = design.flatten(expr), design.flatten(dc)
+            if kind == "signal":
+                bits[name] = table_from_expr(flat_expr, names).on
+            support = used_inputs(names, flat_expr, flat_dc)
+            if options.mode == "nand" and len(support) <= EXACT_MAX_VARIABLES:
+                flat = table_from_expr(flat_expr, support, flat_dc)
+        blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
     return blocks
 
 
@@ -200,35 +209,76 @@ class _Assembly:
         heuristic = self._trial(lambda: self.builder.aoi_net(
             [[self.literal(v, s) for v, s in term] for term in cover]))
         best, exact = heuristic, False
-        if self.options.mode == "nand" and len(block.variables) <= EXACT_MAX_VARIABLES:
+        if block.flat is not None:
+            table = block.flat
+            target = table.on if polarity else table.off
             base = self.builder.live_cost(self.roots)
             bound = min(EXACT_MAX_GATES, heuristic[0][1] - base[1] - 1)
             if bound >= 1:
-                trial = self._trial(lambda: self._exact(block, polarity, bound))
+                trial = self._trial(lambda: self._exact(table.names, target, table.care, bound))
+                if trial[2] is None:
+                    trial = self._trial(lambda: self._xor_split(table.names, target, table.care))
                 if trial[2] is not None and trial[0] < heuristic[0]:
                     best, exact = trial, True
         self.builder = best[1]
         return best[2], exact
 
-    def _exact(self, block: _Block, polarity: bool, bound: int) -> str | None:
-        """The minimum NAND circuit of the block from the nets at hand, if within ``bound`` gates."""
-        patterns, full = input_patterns(block.variables)
+    def _xor_split(self, names: tuple[str, ...], target: int, care: int) -> str | None:
+        """``f = x XOR g`` where f's two cofactors on ``x`` are complements (all care):
+        build ``g`` by exact search (or a further split), then f from ``x`` and ``g``."""
+        patterns, full = input_patterns(names)
+        if care != full:
+            return None
+        for k, x in enumerate(names):
+            shift = 1 << (len(names) - 1 - k)
+            low = target & ~patterns[x]
+            g = low | (low << shift)
+            if target == full & (g ^ patterns[x]):
+                part = self._exact(names, g, full, EXACT_MAX_GATES)
+                if part is None:
+                    part = self._xor_split(names, g, full)
+                if part is not None:
+                    return self._exact(names, target, full, EXACT_MAX_GATES)
+        return None
+
+    def _exact(self, names: tuple[str, ...], target: int, care: int, bound: int) -> str | None:
+        """A minimum NAND circuit for ``target`` over the inputs ``names``, from every net at
+        hand that depends on those inputs only (so outputs share gates), within ``bound`` gates."""
+        patterns, full = input_patterns(names)
+        values = dict(patterns)
+        for name in names:
+            if self.builder.has_complement(name) and self.builder.complement(name) == "~" + name:
+                values["~" + name] = full & ~patterns[name]
+        for net, (kind, body) in self.builder.drivers.items():
+            uses = (body,) if kind == "follower" else tuple(x for inputs, _ in body for x in inputs)
+            if all(x in values for x in uses):
+                if kind == "follower":
+                    values[net] = values[body]
+                else:
+                    conducting = 0
+                    for inputs, _ in body:
+                        on = full
+                        for x in inputs:
+                            on &= values[x]
+                        conducting |= on
+                    values[net] = full & ~conducting
         nets, funcs = [], []
-        for var in block.variables:
-            net, pol = self.var_net[var]
-            f = patterns[var] if pol else full & ~patterns[var]
-            nets.append(net)
-            funcs.append(f)
-            if self.builder.has_complement(net):
-                nets.append(self.builder.complement(net))
-                funcs.append(full & ~f)
-        target = block.table.on if polarity else block.table.off
-        key = (tuple(funcs), target, block.table.care, bound)
+        for net, f in values.items():
+            if f not in funcs:
+                nets.append(net)
+                funcs.append(f)
+        primaries = len(names) + sum(1 for x in nets if x.startswith("~"))
+        if len(nets) > EXACT_MAX_START:
+            nets = nets[:primaries] + nets[len(nets) - (EXACT_MAX_START - primaries):]
+            funcs = [values[x] for x in nets]
+        key = (tuple(funcs), target, care, bound)
         if key not in self.cache:
-            self.cache[key] = nand_circuit(funcs, target, block.table.care, full, bound)
+            self.cache[key] = nand_circuit(funcs, target, care, full, bound)
         gates = self.cache[key]
         if gates is None:
             return None
+        if not gates:
+            return next(net for net, f in zip(nets, funcs) if (f ^ target) & care == 0)
         for i, j in gates:
             nets.append(self.builder.complement(nets[i]) if i == j else self.builder.stage([[nets[i], nets[j]]]))
         return nets[-1]
