@@ -1,0 +1,101 @@
+"""Budgets of a plan, laid out for reports: heater per winding, plate, bias, heat, resistors.
+
+Everything here is read from the Plan or is a sum or a product of figures in it;
+the plan itself is never recomputed. Two rules of thumb are applied, both common
+practice and stated in every report:
+
+- Cold-start surge: a tungsten heater's cold resistance is roughly a fifth to a
+  seventh of its hot resistance, so at switch-on a winding can deliver up to 5
+  to 7 times its running current until the heaters warm (a few seconds; the
+  winding's own resistance limits it in practice).
+- Transformer headroom: rate each winding and supply about 25 % above the load
+  it carries.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from planner.mapping import Plan
+
+#: Cold-to-hot resistance ratios of tungsten heaters (common practice): 1/5 to 1/7.
+SURGE_FACTORS = (5.0, 7.0)
+#: Rating headroom over the planned load for transformers and supplies (common practice).
+HEADROOM = 0.25
+
+
+@dataclass(frozen=True)
+class WindingBudget:
+    """One heater winding: its load in amps and watts, its rating and cold-start surge."""
+
+    id: str
+    volts: float
+    amps: float
+    max_amps: float
+    watts: float
+    surge_amps_low: float
+    surge_amps_high: float
+    rating_amps: float
+    envelopes: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class RailBudget:
+    """A DC rail: its volts, the planned current (worst case and typical) and what it may give."""
+
+    name: str
+    volts: float
+    ma_worst: float
+    ma_typical: float
+    max_ma: float
+    watts_worst: float
+    rating_ma: float
+
+
+@dataclass(frozen=True)
+class ResistorLoad:
+    """One resistor: its value, planned dissipation and rating."""
+
+    ref: str
+    value: str
+    role: str
+    stage: str | None
+    watts: float
+    rating_watts: float | None
+
+
+@dataclass(frozen=True)
+class Budgets:
+    """All budgets of a plan (currents in A or mA as named, power in W)."""
+
+    windings: tuple[WindingBudget, ...]
+    heater_watts: float
+    plate: RailBudget
+    bias: RailBudget
+    heat_watts: float
+    resistor_watts: float
+    resistors: tuple[ResistorLoad, ...]
+
+
+def plan_budgets(plan: Plan) -> Budgets:
+    """The budgets of ``plan`` for reporting. Cost O(parts + envelopes).
+
+    Heat to get rid of is every watt the supplies deliver: heater watts, plate
+    volts times the worst-case plate current, and bias volts (magnitude) times
+    the bias current; it all ends up as heat in the chassis.
+    """
+    b = plan.budget
+    low, high = SURGE_FACTORS
+    windings = tuple(
+        WindingBudget(w.id, w.volts, w.amps, w.max_amps, w.volts * w.amps, w.amps * low, w.amps * high,
+                      w.amps * (1 + HEADROOM),
+                      tuple(e.ref for e in plan.envelopes if e.winding == w.id))
+        for w in b.windings)
+    plate = RailBudget("B+", plan.plate_volts, b.plate_ma_worst, b.plate_ma_typical, b.plate_max_ma,
+                       plan.plate_volts * b.plate_ma_worst / 1000.0, b.plate_ma_worst * (1 + HEADROOM))
+    bias = RailBudget("BIAS", plan.bias_volts, b.bias_ma, b.bias_ma, b.bias_max_ma,
+                      abs(plan.bias_volts) * b.bias_ma / 1000.0, b.bias_ma * (1 + HEADROOM))
+    resistors = tuple(ResistorLoad(p.ref, p.value, p.role, p.stage, p.dissipation_watts or 0.0, p.watts_rating)
+                      for p in plan.parts if p.kind == "resistor")
+    return Budgets(windings, b.heater_watts, plate, bias, b.heater_watts + plate.watts_worst + bias.watts_worst,
+                   sum(r.watts for r in resistors), resistors)

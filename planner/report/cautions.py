@@ -1,0 +1,33 @@
+"""Safety cautions carried by every human-facing output of a plan.
+
+Plain words, our own; the figures in a plan are planning estimates, never a
+safety approval.
+"""
+
+from __future__ import annotations
+
+#: (heading, text) pairs, in the order every report shows them.
+CAUTIONS: tuple[tuple[str, str], ...] = (
+    ("High voltage can kill",
+     "The plate supply of this build runs at hundreds of volts DC. That is enough to stop a heart. "
+     "Never work on the circuit with the supply on; keep one hand away from the chassis when you "
+     "measure; use insulated probes rated for the voltage."),
+    ("Stored charge",
+     "Filter and reservoir capacitors keep their charge long after switch-off. Discharge them "
+     "through a suitable resistor and measure that they are at zero before you touch any wiring."),
+    ("Heater currents",
+     "Heater windings carry several amperes, and more at switch-on while the filaments are cold. "
+     "Size wire, fuses and switches for the cold-start surge given with the heater budget, and fuse every winding."),
+    ("Hot glass",
+     "Tube envelopes and power resistors run hot enough to burn skin and to char nearby "
+     "insulation. Leave air around them and let them cool before handling."),
+    ("Codes and licensed practice",
+     "This plan is a design aid, not a safety approval. Build, earth and test mains-powered "
+     "equipment to your local electrical codes, and have the work checked by someone licensed "
+     "to do so where that is required."),
+)
+
+
+def caution_lines() -> tuple[str, ...]:
+    """The cautions as one line each: ``"HEADING: text"``."""
+    return tuple(f"{heading.upper()}: {text}" for heading, text in CAUTIONS)

@@ -1,0 +1,92 @@
+"""plan.json: the plan document of docs/outputs.md (schema 1), built from a Plan only.
+
+The required fields are the contract in DESIGN.md ("The plan document"); the
+extra fields (levels, views, resistor values, the parts netlist, the solver's
+account) are allowed by it. The solver's wall-clock time is left out so that
+the same plan always gives the same bytes.
+"""
+
+from __future__ import annotations
+
+import json
+
+from planner.mapping import Plan
+
+SCHEMA = 1
+
+
+def _num(value: float | None) -> float | None:
+    """A float rounded to 9 significant digits (no binary noise like 0.30000000000000004)."""
+    return None if value is None else float(f"{value:.9g}")
+
+
+def _stage(stage) -> dict:
+    entry = {"id": stage.id, "kind": stage.kind, "output": stage.output, "view": stage.view,
+             "fanout": stage.fanout, "fanout_limit": stage.fanout_limit,
+             "supply_ma_worst": _num(stage.supply_ma_worst),
+             "supply_ma_typical": _num(stage.supply_ma_typical),
+             "bias_ma_worst": _num(stage.bias_ma_worst)}
+    if stage.kind == "follower":
+        entry.update(input=stage.input, tube=stage.tube, envelope=stage.envelope, section=stage.section,
+                     load_ohms=_num(stage.load_ohms))
+    else:
+        entry["branches"] = [{"inputs": list(b.inputs), "tube": b.tube, "envelope": b.envelope,
+                              "section": b.section, "means": b.means, "diodes": list(b.diodes)}
+                             for b in stage.branches]
+        entry["plate_load_ohms"] = _num(stage.plate_load_ohms)
+    return entry
+
+
+def _part(part) -> dict:
+    entry = {"ref": part.ref, "kind": part.kind, "value": part.value, "role": part.role,
+             "stage": part.stage, "pins": [{"pin": pin, "net": net} for pin, net in part.pins]}
+    for name in ("ohms", "farads", "watts_rating", "dissipation_watts", "tolerance"):
+        value = getattr(part, name)
+        if value is not None:
+            entry[name] = _num(value)
+    if part.tube is not None:
+        entry["tube"] = part.tube
+    return entry
+
+
+def plan_document(plan: Plan) -> dict:
+    """The plan document as plain JSON data (dicts, lists, strings, numbers).
+
+    Cost O(size of the plan). Lists keep the plan's order (stages in
+    topological order, envelopes and parts by designator).
+    """
+    budget = plan.budget
+    return {
+        "schema": SCHEMA,
+        "design": plan.design,
+        "inputs": [{"name": name, "complement_available": complement} for name, complement in plan.inputs],
+        "outputs": dict(plan.outputs),
+        "forms": dict(plan.forms),
+        "levels": {"plate_volts": _num(plan.plate_volts), "bias_volts": _num(plan.bias_volts),
+                   "high_volts": _num(plan.high_volts), "low_volts": _num(plan.low_volts)},
+        "stages": [_stage(stage) for stage in plan.stages],
+        "envelopes": [{"ref": e.ref, "tube": e.tube, "base": e.base, "winding": e.winding,
+                       "heater_connection": e.heater_connection, "heater_volts": _num(e.heater_volts),
+                       "heater_amps": _num(e.heater_amps),
+                       "sections": [{"index": s.index, "means": s.means, "stage": s.stage,
+                                     "nets": dict(s.nets)} for s in e.sections]}
+                      for e in plan.envelopes],
+        "parts": [_part(part) for part in plan.parts],
+        "budget": {"heater_watts": _num(budget.heater_watts),
+                   "windings": [{"id": w.id, "volts": _num(w.volts), "amps": _num(w.amps),
+                                 "max_amps": _num(w.max_amps)} for w in budget.windings],
+                   "plate_ma_worst": _num(budget.plate_ma_worst),
+                   "plate_ma_typical": _num(budget.plate_ma_typical),
+                   "bias_ma": _num(budget.bias_ma),
+                   "plate_max_ma": _num(budget.plate_max_ma), "bias_max_ma": _num(budget.bias_max_ma)},
+        "stock": [{"tube": s.tube, "on_hand": s.on_hand, "reserve": s.reserve, "used": s.used,
+                   "scarce": s.scarce} for s in plan.stock],
+        "solution": {"solver": plan.solution.solver, "status": plan.solution.status,
+                     "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
+                     "gap": _num(plan.solution.gap)},
+    }
+
+
+def plan_json(plan: Plan) -> str:
+    """plan.json text: ``json.dumps(plan_document(plan), indent=2, sort_keys=True)`` and a newline."""
+    return json.dumps(plan_document(plan), indent=2, sort_keys=True) + "\n"

@@ -1,0 +1,300 @@
+"""Drawings of the plan's stage templates, made with schemdraw and rendered to inline SVG.
+
+schemdraw's tube symbols are not used: the symbol is composed here from its
+primitives (a circle with plate, grid and cathode lines) so that every section
+kind of the catalogue, including two control grids, is drawn the same way.
+A stage is drawn from the plan's parts list: the plate load and the dividers
+are the resistors the netlist puts on the stage's nets, with their values.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import schemdraw
+import schemdraw.elements as elm
+from schemdraw.segments import Segment, SegmentCircle, SegmentText
+
+from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedStage, Plan
+
+from .designators import natural_key
+
+_GRID_Y = {"grid": -0.4, "screen": 0.0, "grid3": 0.4}
+_RAIL_TEXT = {PLATE_RAIL: "B+", BIAS_RAIL: "BIAS", GROUND: "0 V"}
+
+
+class TubeSymbol(elm.Element):
+    """A tube section: envelope circle, plate, dashed grids (g1, screen, g3 as present), cathode.
+
+    Anchors: ``plate`` (top), ``cathode`` (bottom), ``grid`` and ``grid3``
+    (left), ``screen`` (right); the centre is the element's origin.
+    """
+
+    def __init__(self, electrodes=("grid",), caption: str = "", **kwargs):
+        super().__init__(**kwargs)
+        self.segments.append(SegmentCircle((0, 0), 1.0))
+        self.segments.append(Segment([(-0.42, 0.62), (0.42, 0.62)]))
+        self.segments.append(Segment([(0, 0.62), (0, 1.5)]))
+        self.segments.append(Segment([(-0.42, -0.62), (0.42, -0.62)]))
+        self.segments.append(Segment([(0, -0.62), (0, -1.5)]))
+        self.anchors["plate"], self.anchors["cathode"] = (0, 1.5), (0, -1.5)
+        for electrode in electrodes:
+            y = _GRID_Y[electrode]
+            for x in (-0.45, -0.15, 0.15):
+                self.segments.append(Segment([(x, y), (x + 0.22, y)]))
+            if electrode == "screen":
+                self.segments.append(Segment([(0.37, y), (1.5, y)]))
+                self.anchors["screen"] = (1.5, y)
+            else:
+                self.segments.append(Segment([(-0.45, y), (-1.5, y)]))
+                self.anchors[electrode] = (-1.5, y)
+        if caption:
+            self.segments.append(SegmentText((0.75, -1.0), caption, align=("left", "top"), fontsize=10))
+
+
+class Text(elm.Element):
+    """A free text at its origin, aligned by (halign, valign)."""
+
+    def __init__(self, text: str, align=("left", "center"), fontsize: float = 11, **kwargs):
+        super().__init__(**kwargs)
+        self.segments.append(SegmentText((0, 0), text, align=align, fontsize=fontsize))
+        # schemdraw does not measure text for the bounding box: an invisible line of about its width does
+        width = len(text) * fontsize * 0.6 / 36.0
+        start = {"left": 0.0, "center": -width / 2, "right": -width}[align[0]]
+        self.segments.append(Segment([(start, 0), (start + width, 0)], visible=False))
+
+
+@dataclass(frozen=True)
+class Template:
+    """Stages built alike (same view, tubes, means and resistor values), drawn once."""
+
+    title: str
+    stages: tuple[str, ...]
+    svg: str
+
+
+def _value(part: Part) -> str:
+    return f"{part.ref} {part.value}"
+
+
+class _Netlist:
+    """Look-ups on the parts list used while drawing."""
+
+    def __init__(self, plan: Plan):
+        self.parts = plan.parts
+        self.tubes = {p.ref: p for p in plan.parts if p.kind == "tube"}
+        self.sections = {(e.ref, s.index): dict(s.nets) for e in plan.envelopes for s in e.sections}
+
+    def two_terminal(self, net: str, kind: str = "resistor") -> list[tuple[Part, str]]:
+        """Parts of ``kind`` with a pin on ``net``, each with the net at its other end."""
+        out = []
+        for part in self.parts:
+            if part.kind != kind:
+                continue
+            nets = [n for _, n in part.pins]
+            if net in nets:
+                other = [n for n in nets if n != net]
+                out.append((part, other[0] if other else net))
+        return sorted(out, key=lambda item: natural_key(item[0].ref))
+
+    def diodes_from(self, grid: str) -> list[tuple[Part, str]]:
+        """Diodes with their anode on ``grid``, each with its cathode net."""
+        out = []
+        for part in self.parts:
+            if part.kind == "diode" and dict(part.pins).get("A") == grid:
+                out.append((part, dict(part.pins)["K"]))
+        return sorted(out, key=lambda item: natural_key(item[0].ref))
+
+
+def _rail_label(d, at, rail: str, direction: str) -> None:
+    text = _RAIL_TEXT.get(rail, rail)
+    if direction == "down" and rail == GROUND:
+        d.add(elm.Ground().at(at).theta(0))
+    else:
+        x, y = at
+        _text(d, (x, y + 0.3 if direction == "up" else y - 0.3), text,
+              ("center", "bottom" if direction == "up" else "top"))
+
+
+def _text(d, at, text: str, align, fontsize: float = 11) -> None:
+    d.add(Text(text, align=align, fontsize=fontsize).at(at).theta(0))
+
+
+def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool, drawn_inputs: set) -> None:
+    """Draw what drives a grid at ``node_xy``: its divider (input, upper, lower) or a direct input."""
+    x, y = node_xy
+    resistors = net.two_terminal(grid_net)
+    upper = [(p, other) for p, other in resistors if other not in _RAIL_TEXT]
+    lower = [(p, other) for p, other in resistors if other in _RAIL_TEXT]
+    diodes = net.diodes_from(grid_net)
+    if diodes:
+        for part, rail in lower:  # the grid's return resistor
+            end = (x, y - 2.5)
+            d.add(elm.Resistor().at((x, y)).to(end).label(_value(part), loc="bottom", fontsize=10))
+            _rail_label(d, end, rail, "down")
+        diode, tap = diodes[0]
+        d.add(elm.Dot().at((x, y)))
+        tap_xy = (x - 3.0, y)
+        d.add(elm.Diode().at(tap_xy).to((x, y)).label(f"{diode.ref}", loc="top", fontsize=10))
+        inputs = [t for _, t in diodes]
+        _text(d, (x - 1.5, y - 0.9), f"one diode and divider per input ({len(diodes)}: "
+                                     f"{', '.join(_input_names(net, inputs))})", ("center", "top"), 9)
+        _feed(d, net, tap_xy, tap, upward_return, drawn_inputs)
+        return
+    if not upper:
+        d.add(elm.Line().at((x, y)).to((x - 1.0, y)))
+        _text(d, (x - 1.2, y), grid_net, ("right", "center"))
+        return
+    part, source = upper[0]
+    d.add(elm.Dot().at((x, y)))
+    start = (x - 3.0, y)
+    d.add(elm.Resistor().at(start).to((x, y)).label(_value(part), loc="top" if upward_return else "bottom",
+                                                     fontsize=10))
+    _text(d, (start[0] - 0.2, y), source, ("right", "center"))
+    for part, rail in lower[:1]:
+        end = (x, y + 2.0) if upward_return else (x, y - 2.5)
+        d.add(elm.Resistor().at((x, y)).to(end).label(_value(part), loc="bottom", fontsize=10))
+        _rail_label(d, end, rail, "up" if upward_return else "down")
+
+
+def _input_names(net: _Netlist, taps) -> list[str]:
+    names = []
+    for tap in taps:
+        sources = [other for _, other in net.two_terminal(tap) if other not in _RAIL_TEXT]
+        names.append(sources[0] if sources else tap)
+    return names
+
+
+def _section_electrodes(nets: dict) -> tuple[str, ...]:
+    return tuple(role for role in ("grid", "screen", "grid3") if role in nets)
+
+
+def _draw_section(d, net: _Netlist, centre, nets: dict, label: str, drawn: set) -> TubeSymbol:
+    tube = d.add(TubeSymbol(_section_electrodes(nets), caption=label).at(centre).theta(0))
+    for role, upward in (("grid", False), ("grid3", True)):
+        if role in nets:
+            gx, gy = tube.absanchors[role]
+            node = (gx - 1.0, gy)
+            d.add(elm.Line().at((gx, gy)).to(node))
+            _feed(d, net, node, nets[role], upward, drawn)
+    if "screen" in nets:
+        sx, sy = tube.absanchors["screen"]
+        feeds = [(p, o) for p, o in net.two_terminal(nets["screen"]) if o == PLATE_RAIL]
+        if feeds:
+            end = (sx + 2.5, sy)
+            d.add(elm.Resistor().at((sx, sy)).to(end).label(_value(feeds[0][0]), loc="top", fontsize=10))
+            _text(d, (end[0] + 0.2, sy), "B+", ("left", "center"))
+        else:
+            d.add(elm.Line().at((sx, sy)).to((sx + 1.0, sy)))
+            _text(d, (sx + 1.2, sy), nets["screen"], ("left", "center"))
+    kx, ky = tube.absanchors["cathode"]
+    cathode = nets.get("cathode", GROUND)
+    if cathode == GROUND:
+        d.add(elm.Ground().at((kx, ky)).theta(0))
+    else:
+        _text(d, (kx, ky - 0.2), cathode, ("center", "top"))
+    return tube
+
+
+def _draw_inverting(stage: PlacedStage, net: _Netlist, plan: Plan) -> str:
+    d = schemdraw.Drawing(canvas="svg", show=False)
+    d.config(fontsize=11, lw=1.4)
+    drawn: set = set()
+    plates = []
+    x = 0.0
+    for branch in stage.branches:
+        nets = net.sections.get((branch.envelope, branch.section), {})
+        x += 7.0
+        centre = (x, 0.0)
+        x += 6.0 if "screen" in nets else 2.5
+        tube = _draw_section(d, net, centre, nets, f"{branch.envelope}.{branch.section} {branch.tube}", drawn)
+        plates.append(tube.absanchors["plate"])
+    bus_y = 4.2
+    for px, py in plates:
+        d.add(elm.Line().at((px, py)).to((px, bus_y)))
+    right = (plates[-1][0] + 5.0) if plates else 7.0
+    left = plates[0][0] if plates else right
+    d.add(elm.Line().at((left, bus_y)).to((right, bus_y)))
+    loads = [(p, o) for p, o in net.two_terminal(stage.output) if o == PLATE_RAIL]
+    top = (right, bus_y + 3.0)
+    d.add(elm.Dot().at((right, bus_y)))
+    if loads:
+        d.add(elm.Resistor().at((right, bus_y)).to(top).label(_value(loads[0][0]), loc="bottom", fontsize=10))
+    else:
+        d.add(elm.Line().at((right, bus_y)).to(top))
+    _rail_label(d, top, PLATE_RAIL, "up")
+    outputs = [name for name, n in plan.outputs if n == stage.output]
+    text = stage.output + (f" = {', '.join(outputs)}" if outputs else "")
+    d.add(elm.Line().at((right, bus_y)).to((right + 2.5, bus_y)))
+    d.add(elm.Dot(open=True).at((right + 2.5, bus_y)))
+    _text(d, (right + 2.8, bus_y), text, ("left", "center"))
+    return _svg(d)
+
+
+def _draw_follower(stage: PlacedStage, net: _Netlist, plan: Plan) -> str:
+    d = schemdraw.Drawing(canvas="svg", show=False)
+    d.config(fontsize=11, lw=1.4)
+    nets = net.sections.get((stage.envelope, stage.section), {"grid": stage.input, "cathode": stage.output})
+    tube = d.add(TubeSymbol(("grid",), caption=f"{stage.envelope}.{stage.section} {stage.tube}")
+                 .at((7.0, 0.0)).theta(0))
+    px, py = tube.absanchors["plate"]
+    d.add(elm.Line().at((px, py)).to((px, py + 1.0)))
+    _rail_label(d, (px, py + 1.0), PLATE_RAIL, "up")
+    gx, gy = tube.absanchors["grid"]
+    node = (gx - 1.0, gy)
+    d.add(elm.Line().at((gx, gy)).to(node))
+    _feed(d, net, node, nets.get("grid", stage.input), False, set())
+    kx, ky = tube.absanchors["cathode"]
+    k = (kx, ky - 1.0)
+    d.add(elm.Line().at((kx, ky)).to(k))
+    d.add(elm.Dot().at(k))
+    loads = [(p, o) for p, o in net.two_terminal(stage.output) if o in (BIAS_RAIL, GROUND)]
+    if loads:
+        end = (kx, k[1] - 3.0)
+        d.add(elm.Resistor().at(k).to(end).label(_value(loads[0][0]), loc="bottom", fontsize=10))
+        _rail_label(d, end, loads[0][1], "down")
+    outputs = [name for name, n in plan.outputs if n == stage.output]
+    text = stage.output + (f" = {', '.join(outputs)}" if outputs else "")
+    d.add(elm.Line().at(k).to((kx + 3.0, k[1])))
+    d.add(elm.Dot(open=True).at((kx + 3.0, k[1])))
+    _text(d, (kx + 3.3, k[1]), text, ("left", "center"))
+    return _svg(d)
+
+
+def _svg(d) -> str:
+    """The drawing as an inline SVG element of class "schematic" (the report's CSS scales it)."""
+    text = d.get_imagedata("svg").decode("utf-8")
+    return re.sub(r"^<svg ", '<svg class="schematic" ', text, count=1)
+
+
+def _signature(stage: PlacedStage, net: _Netlist) -> tuple:
+    """What makes two stages the same template: view, tubes and means, and the resistor values."""
+    values = tuple(sorted((p.role, p.value) for p in net.parts if p.stage == stage.id and p.kind != "tube"))
+    if stage.kind == "follower":
+        return (stage.kind, stage.view, stage.tube, values)
+    branches = tuple(sorted((b.means, b.tube, len(b.inputs)) for b in stage.branches))
+    return (stage.kind, stage.view, branches, values)
+
+
+def stage_templates(plan: Plan) -> tuple[Template, ...]:
+    """One drawing per distinct stage template of the plan, drawn from its first stage.
+
+    Cost: one schemdraw drawing per template (a few milliseconds each).
+    """
+    net = _Netlist(plan)
+    groups: dict[tuple, list[PlacedStage]] = {}
+    for stage in plan.stages:
+        groups.setdefault(_signature(stage, net), []).append(stage)
+    templates = []
+    for members in groups.values():
+        first = members[0]
+        if first.kind == "follower":
+            title = f"follower on {first.tube}"
+            svg = _draw_follower(first, net, plan)
+        else:
+            tubes = sorted({b.tube for b in first.branches})
+            title = f"{first.view} on {', '.join(tubes)}"
+            svg = _draw_inverting(first, net, plan)
+        templates.append(Template(title, tuple(s.id for s in members), svg))
+    return tuple(templates)

@@ -1,0 +1,212 @@
+"""The SPICE deck of a plan (plan.cir) and a batch runner for ngspice.
+
+The deck is plain SPICE that ``ngspice -b`` runs: the plan's parts list as a
+netlist, tube sections as the catalogue's subcircuits (``spice_subcircuit``,
+the same equations as the Python models), the rails (B+, BIAS, GND = node 0),
+one source per primary input (and its complement, where declared) whose logic
+value is a ``.param in_NAME=0|1`` line, a 0 V source naming each design
+output's node ``out_NAME``, and an ``.op`` analysis. Heater pins are not part
+of the DC logic circuit and are left out.
+"""
+
+from __future__ import annotations
+
+import re
+import shutil
+import subprocess
+import tempfile
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from planner.catalogue import Catalogue, spice_nodes, spice_subcircuit, subcircuit_name
+from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Plan
+
+from .designators import natural_key
+
+#: A generic small-signal silicon junction diode (from memory: typical of
+#: 100 V, 200 mA signal diodes; the plan's margins do not hinge on it).
+SILICON_DIODE_MODEL = ".model d_silicon D(IS=2.5n N=1.8 RS=0.6 BV=100 IBV=100u CJO=4p)"
+
+
+
+@dataclass(frozen=True)
+class SpiceDeck:
+    """A deck and the names in it: ``params`` input -> parameter, ``outputs`` output -> node,
+    ``nodes`` plan net -> SPICE node."""
+
+    text: str
+    params: tuple[tuple[str, str], ...]
+    outputs: tuple[tuple[str, str], ...]
+    nodes: tuple[tuple[str, str], ...]
+    high_volts: float
+    low_volts: float
+
+    def with_inputs(self, values: Mapping[str, int]) -> str:
+        """The deck text with each input's ``.param`` line set to ``values[input]`` (0 or 1)."""
+        text = self.text
+        for name, param in self.params:
+            if name in values:
+                text = re.sub(rf"(?m)^\.param {re.escape(param)}=\d$", f".param {param}={int(values[name])}",
+                              text)
+        return text
+
+
+def sanitise(name: str) -> str:
+    """A SPICE-safe spelling of a net or design name: lower case, letters, digits, '_'.
+
+    SPICE folds case and reads '+', '.' and '~' specially, so '~' becomes
+    ``not_``, '+' becomes ``plus``, any other character '_'.
+
+    >>> [sanitise(x) for x in ("~a", "B+", "n3.g1", "Cin")]
+    ['not_a', 'bplus', 'n3_g1', 'cin']
+    """
+    text = name.replace("~", "not_").replace("+", "plus")
+    text = re.sub(r"[^A-Za-z0-9_]", "_", text).lower()
+    return text or "_"
+
+
+class _Names:
+    """Allocates distinct SPICE names (case-folded), suffixing ``_2``, ``_3`` on a clash."""
+
+    def __init__(self, reserved=()):
+        self.used = {r.lower() for r in reserved}
+
+    def take(self, wanted: str) -> str:
+        name, k = wanted, 1
+        while name in self.used:
+            k += 1
+            name = f"{wanted}_{k}"
+        self.used.add(name)
+        return name
+
+
+def _num(value: float) -> str:
+    return f"{value:.6g}"
+
+
+def _element(letter: str, ref: str) -> str:
+    """A SPICE element name of class ``letter`` for designator ``ref`` (R5 stays R5, V1 -> XV1)."""
+    return ref if ref[:1].upper() == letter else f"{letter}{ref}"
+
+
+def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
+    """The SPICE deck of ``plan``, every input at logic 0. Cost O(parts).
+
+    Node names: every plan net sanitised (``sanitise``), made distinct in the
+    natural order of the nets; GND is node 0.
+    """
+    nets = {GROUND, PLATE_RAIL, BIAS_RAIL}
+    for part in plan.parts:
+        nets.update(net for _, net in part.pins)
+    nets.update(name for name, _ in plan.inputs)
+    nets.update(f"~{name}" for name, complement in plan.inputs if complement)
+    nets.update(net for _, net in plan.outputs)
+    names = _Names(reserved=("0",))
+    nodes = {GROUND: "0"}
+    for net in sorted(nets - {GROUND}, key=natural_key):
+        nodes[net] = names.take(sanitise(net))
+    out_nodes = {name: names.take("out_" + sanitise(name)) for name, _ in sorted(plan.outputs)}
+    params_names = _Names()
+    params = {name: params_names.take("in_" + sanitise(name)) for name, _ in plan.inputs}
+
+    lines = [f"* tubeplan deck: {plan.design}",
+             f"* inputs: .param in_NAME=1 drives logic high ({plan.high_volts:g} V), 0 logic low "
+             f"({plan.low_volts:g} V); outputs are nodes out_NAME",
+             "* CAUTION: the circuit this deck describes runs at lethal voltages.",
+             "",
+             f".param logic_high={_num(plan.high_volts)} logic_low={_num(plan.low_volts)}"]
+    lines += [f".param {params[name]}=0" for name, _ in plan.inputs]
+    lines += ["", "* supplies",
+              f"V_bplus {nodes[PLATE_RAIL]} 0 {_num(plan.plate_volts)}",
+              f"V_bias {nodes[BIAS_RAIL]} 0 {_num(plan.bias_volts)}",
+              "", "* primary inputs"]
+    for name, complement in plan.inputs:
+        p = params[name]
+        lines.append(f"V_{p} {nodes[name]} 0 {{{p}*logic_high + (1-{p})*logic_low}}")
+        if complement:
+            lines.append(f"V_not_{p} {nodes['~' + name]} 0 "
+                         f"{{(1-{p})*logic_high + {p}*logic_low}}")
+    lines += ["", "* design outputs"]
+    lines += [f"V_{out_nodes[name]} {nodes[net]} {out_nodes[name]} 0" for name, net in sorted(plan.outputs)]
+
+    subckts: dict[str, str] = {}
+    body = ["", "* parts"]
+    diode_model = False
+    for part in plan.parts:
+        pins = dict(part.pins)
+        if part.kind == "resistor":
+            body.append(f"{_element('R', part.ref)} {nodes[pins['1']]} {nodes[pins['2']]} {_num(part.ohms)}")
+        elif part.kind == "capacitor":
+            body.append(f"{_element('C', part.ref)} {nodes[pins['1']]} {nodes[pins['2']]} {_num(part.farads)}")
+        elif part.kind == "diode":
+            body.append(f"{_element('D', part.ref)} {nodes[pins['A']]} {nodes[pins['K']]} d_silicon")
+            diode_model = True
+        elif part.kind == "tube":
+            tube = catalogue.get(part.tube or part.value)
+            for section in tube.sections:
+                name = subcircuit_name(tube, section.kind)
+                subckts.setdefault(name, spice_subcircuit(tube, section.kind))
+                wired = [pins.get(str(section.pins[role])) if role in section.pins else None
+                         for role in spice_nodes(tube, section.kind)]
+                if None in wired:
+                    body.append(f"* {part.ref} section {section.index} not wired")
+                    continue
+                body.append(f"X{part.ref}_{section.index} {' '.join(nodes[n] for n in wired)} {name}")
+    lines += body
+    lines += ["", "* models"]
+    if diode_model:
+        lines.append(SILICON_DIODE_MODEL)
+    for name in sorted(subckts):
+        lines.append(subckts[name].strip())
+    lines += ["", ".op", ".end", ""]
+    return SpiceDeck("\n".join(lines), tuple((n, params[n]) for n, _ in plan.inputs),
+                     tuple(sorted(out_nodes.items())), tuple(sorted(nodes.items())),
+                     plan.high_volts, plan.low_volts)
+
+
+def ngspice_path() -> str | None:
+    """The ngspice executable on PATH, or None."""
+    return shutil.which("ngspice")
+
+
+def simulate(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, executable: str | None = None,
+             timeout_s: float = 120.0) -> tuple[dict[str, float], ...]:
+    """Output node volts (design output -> V) for each input vector, in one ngspice run.
+
+    The deck's ``.op`` is replaced by a ``.control`` block that, per vector,
+    sets the input parameters (``alterparam``), re-loads the circuit
+    (``reset``), runs ``op`` and prints every output node. Raises
+    RuntimeError when ngspice fails or prints fewer results than asked.
+    Cost: one ngspice process, one operating point a vector.
+    """
+    executable = executable or ngspice_path()
+    if executable is None:
+        raise RuntimeError("ngspice is not on PATH")
+    control = [".control", "set noaskquit"]
+    for k, vector in enumerate(vectors):
+        control += [f"alterparam {param}={int(vector[name])}" for name, param in deck.params if name in vector]
+        control += ["reset", "op", f"echo @@vector {k}"]
+        control += [f"print v({node})" for _, node in deck.outputs]
+    control += ["quit", ".endc"]
+    text = deck.text.replace("\n.op\n", "\n" + "\n".join(control) + "\n")
+    with tempfile.TemporaryDirectory(prefix="tubeplan-spice-") as tmp:
+        path = Path(tmp) / "vectors.cir"
+        path.write_text(text)
+        done = subprocess.run([executable, "-b", str(path)], capture_output=True, text=True, timeout=timeout_s,
+                              cwd=tmp)
+    results: list[dict[str, float]] = []
+    by_node = {node: name for name, node in deck.outputs}
+    for line in done.stdout.splitlines():
+        if line.startswith("@@vector"):
+            results.append({})
+            continue
+        match = re.match(r"\s*v\((\S+)\)\s*=\s*(\S+)", line)
+        if match and results and match.group(1) in by_node:
+            results[-1][by_node[match.group(1)]] = float(match.group(2))
+    complete = len(results) == len(vectors) and all(len(r) == len(deck.outputs) for r in results)
+    if done.returncode != 0 or not complete:
+        tail = "\n".join((done.stdout + done.stderr).splitlines()[-15:])
+        raise RuntimeError(f"ngspice failed (status {done.returncode}, {len(results)} of {len(vectors)} "
+                           f"vectors):\n{tail}")
+    return tuple(results)
