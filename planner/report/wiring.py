@@ -54,15 +54,22 @@ def wiring_rows(plan: Plan, catalogue: Catalogue) -> tuple[Connection, ...]:
     Each (part, pin) of the parts list appears exactly once. Cost O(pins log pins).
     """
     rows = []
+    users = {(e.ref, s.index): s.stage for e in plan.envelopes for s in e.sections}
     for part in plan.parts:
+        stages: dict[str, str | None] = {}
         if part.kind == "tube":
-            functions = tube_pin_functions(catalogue.get(part.tube or part.value))
-            label = f"{part.tube or part.value} tube"
+            tube = catalogue.get(part.tube or part.value)
+            functions = tube_pin_functions(tube)
+            label = f"{tube.name} tube"
+            for section in tube.sections:  # a tube pin belongs to the stage its section serves
+                for pin in section.pins.values():
+                    stages.setdefault(str(pin), users.get((part.ref, section.index)))
         else:
             functions = _TWO_TERMINAL.get(part.kind, {})
             label = f"{part.value} {part.kind}"
         for pin, net in part.pins:
-            rows.append(Connection(net, part.ref, pin, functions.get(pin, ""), label, part.stage))
+            rows.append(Connection(net, part.ref, pin, functions.get(pin, ""), label,
+                                   stages.get(pin, part.stage)))
     return tuple(sorted(rows, key=lambda c: (natural_key(c.net), natural_key(c.ref), natural_key(c.pin))))
 
 

@@ -1,0 +1,128 @@
+"""The SPICE deck: names, structure, and the truth table reproduced in ngspice (Debian package ngspice)."""
+
+from __future__ import annotations
+
+import dataclasses
+import re
+import subprocess
+from itertools import product
+
+import pytest
+
+from planner.catalogue import builtin_catalogue
+from planner.report import ngspice_path, sanitise, simulate, spice_deck
+from test_report_fixtures import FIXTURE_LOGIC, fixture_plan
+
+needs_ngspice = pytest.mark.skipif(ngspice_path() is None,
+                                   reason="ngspice is not installed (Debian package ngspice)")
+
+
+def _nodes_of(text):
+    """Node names of every element line (R, C, D, V, X) of a deck."""
+    nodes = set()
+    for line in text.splitlines():
+        words = line.split()
+        if not words or words[0][0] in "*.+" or line.startswith(" "):
+            continue
+        kind = words[0][0].upper()
+        if kind in "RCDV":
+            nodes.update(words[1:3])
+        elif kind == "X":
+            nodes.update(words[1:-1])
+    return nodes
+
+
+def _top_level(text):
+    """The deck without its .subckt blocks."""
+    return re.sub(r"(?ms)^\.subckt.*?^\.ends[^\n]*\n", "", text)
+
+
+def test_node_names_are_sanitised():
+    deck = spice_deck(fixture_plan(), builtin_catalogue())
+    nodes = _nodes_of(_top_level(deck.text))
+    assert nodes and all(re.fullmatch(r"[a-z0-9_]+", n) for n in nodes), nodes
+    assert {"bplus", "bias", "0", "not_b", "s2_g1", "out_y", "out_z", "out_w"} <= nodes
+    assert dict(deck.nodes)["~b"] == "not_b" and dict(deck.nodes)["GND"] == "0"
+    assert sanitise("~q.x+") == "not_q_xplus"
+
+
+def test_names_that_fold_together_stay_distinct():
+    """SPICE ignores case: inputs A and a must not share a node or a parameter."""
+    plan = fixture_plan()
+    plan = dataclasses.replace(plan, inputs=plan.inputs + (("A", False),))
+    deck = spice_deck(plan, builtin_catalogue())
+    params = dict(deck.params)
+    assert params["a"] != params["A"] and params["A"].lower() == params["A"]
+    nodes = dict(deck.nodes)
+    assert nodes["a"] != nodes["A"]
+
+
+def test_deck_structure():
+    plan = fixture_plan()
+    deck = spice_deck(plan, builtin_catalogue())
+    text = deck.text
+    assert ".param in_a=0" in text and ".param in_b=0" in text
+    assert f".param logic_high={plan.high_volts:g} logic_low={plan.low_volts:g}" in text
+    assert "V_in_a a 0 {in_a*logic_high + (1-in_a)*logic_low}" in text
+    assert "V_not_in_b not_b 0 {(1-in_b)*logic_high + in_b*logic_low}" in text
+    assert "V_bplus bplus 0 225" in text and "V_bias bias 0 -95" in text
+    assert "V_out_z n2 out_z 0" in text
+    assert text.count(".subckt TP_12AU7_TRIODE") == 1 and text.count(".subckt TP_5915_DUAL") == 1
+    assert "XV2_1 n2 s2_g2 s2_g1 s2_g3 0 TP_5915_DUAL" in text  # pin order: catalogue spice_nodes
+    assert text.rstrip().endswith(".op\n.end") and "R12 n3 bias 100000" in text
+    assert "h1" not in _nodes_of(_top_level(text))  # heaters are not in the DC logic circuit
+    assert deck.with_inputs({"a": 1}).count(".param in_a=1") == 1
+    assert ".param in_b=0" in deck.with_inputs({"a": 1})
+
+
+def check_truth_table(plan, deck, logic, vectors=None):
+    """Every vector through ngspice: each output on the right side of the family's midpoint.
+
+    Returns the simulated output volts per output name: (lowest high, highest low).
+    """
+    names = [name for name, _ in plan.inputs]
+    vectors = vectors or [dict(zip(names, bits)) for bits in product((0, 1), repeat=len(names))]
+    results = simulate(deck, vectors)
+    mid = (plan.high_volts + plan.low_volts) / 2
+    seen = {}
+    wrong = []
+    for vector, volts in zip(vectors, results):
+        for output, value in volts.items():
+            expected = logic(output, vector)
+            if (value > mid) != bool(expected):
+                wrong.append((vector, output, expected, value))
+            lo_high, hi_low = seen.get(output, (float("inf"), float("-inf")))
+            seen[output] = (min(lo_high, value), hi_low) if expected else (lo_high, max(hi_low, value))
+    assert not wrong, f"simulation disagrees with the truth table (midpoint {mid:g} V): {wrong[:8]}"
+    return seen
+
+
+@needs_ngspice
+def test_fixture_truth_table_in_ngspice():
+    """ngspice (Debian package) runs the deck; outputs match NOR, NAND and the follower."""
+    plan = fixture_plan()
+    deck = spice_deck(plan, builtin_catalogue())
+    levels = check_truth_table(plan, deck, lambda out, v: FIXTURE_LOGIC[out](v["a"], v["b"]))
+    assert set(levels) == {"w", "y", "z"}
+
+
+@needs_ngspice
+def test_the_deck_as_written_runs(tmp_path):
+    """``ngspice -b plan.cir`` runs the file as written (its .op) without errors."""
+    path = tmp_path / "plan.cir"
+    path.write_text(spice_deck(fixture_plan(), builtin_catalogue()).with_inputs({"a": 1, "b": 0}))
+    done = subprocess.run([ngspice_path(), "-b", str(path)], capture_output=True, text=True, timeout=60)
+    assert done.returncode == 0, done.stdout + done.stderr
+    assert re.search(r"out_z\s+[0-9.e+-]+", done.stdout)
+    assert "error" not in done.stderr.lower()
+
+
+@needs_ngspice
+def test_a_wrong_plan_is_caught():
+    """The check can fail: swapping the NAND's inputs to (a, b) breaks z for a=1, b=1 and a=1, b=0."""
+    plan = fixture_plan()
+    parts = tuple(dataclasses.replace(p, pins=(("1", "b"), ("2", "S2.g3"))) if p.ref == "R9" else p
+                  for p in plan.parts)
+    deck = spice_deck(dataclasses.replace(plan, parts=parts), builtin_catalogue())
+    with pytest.raises(AssertionError, match="disagrees"):
+        check_truth_table(plan, deck, lambda out, v: FIXTURE_LOGIC[out](v["a"], v["b"]))

@@ -1,0 +1,138 @@
+"""Atomic output: refuse what is not an earlier plan, replace an earlier plan, never leave half a plan."""
+
+from __future__ import annotations
+
+import os
+
+import pytest
+
+from planner.report import MARKER, write_plan
+from planner.report import write as write_module
+from planner.spec import InputError
+from test_report_fixtures import fixture_plan
+
+FILES = ["bom.csv", "bom.md", "plan.cir", "plan.json", "report.html", "report.md", "wiring.csv"]
+
+
+def _snapshot(directory):
+    return {p.name: p.read_bytes() for p in sorted(directory.iterdir())}
+
+
+def _leftovers(parent):
+    return sorted(p.name for p in parent.iterdir() if "tubeplan-" in p.name)
+
+
+def test_writes_every_file_and_the_marker(tmp_path):
+    out = tmp_path / "plan"
+    paths = write_plan(fixture_plan(), out)
+    assert [p.name for p in paths] == FILES
+    assert sorted(p.name for p in out.iterdir()) == sorted(FILES + [MARKER])
+    assert _leftovers(tmp_path) == []
+
+
+def test_creates_missing_parents(tmp_path):
+    out = tmp_path / "a" / "b" / "plan"
+    write_plan(fixture_plan(), out)
+    assert (out / "plan.json").is_file()
+
+
+def test_refuses_a_regular_file(tmp_path):
+    target = tmp_path / "notes.txt"
+    target.write_text("mine")
+    with pytest.raises(InputError) as caught:
+        write_plan(fixture_plan(), target)
+    assert caught.value.path == str(target) and caught.value.line == 0
+    assert "file" in caught.value.message
+    assert target.read_text() == "mine" and _leftovers(tmp_path) == []
+
+
+def test_refuses_a_directory_without_the_marker(tmp_path):
+    target = tmp_path / "photos"
+    target.mkdir()
+    (target / "holiday.jpg").write_bytes(b"\xff\xd8")
+    with pytest.raises(InputError) as caught:
+        write_plan(fixture_plan(), target)
+    assert MARKER in caught.value.message and caught.value.line == 0
+    assert _snapshot(target) == {"holiday.jpg": b"\xff\xd8"} and _leftovers(tmp_path) == []
+
+
+def test_refuses_a_symbolic_link(tmp_path):
+    real = tmp_path / "real"
+    write_plan(fixture_plan(), real)
+    link = tmp_path / "link"
+    link.symlink_to(real)
+    with pytest.raises(InputError):
+        write_plan(fixture_plan(), link)
+
+
+def test_an_empty_directory_receives_a_plan(tmp_path):
+    target = tmp_path / "empty"
+    target.mkdir()
+    write_plan(fixture_plan(), target)
+    assert (target / MARKER).is_file()
+
+
+def test_an_earlier_plan_is_replaced_whole(tmp_path):
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    (out / "scribble.txt").write_text("left by hand in the old plan")
+    (out / "plan.json").write_text("old")
+    write_plan(fixture_plan(), out)
+    assert sorted(p.name for p in out.iterdir()) == sorted(FILES + [MARKER])
+    assert (out / "plan.json").read_text().startswith("{")
+    assert _leftovers(tmp_path) == []
+
+
+def test_replacement_without_an_atomic_swap(tmp_path, monkeypatch):
+    """Where renameat2 cannot swap, the old plan is renamed aside and removed after the new one is in."""
+    monkeypatch.setattr(write_module, "_exchange", lambda first, second: False)
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    (out / "plan.json").write_text("old")
+    write_plan(fixture_plan(), out)
+    assert (out / "plan.json").read_text().startswith("{") and _leftovers(tmp_path) == []
+
+
+@pytest.mark.parametrize("problem", [RuntimeError("disk trouble"), KeyboardInterrupt()])
+def test_a_failure_mid_write_leaves_the_old_plan_intact(tmp_path, monkeypatch, problem):
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    before = _snapshot(out)
+
+    def broken(content):
+        raise problem
+
+    monkeypatch.setattr(write_module, "report_html", broken)  # written after plan.cir and plan.json
+    with pytest.raises(type(problem)):
+        write_plan(fixture_plan(), out)
+    assert _snapshot(out) == before
+    assert _leftovers(tmp_path) == []
+
+
+def test_a_failure_on_a_first_run_leaves_nothing(tmp_path, monkeypatch):
+    monkeypatch.setattr(write_module, "report_markdown", lambda content: 1 / 0)
+    with pytest.raises(ZeroDivisionError):
+        write_plan(fixture_plan(), tmp_path / "plan")
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_a_failed_swap_restores_the_old_plan(tmp_path, monkeypatch):
+    """If the second rename of the fallback fails, the old plan is renamed back."""
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    before = _snapshot(out)
+    monkeypatch.setattr(write_module, "_exchange", lambda first, second: False)
+    real_rename = os.rename
+    calls = []
+
+    def flaky(src, dst):
+        calls.append((src, dst))
+        if len(calls) == 2:
+            raise OSError(5, "I/O error")
+        return real_rename(src, dst)
+
+    monkeypatch.setattr(write_module.os, "rename", flaky)
+    with pytest.raises(OSError):
+        write_plan(fixture_plan(), out)
+    monkeypatch.setattr(write_module.os, "rename", real_rename)
+    assert _snapshot(out) == before and _leftovers(tmp_path) == []
