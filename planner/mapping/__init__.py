@@ -1,7 +1,19 @@
-"""Stock-aware planning: the integer program over tube types, envelopes, windings and supplies."""
+"""Stock-aware planning: the integer program over tube types, envelopes, windings and supplies.
 
+Public API
+----------
+- :func:`plan_design` ``(design, stock, options=MappingOptions()) -> Plan``, raising :class:`Shortage`
+- :class:`MappingOptions`, :data:`DEFAULT_TIME_LIMIT_S`
+- the plan value types of :mod:`planner.mapping.plan` (the contract with the report layer)
+
+See docs/mapping.md.
+"""
+
+from .options import DEFAULT_TIME_LIMIT_S, MappingOptions
 from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Envelope, Part, PlacedBranch, PlacedStage, Plan,
                    SectionUse, Solution, StockUse, WindingLoad)
+from .planning import Shortage, plan_design
 
-__all__ = ["BIAS_RAIL", "GROUND", "PLATE_RAIL", "Budget", "Envelope", "Part", "PlacedBranch", "PlacedStage",
-           "Plan", "SectionUse", "Solution", "StockUse", "WindingLoad"]
+__all__ = ["BIAS_RAIL", "DEFAULT_TIME_LIMIT_S", "GROUND", "PLATE_RAIL", "Budget", "Envelope", "MappingOptions",
+           "Part", "PlacedBranch", "PlacedStage", "Plan", "SectionUse", "Shortage", "Solution", "StockUse",
+           "WindingLoad", "plan_design"]

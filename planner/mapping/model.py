@@ -87,7 +87,8 @@ class Way:
 
     ``demand``: (kind, sections) pairs; ``plate_ma`` / ``plate_ma_typical`` from
     B+, ``bias_ma`` from the bias rail, worst case from the electrical templates.
-    ``template``: the template's name ("single", "dual", "follower", ...).
+    ``template``: the template's name ("single", "dual", "diode", "follower");
+    ``diodes``: AND-gate diodes this way needs.
     """
 
     tube: str
@@ -97,17 +98,16 @@ class Way:
     plate_ma_typical: float
     bias_ma: float
     fanout_limit: int
+    diodes: int = 0
 
 
 @dataclass(frozen=True)
 class StageClass:
-    """Interchangeable stages: ``stages`` (ids, in stage order) each built one of ``ways``;
-    ``diodes``: AND-gate diodes each stage needs."""
+    """Interchangeable stages: ``stages`` (ids, in stage order) each built one of ``ways``."""
 
     key: tuple
     stages: tuple[str, ...]
     ways: tuple[Way, ...]
-    diodes: int = 0
 
     @property
     def count(self) -> int:
@@ -183,6 +183,13 @@ class Infeasible(Exception):
     """The model has no solution within the stock and supplies."""
 
 
+def _integer(lp: pulp.LpProblem, name: str, low, high, cat: str = "Integer") -> pulp.LpVariable:
+    """A variable of ``lp`` (pulp 3 attaches variables to the model; older pulp builds them free)."""
+    if hasattr(lp, "add_variable"):
+        return lp.add_variable(name, low, high, cat=cat)
+    return pulp.LpVariable(name, low, high, cat=cat)
+
+
 def _subsets(kinds: list[str]):
     for r in range(1, len(kinds) + 1):
         yield from itertools.combinations(kinds, r)
@@ -197,21 +204,22 @@ class _Model:
         self.fixes = 0
         self.lp = pulp.LpProblem("tubeplan_mapping", pulp.LpMinimize)
         kinds, classes, supplies = problem.kinds, problem.classes, problem.supplies
-        self.x = [[pulp.LpVariable(f"x_{c}_{w}", 0, cls.count, cat="Integer") for w in range(len(cls.ways))]
+        self.x = [[_integer(self.lp, f"x_{c}_{w}", 0, cls.count) for w in range(len(cls.ways))]
                   for c, cls in enumerate(classes)]
         index = {kind.tube: t for t, kind in enumerate(kinds)}
-        self.buy = [pulp.LpVariable(f"buy_{t}", 0, None, cat="Integer") if slack else 0
+        self.buy = [_integer(self.lp, f"buy_{t}", 0, None) if slack else 0
                     for t in range(len(kinds))]
-        self.n = [pulp.LpVariable(f"n_{t}", 0, None if slack else max(kind.usable, 0), cat="Integer")
+        self.n = [_integer(self.lp, f"n_{t}", 0, None if slack else max(kind.usable, 0))
                   for t, kind in enumerate(kinds)]
-        self.h = [[pulp.LpVariable(f"h_{t}_{k}", 0, None, cat="Integer") for k in range(len(kind.heaters))]
+        self.h = [[_integer(self.lp, f"h_{t}_{k}", 0, None) for k in range(len(kind.heaters))]
                   for t, kind in enumerate(kinds)]
         for c, cls in enumerate(classes):
             self.lp += pulp.lpSum(self.x[c]) == cls.count, f"class_{c}"
         demand = [{k: [] for k in KINDS} for _ in kinds]
-        plate, bias = [], []
+        plate, bias, diodes = [], [], []
         for c, cls in enumerate(classes):
             for w, way in enumerate(cls.ways):
+                diodes.append(way.diodes * self.x[c][w])
                 for kind, sections in way.demand:
                     demand[index[way.tube]][kind].append(sections * self.x[c][w])
                 plate.append(way.plate_ma * self.x[c][w])
@@ -221,10 +229,9 @@ class _Model:
                 self.lp += self.n[t] <= max(kind.usable, 0) + self.buy[t], f"stock_{t}"
             self.lp += pulp.lpSum(self.h[t]) == self.n[t], f"heated_{t}"
             self._packing(t, kind, demand[t])
-        diodes = sum(cls.count * cls.diodes for cls in classes)
-        if problem.vacuum_diodes and diodes:
+        if problem.vacuum_diodes and any(way.diodes for cls in classes for way in cls.ways):
             self.lp += pulp.lpSum(kind.diode_sections * self.n[t] for t, kind in enumerate(kinds)
-                                  if kind.diode_sections) >= diodes, "diodes"
+                                  if kind.diode_sections) >= pulp.lpSum(diodes), "diodes"
         self.over = {}
         for wi, (ident, _volts, max_amps) in enumerate(supplies.windings):
             amps = pulp.lpSum(way.amps * self.h[t][k] for t, kind in enumerate(kinds)
@@ -247,7 +254,7 @@ class _Model:
     def _over(self, what: str, name: str):
         if not self.slack:
             return 0
-        var = pulp.LpVariable(name, 0, None)
+        var = _integer(self.lp, name, 0, None, cat="Continuous")
         self.over[what] = var
         return var
 

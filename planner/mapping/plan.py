@@ -43,6 +43,8 @@ class PlacedStage:
     For ``kind == "follower"``: ``input`` is the copied net and ``tube``,
     ``envelope``, ``section`` place the follower; ``branches`` is empty.
     ``view`` is the textbook name ("NAND-2", "NOR-3", "AOI 2-1", "follower").
+    ``template``: the electrical template the stage is built with ("single",
+    "dual", "diode" or "follower"; see docs/mapping.md).
     """
 
     id: str
@@ -61,6 +63,7 @@ class PlacedStage:
     supply_ma_worst: float = 0.0
     supply_ma_typical: float = 0.0
     bias_ma_worst: float = 0.0
+    template: str = ""
 
 
 @dataclass(frozen=True)
@@ -152,7 +155,14 @@ class StockUse:
 
 @dataclass(frozen=True)
 class Solution:
-    """The solver's account: objective value, LP relaxation bound, gap, status."""
+    """The solver's account: objective value, LP relaxation bound, gap, status.
+
+    ``mode``: "weighted" or "lexicographic"; ``levels``: per solve of the
+    objective sequence (criterion, value, LP-relaxation bound, solver gap);
+    ``objective``/``lp_bound``/``gap`` are those of the last level.
+    ``terms``: the plan's envelopes, heater watts, scarce envelopes and
+    weighted objective; ``network``: which stage-layer network was chosen.
+    """
 
     solver: str
     status: str
@@ -160,6 +170,10 @@ class Solution:
     lp_bound: float
     gap: float
     seconds: float
+    mode: str = "weighted"
+    levels: tuple[tuple[str, float, float, float], ...] = ()
+    terms: tuple[tuple[str, float], ...] = ()
+    network: str = ""
 
 
 @dataclass(frozen=True)

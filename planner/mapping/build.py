@@ -1,0 +1,166 @@
+"""Building the :class:`~planner.mapping.plan.Plan` from a placed network."""
+
+from __future__ import annotations
+
+from .assemble import Placement
+from .model import Counts, Problem
+from .parts import NetlistBuilder, grid_node, tap_node
+from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Envelope, Part, PlacedBranch, PlacedStage, Plan, SectionUse,
+                   Solution, StockUse, WindingLoad)
+from .problem import branch_realisation
+
+
+def _sections(tube, kind_is_diode: bool):
+    return tube.diode_sections if kind_is_diode else tube.amplifying_sections
+
+
+def build_plan(design, network, family, stock, problem: Problem, counts: Counts, placement: Placement,
+               solution: Solution, rules) -> Plan:
+    """The plan: stages placed, envelopes with heaters, the parts netlist, budgets and stock use.
+
+    Parts are made stage by stage in network order (plate load, then per
+    branch its screen feed and each input's divider, diode and grid return;
+    a follower's cathode load), so designators R1, R2, ... follow the
+    network; tube envelopes V1, V2, ... come from the placement.
+    """
+    kinds = {k.tube: k for k in problem.kinds}
+    sockets = {s.ref: s for s in placement.sockets}
+    net = NetlistBuilder(family, stock, rules.resistor_tolerance)
+    loads = network.load_counts()
+    uses: dict[str, list[SectionUse]] = {ref: [] for ref in sockets}
+    placed = []
+    for stage in network.stages:
+        way = placement.ways[stage.id]
+        tube = stock.catalogue.get(way.tube)
+        if stage.kind == "follower":
+            follower = family.followers[way.tube]
+            ref, pos = placement.at[(stage.id, None, 0)]
+            section = tube.amplifying_sections[pos]
+            nets = {"plate": PLATE_RAIL, "grid": stage.input, "cathode": stage.output}
+            _use(net, uses, ref, tube, section, "follower", stage.id, nets)
+            net.resistor(stage.output, BIAS_RAIL, follower.cathode_load_ohms, follower.cathode_load_watts,
+                         (follower.bias_ma_worst / 1e3) ** 2 * net.hi(follower.cathode_load_ohms),
+                         "cathode load", stage.id)
+            placed.append(PlacedStage(stage.id, "follower", stage.output, stage.view, (), stage.input, way.tube,
+                                      ref, section.index, None, follower.cathode_load_ohms, loads[stage.output],
+                                      follower.fanout_limit, follower.supply_ma_worst, follower.supply_ma_typical,
+                                      follower.bias_ma_worst, template="follower"))
+            continue
+        driver = family.drivers[(way.tube, way.template)]
+        net.plate_load(stage, driver)
+        branches = []
+        for b, branch in enumerate(stage.branches):
+            real = branch_realisation(way.template, len(branch.inputs))
+            ref, pos = placement.at[(stage.id, b, 0)]
+            section = tube.amplifying_sections[pos]
+            g1 = grid_node(stage.output, b, "g1")
+            nets = {"plate": stage.output, "cathode": GROUND, "grid": g1}
+            if "screen" in section.pins:
+                nets["screen"] = net.screen(stage, driver, grid_node(stage.output, b, "g2"))
+            diodes = []
+            if real.means == "diode":
+                rec = family.receivers[(way.tube, "diode")]
+                for k, source in enumerate(branch.inputs, 1):
+                    vacuum = None
+                    if problem.vacuum_diodes:
+                        dref, dpos = placement.at[(stage.id, b, k)]
+                        dtube = stock.catalogue.get(sockets[dref].tube)
+                        dsec = dtube.diode_sections[dpos]
+                        vacuum = (dref, dsec)
+                        uses[dref].append(SectionUse(dsec.index, "diode", stage.id,
+                                                     (("cathode", tap_node(stage.output, b, k)), ("plate", g1))))
+                    diodes.append(net.diode_input(stage, source, tap_node(stage.output, b, k), g1, rec, vacuum))
+                net.grid_return(stage, g1, rec)
+            else:
+                for role, source in zip(real.roles, branch.inputs):
+                    node = g1 if role == "grid" else grid_node(stage.output, b, "g3")
+                    if role == "grid3":
+                        nets["grid3"] = node
+                    net.divider(stage, source, node, family.receivers[(way.tube, role)])
+            _use(net, uses, ref, tube, section, real.means, stage.id, nets)
+            branches.append(PlacedBranch(branch.inputs, real.means, way.tube, ref, section.index, tuple(diodes)))
+        placed.append(PlacedStage(stage.id, "inverting", stage.output, stage.view, tuple(branches), None,
+                                  None, None, None, driver.plate_load_ohms,
+                                  None, loads[stage.output], driver.fanout_limit, driver.supply_ma_worst,
+                                  driver.supply_ma_typical, way.bias_ma, template=way.template))
+    envelopes = []
+    for socket in placement.sockets:
+        tube = stock.catalogue.get(socket.tube)
+        kind = kinds[socket.tube]
+        heater = kind.heaters[socket.heater]
+        diode_type = bool(kind.diode_sections) and not tube.amplifying_sections
+        used = {u.index for u in uses[socket.ref]}
+        for section in _sections(tube, diode_type):
+            if section.index in used:
+                continue
+            _tie_off(net, uses, socket.ref, section, diode_type)
+        _heater_pins(net, socket.ref, tube, heater)
+        envelopes.append(Envelope(socket.ref, socket.tube, tube.base, heater.winding, heater.connection,
+                                  heater.volts, heater.amps, tuple(sorted(uses[socket.ref], key=lambda u: u.index))))
+    parts = list(net.parts)
+    for socket in placement.sockets:
+        pins = net.pins[socket.ref]
+        parts.append(Part(socket.ref, "tube", socket.tube, tuple((str(p), n) for p, n in sorted(pins.items())),
+                          "envelope", None, tube=socket.tube))
+    budget = _budget(stock, problem, placement, envelopes)
+    used_count = {}
+    for socket in placement.sockets:
+        used_count[socket.tube] = used_count.get(socket.tube, 0) + 1
+    stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce)
+                      for e in stock.tubes)
+    return Plan(design.name, tuple((i.name, i.complement) for i in design.inputs),
+                tuple(sorted(network.outputs.items(), key=lambda kv: _order(design, kv[0]))),
+                tuple(sorted(network.forms.items(), key=lambda kv: _order(design, kv[0]))),
+                tuple(placed), tuple(envelopes), tuple(parts), budget, stock_use, solution,
+                stock.plate.volts, stock.bias.volts, family.high_min_volts, family.low_max_volts)
+
+
+def _order(design, output: str) -> int:
+    return [o.name for o in design.outputs].index(output)
+
+
+def _use(net, uses, ref, tube, section, means, stage_id, nets) -> None:
+    cathode = nets["cathode"]
+    pairs = tuple(sorted((role, nets.get(role, cathode)) for role in section.pins))
+    for role, value in pairs:
+        net.pin(ref, section.pins[role], value)
+    uses[ref].append(SectionUse(section.index, means, stage_id, pairs))
+
+
+def _tie_off(net, uses, ref, section, diode_type: bool) -> None:
+    """Every electrode of an unused section to its cathode (GND unless the cathode pin is shared)."""
+    if diode_type:
+        cathode = GROUND
+    else:
+        cathode = net.pins.get(ref, {}).get(section.pins["cathode"], GROUND)
+    pairs = tuple(sorted((role, cathode) for role in section.pins))
+    for role, value in pairs:
+        net.pin(ref, section.pins[role], value)
+    uses[ref].append(SectionUse(section.index, "unused", "", pairs))
+
+
+def _heater_pins(net, ref, tube, heater) -> None:
+    live, ret = heater.winding, f"{heater.winding}_RET"
+    a, b = tube.heater_pins[0], tube.heater_pins[-1]
+    if heater.connection == "parallel":
+        net.pin(ref, a, ret)
+        net.pin(ref, b, ret)
+        net.pin(ref, tube.heater_centre_tap_pin, live)
+    else:
+        net.pin(ref, a, live)
+        net.pin(ref, b, ret)
+
+
+def _budget(stock, problem: Problem, placement: Placement, envelopes) -> Budget:
+    amps = {w.id: 0.0 for w in stock.windings}
+    watts = 0.0
+    for env in envelopes:
+        amps[env.winding] += env.heater_amps
+        watts += env.heater_volts * env.heater_amps
+    ways = placement.ways.values()
+    supplies = problem.supplies
+    plate = supplies.fixed_plate_ma + sum(w.plate_ma for w in ways)
+    typical = supplies.fixed_plate_ma_typical + sum(w.plate_ma_typical for w in ways)
+    bias = supplies.fixed_bias_ma + sum(w.bias_ma for w in ways)
+    windings = tuple(WindingLoad(w.id, w.volts, w.max_amps, amps[w.id]) for w in stock.windings)
+    return Budget(watts, windings, plate, typical, bias, stock.plate.max_ma, stock.bias.max_ma)

@@ -1,0 +1,283 @@
+"""``plan_design``: from a design and a stock to a proven, optimal plan (or what is short)."""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, replace
+
+from planner.electrical.family import design_family
+from planner.electrical.rules import DesignRules, Rails
+from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
+
+from .assemble import place
+from .build import build_plan
+from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
+from .options import MappingOptions
+from .plan import Plan, Solution
+from .problem import DIODE_FANIN, build_problem
+
+_DIODE_RULES = {"solid-state": "solid-state", "vacuum-only": "vacuum", "none": "none"}
+
+
+class Shortage(Exception):
+    """The stock or the supplies cannot carry the design.
+
+    ``message``: what is short, in words; ``purchase``: tube type -> envelopes
+    to buy (the fewest that make the design fit); ``overloads``: winding id
+    (A), "plate" or "bias" (mA) -> how far over; ``unbuildable``: stages no
+    stocked type has a template for (then nothing can be bought to help).
+    """
+
+    def __init__(self, message: str, purchase: dict | None = None, overloads: dict | None = None,
+                 unbuildable: tuple[str, ...] = ()):
+        super().__init__(message)
+        self.message = message
+        self.purchase = dict(purchase or {})
+        self.overloads = dict(overloads or {})
+        self.unbuildable = tuple(unbuildable)
+
+
+@dataclass(frozen=True)
+class _Candidate:
+    """One stage-layer network with its aggregated problem."""
+
+    label: str
+    network: object
+    problem: Problem | None
+    ways: dict
+    reason: str = ""
+
+
+def design_rules(stock, options: MappingOptions) -> DesignRules:
+    """The electrical rules for this stock: the options' rules with the stock's diode kind and branch limit."""
+    base = options.rules if options.rules is not None else DesignRules()
+    branches = stock.max_branches_per_stage or base.max_branches
+    return replace(base, diodes=_DIODE_RULES[stock.diodes], max_branches=branches)
+
+
+def _weights(stock, options: MappingOptions) -> Weights:
+    o = stock.objective
+    return Weights(o.envelopes, o.heater_watts, o.scarce, options.mode or o.mode)
+
+
+def _synthesis_variants(stock, family, rules: DesignRules, options: MappingOptions):
+    """Stage-layer options to try, derived from the stock: (label, SynthesisOptions).
+
+    Dual-control branches where a stocked type has a dual template; diode ANDs
+    (up to :data:`DIODE_FANIN` inputs) where the stock has diodes and a type
+    has a diode template.  Besides that network, the ones without dual-control
+    branches, without diodes and with neither are tried, since which is best
+    depends on the stock (scarce multigrid tubes, short diode sections).
+    """
+    names = [t.tube for t in stock.tubes]
+    dual = any((n, "dual") in family.drivers for n in names)
+    diode_types = any(not stock.catalogue.get(n).amplifying_sections and stock.catalogue.get(n).diode_sections
+                      for n in names)
+    have_diodes = stock.diodes == "solid-state" or (stock.diodes == "vacuum-only" and diode_types)
+    fanin = DIODE_FANIN if have_diodes and any((n, "diode") in family.drivers for n in names) else 0
+    mode = options.synthesis_mode or "aoi"
+    base = dict(max_branches=rules.max_branches, mode=mode, flatten_limit=options.flatten_limit)
+    tries = [("dual-control and diode branches", dual, fanin), ("no dual-control branches", False, fanin),
+             ("no diode ANDs", dual, 0), ("single-input branches only", False, 0)]
+    seen, out, problems = set(), [], []
+    for label, allow_dual, diode_fanin in tries:
+        key = (allow_dual, diode_fanin)
+        if key in seen:
+            continue
+        seen.add(key)
+        try:
+            out.append((label, SynthesisOptions(allow_dual=allow_dual, diode_fanin=diode_fanin, **base)))
+        except ValueError as problem:
+            problems.append(str(problem))
+    if not out:
+        raise Shortage("the stock cannot build this kind of stage: " + "; ".join(problems))
+    return out
+
+
+def _fanout_limits(family, names):
+    """Most loads any stocked template of the stage's kind may drive (for inserting followers)."""
+    follower = max((family.followers[n].fanout_limit for n in names if n in family.followers), default=0)
+
+    def limit(stage) -> int:
+        if stage.kind == "follower":
+            return follower
+        widths = [len(b.inputs) for b in stage.branches]
+        best = 0
+        for (tube, template), driver in family.drivers.items():
+            if tube not in names:
+                continue
+            if template == "single" and any(w != 1 for w in widths):
+                continue
+            if template == "dual" and any(w > 2 for w in widths):
+                continue
+            best = max(best, driver.fanout_limit)
+        return best
+    return limit
+
+
+def _candidates(design, stock, family, rules, options, weights) -> list[_Candidate]:
+    names = tuple(t.tube for t in stock.tubes)
+    limit = _fanout_limits(family, names)
+    found, seen = [], set()
+    for label, synth in _synthesis_variants(stock, family, rules, options):
+        network = synthesise(design, synth).network
+        try:
+            network = insert_followers(network, limit)
+        except ValueError as problem:
+            found.append(_Candidate(label, network, None, {}, f"{problem}"))
+            continue
+        key = (network.stages, tuple(sorted(network.outputs.items())))
+        if key in seen:
+            continue
+        seen.add(key)
+        prove(network, design)
+        problem, ways = build_problem(network, family, stock, weights, diode_fanin=synth.diode_fanin)
+        loads = network.load_counts()
+        stuck = [f"stage {s.id} ({s.view}, {loads[s.output]} loads)" for s in network.stages if not ways[s.id]]
+        reason = ""
+        if stuck:
+            reason = "no stocked type has a template for " + ", ".join(stuck[:5]) + (
+                f" and {len(stuck) - 5} more" if len(stuck) > 5 else "")
+        found.append(_Candidate(label, network, None if stuck else problem, ways, reason))
+        options.say(f"mapping: network '{label}': {len(network.stages)} stages, "
+                    f"{len(problem.classes)} stage classes")
+    return found
+
+
+def _rank(counts: Counts, weights: Weights) -> tuple:
+    terms = dict(counts.terms)
+    if weights.mode == "lexicographic":
+        return (round(terms["scarce envelopes"]), round(terms["envelopes"]), terms["heater watts"])
+    return (terms["weighted"],)
+
+
+def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Plan:
+    """The cheapest plan for ``design`` within ``stock`` and its supplies, proven; or :class:`Shortage`.
+
+    Steps: the logic family for the stocked types (each at its condition, or
+    the rules' wear); the stage networks the stock allows (see
+    :func:`_synthesis_variants`), each with followers wherever no stocked
+    template can drive a net's loads, each proven against the design; the
+    aggregated integer program for each (:mod:`planner.mapping.model`); the
+    best plan over all of them.  When none fits, the purchase and overloads
+    that would make one fit (the fewest envelopes bought over all networks)
+    are raised as :class:`Shortage`.  Deterministic for equal inputs.
+    """
+    start = time.monotonic()
+    deadline = start + options.time_limit_s
+    rules = design_rules(stock, options)
+    tubes = [(stock.catalogue.get(t.tube), t.condition if t.condition is not None else rules.wear)
+             for t in stock.tubes if stock.catalogue.get(t.tube).amplifying_sections]
+    if not tubes:
+        raise Shortage("the stock has no tube type with an amplifying section (triode, pentode or multigrid)")
+    options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
+    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
+    weights = _weights(stock, options)
+    candidates = _candidates(design, stock, family, rules, options, weights)
+    best = None
+    for cand in candidates:
+        if cand.problem is None:
+            continue
+        try:
+            counts = solve_problem(cand.problem, solver=options.solver, gap=options.gap,
+                                   time_limit_s=max(1.0, deadline - time.monotonic()))
+        except Infeasible:
+            options.say(f"mapping: network '{cand.label}' does not fit the stock")
+            continue
+        options.say(f"mapping: network '{cand.label}': {dict(counts.terms)['envelopes']:.0f} envelopes")
+        if best is None or _rank(counts, weights) < _rank(best[1], weights):
+            best = (cand, counts)
+    if best is None:
+        raise _shortage(candidates, family, stock, options, deadline)
+    cand, counts = best
+    placement = place(cand.network, cand.problem, counts)
+    last = counts.levels[-1]
+    solution = Solution(options.solver, counts.status, last.value, last.lp_bound, last.gap,
+                        time.monotonic() - start, weights.mode,
+                        tuple((lv.criterion, lv.value, lv.lp_bound, lv.gap) for lv in counts.levels),
+                        counts.terms, cand.label)
+    return build_plan(design, cand.network, family, stock, cand.problem, counts, placement, solution, rules)
+
+
+def _section_word(tube) -> str:
+    if not tube.amplifying_sections:
+        return "diode"
+    kinds = sorted({s.kind for s in tube.amplifying_sections})
+    return "/".join(kinds)
+
+
+def _shortage(candidates, family, stock, options, deadline) -> Shortage:
+    """Diagnose every buildable network; the smallest purchase (then least overload) wins."""
+    best = None
+    for cand in candidates:
+        if cand.problem is None:
+            continue
+        counts = diagnose(cand.problem, solver=options.solver, gap=options.gap,
+                          time_limit_s=max(1.0, deadline - time.monotonic()))
+        overload = sum(v / _limit(stock, w) for w, v in counts.overloads)
+        key = (sum(counts.purchase), round(overload, 9), dict(counts.terms)["weighted"])
+        if best is None or key < best[0]:
+            best = (key, cand, counts)
+    if best is None:
+        reasons = "; ".join(dict.fromkeys(c.reason for c in candidates if c.reason))
+        return Shortage(f"no stocked tube type can build the design: {reasons}",
+                        unbuildable=tuple(c.reason for c in candidates if c.reason))
+    _, cand, counts = best
+    problem = cand.problem
+    purchase = {k.tube: n for k, n in zip(problem.kinds, counts.purchase) if n}
+    overloads = {w: v for w, v in counts.overloads if v > 1e-9}
+    words = []
+    sections_used = _sections_used(problem, counts)
+    for kind, bought in zip(problem.kinds, counts.purchase):
+        if not bought:
+            continue
+        tube = stock.catalogue.get(kind.tube)
+        word = _section_word(tube)
+        per = kind.diode_sections or len(kind.sections)
+        short = max(1, sections_used[kind.tube] - max(kind.usable, 0) * per)
+        alts = [f"{bought} x {kind.tube}"]
+        for other in problem.kinds:
+            if other.tube == kind.tube or other.tube in purchase:
+                continue
+            if _section_word(stock.catalogue.get(other.tube)) != word:
+                continue
+            held = tuple((t, n) for t, n in sorted(purchase.items()) if t != kind.tube)
+            trial = diagnose(problem, solver=options.solver, gap=options.gap,
+                             time_limit_s=max(1.0, deadline - time.monotonic()),
+                             allow_only=(other.tube,) + tuple(t for t, _ in held), fixed_purchase=held)
+            over = sum(v for _w, v in trial.overloads)
+            if over <= sum(overloads.values()) + 1e-6:
+                n = dict(zip((k.tube for k in problem.kinds), trial.purchase))[other.tube]
+                alts.append(f"{n} x {other.tube}")
+        plural = "s" if short != 1 else ""
+        words.append(f"needs {short} more {word} section{plural}: " + " or ".join(alts))
+    for what, amount in sorted(overloads.items()):
+        if what == "plate":
+            words.append(f"plate supply over by {amount:.1f} mA")
+        elif what == "bias":
+            words.append(f"bias supply over by {amount:.1f} mA")
+        else:
+            words.append(f"winding {what} over by {amount:.2f} A")
+    message = "; ".join(words) or "the stock cannot carry the design"
+    return Shortage(message, purchase, overloads)
+
+
+def _limit(stock, what: str) -> float:
+    if what == "plate":
+        return stock.plate.max_ma
+    if what == "bias":
+        return stock.bias.max_ma
+    return next(w.max_amps for w in stock.windings if w.id == what)
+
+
+def _sections_used(problem: Problem, counts: Counts) -> dict[str, int]:
+    used = {k.tube: 0 for k in problem.kinds}
+    diodes = 0
+    for cls, row in zip(problem.classes, counts.ways):
+        for way, n in zip(cls.ways, row):
+            used[way.tube] += n * sum(s for _k, s in way.demand)
+            diodes += n * way.diodes
+    for kind in problem.kinds:
+        if kind.diode_sections:
+            used[kind.tube] = max(used[kind.tube], diodes)
+    return used

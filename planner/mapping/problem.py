@@ -1,0 +1,162 @@
+"""From a stage network, a logic family and a stock to the aggregated model (:mod:`.model`).
+
+Ways to build a stage (one plate load serves all its branches, so a stage is
+built on one tube type with one template, the family's driver for that type
+and template):
+
+* ``single``: every branch has one input, each on a section with a single
+  control grid (receiver "grid" before each);
+* ``dual``: branches of one or two inputs, each on a dual-control section;
+  a two-input branch uses g1 and g3, a one-input branch uses g1 with g3 tied to
+  its cathode.  Safe because the dual template's low-output check is made with
+  a worn tube and both grids just at 0 V (planner.electrical drivers), which
+  is exactly g3 at its cathode; the high output has every branch cut off by a
+  low g1, and g1's receiver was designed for cut-off with g3 at its highest
+  high level, above 0 V; and the template's worst supply current is taken with
+  the grids at their highest, which g3 at 0 V does not exceed;
+* ``diode``: every branch a diode AND of its inputs (one diode an input, a
+  one-input branch included) on one single-grid section (receiver "diode");
+  where the stock has diodes;
+* ``follower``: a cathode follower on a triode section; never fed by another
+  follower (the family's rule).
+
+A way is allowed when its template's ``fanout_limit`` covers the loads on the
+stage's output net.  Stages with the same set of allowed ways are one class.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .model import HeaterWay, Problem, StageClass, Supplies, TubeKind, Way, Weights
+
+#: Most inputs of one diode AND: each input adds a diode's capacitance and
+#: leakage to the grid node, and four is a usual width for diode gates
+#: (common practice).
+DIODE_FANIN = 4
+
+
+@dataclass(frozen=True)
+class Realisation:
+    """How one branch is built in a way: its means as wired ("single", "dual",
+    "g1-only" (dual-control section, g3 to cathode), "diode") and its grid roles."""
+
+    means: str
+    roles: tuple[str, ...]
+
+
+def branch_realisation(template: str, n_inputs: int) -> Realisation:
+    """The wiring of a branch of ``n_inputs`` inputs under ``template``.
+
+    >>> branch_realisation("dual", 1), branch_realisation("diode", 3).roles
+    (Realisation(means='g1-only', roles=('grid',)), ('diode', 'diode', 'diode'))
+    """
+    if template == "single":
+        return Realisation("single", ("grid",))
+    if template == "dual":
+        return Realisation("dual", ("grid", "grid3")) if n_inputs == 2 else Realisation("g1-only", ("grid",))
+    if template == "diode":
+        return Realisation("diode", ("diode",) * n_inputs)
+    raise ValueError(f"no branch in a {template} template")
+
+
+def heater_ways(tube, windings) -> tuple[HeaterWay, ...]:
+    """Every winding a type's heater may sit on: volts equal to the heater's, parallel or series.
+
+    A heater with a centre tap (``heater_series``) has two connections:
+    "parallel" (the catalogue's ``heater_volts``) and "series".
+    """
+    ways = []
+    connections = [("parallel" if tube.heater_series else "single", tube.heater_volts, tube.heater_amps)]
+    if tube.heater_series:
+        connections.append(("series",) + tuple(tube.heater_series))
+    for winding in windings:
+        for connection, volts, amps in connections:
+            if abs(volts - winding.volts) <= 1e-9:
+                ways.append(HeaterWay(winding.id, connection, volts, amps))
+    return tuple(ways)
+
+
+def tube_kinds(stock, family) -> tuple[TubeKind, ...]:
+    """Every stocked type as the model sees it, in name order."""
+    kinds = []
+    for entry in stock.tubes:
+        tube = stock.catalogue.get(entry.tube)
+        sections = []
+        for section in tube.amplifying_sections:
+            caps = set(section.means)
+            if section.kind == "triode" and tube.name in family.followers:
+                caps.add("follower")
+            sections.append(frozenset(caps))
+        diodes = 0
+        if (stock.diodes == "vacuum-only" and tube.diode_sections and not tube.amplifying_sections
+                and not tube.shared_cathode):
+            diodes = len(tube.diode_sections)
+        kinds.append(TubeKind(tube.name, entry.count - entry.reserve, entry.scarce, tuple(sections), diodes,
+                              tube.shared_cathode, heater_ways(tube, stock.windings)))
+    return tuple(sorted(kinds, key=lambda k: k.tube))
+
+
+def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_nets: frozenset,
+               diode_fanin: int) -> tuple[Way, ...]:
+    """Every way the family and stock allow for ``stage`` with ``loads`` on its output, sorted."""
+    ways = []
+    names = [k.tube for k in kinds]
+    if stage.kind == "follower":
+        if stage.input in follower_nets:
+            return ()
+        for tube in names:
+            f = family.followers.get(tube)
+            if f is not None and f.fanout_limit >= loads:
+                ways.append(Way(tube, "follower", (("follower", 1),), f.supply_ma_worst, f.supply_ma_typical,
+                                f.bias_ma_worst, f.fanout_limit))
+        return tuple(ways)
+    widths = [len(b.inputs) for b in stage.branches]
+    for tube in names:
+        for template in ("single", "dual", "diode"):
+            driver = family.drivers.get((tube, template))
+            if driver is None or driver.fanout_limit < loads:
+                continue
+            if template == "single" and any(w != 1 for w in widths):
+                continue
+            if template == "dual" and any(w > 2 for w in widths):
+                continue
+            if template == "diode" and (diode_fanin < 2 or any(w > diode_fanin for w in widths)):
+                continue
+            bias, diodes, missing = 0.0, 0, False
+            for width in widths:
+                for role in branch_realisation(template, width).roles:
+                    rec = family.receivers.get((tube, role))
+                    if rec is None:
+                        missing = True
+                        break
+                    bias += rec.bias_ma_worst
+                diodes += width if template == "diode" else 0
+            if missing:
+                continue
+            kind = {"single": "single", "dual": "dual", "diode": "single"}[template]
+            demand = ((kind, len(widths)),) if widths else ()
+            ways.append(Way(tube, template, demand, driver.supply_ma_worst, driver.supply_ma_typical, bias,
+                            driver.fanout_limit, diodes))
+    return tuple(ways)
+
+
+def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int) -> tuple[Problem, dict]:
+    """The aggregated problem of ``network`` and the ways of every stage (stage id -> ways).
+
+    Classes are formed from stages with equal tuples of ways, in order of
+    their first stage.  Cost: one pass over the stages and their branches.
+    """
+    kinds = tube_kinds(stock, family)
+    loads = network.load_counts()
+    followers = frozenset(s.output for s in network.stages if s.kind == "follower")
+    by_ways: dict[tuple, list[str]] = {}
+    ways_of = {}
+    for stage in network.stages:
+        ways = stage_ways(stage, loads[stage.output], family, kinds, followers, diode_fanin)
+        ways_of[stage.id] = ways
+        by_ways.setdefault(ways, []).append(stage.id)
+    classes = tuple(StageClass((i,), tuple(ids), ways) for i, (ways, ids) in enumerate(by_ways.items()))
+    supplies = Supplies(stock.plate.max_ma, stock.bias.max_ma,
+                        tuple((w.id, w.volts, w.max_amps) for w in stock.windings))
+    return Problem(kinds, classes, supplies, weights, stock.diodes == "vacuum-only"), ways_of
