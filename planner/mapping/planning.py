@@ -237,9 +237,8 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
         short = max(1, sections_used[kind.tube] - max(kind.usable, 0) * per)
         alts = [f"{bought} x {kind.tube}"]
         for other in problem.kinds:
-            if other.tube == kind.tube or other.tube in purchase:
-                continue
-            if _section_word(stock.catalogue.get(other.tube)) != word:
+            if other.tube == kind.tube or other.tube in purchase or bool(other.diode_sections) != bool(
+                    kind.diode_sections):
                 continue
             held = tuple((t, n) for t, n in sorted(purchase.items()) if t != kind.tube)
             trial = diagnose(problem, solver=options.solver, gap=options.gap,

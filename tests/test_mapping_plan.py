@@ -1,0 +1,267 @@
+"""plan_design end to end: optimality against brute force, stock rules, shortage, plan invariants.
+
+Every stock and design here is invented test data (made-up counts, supplies
+and logic); the tube types are the built-in catalogue's.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import itertools
+import subprocess
+import sys
+import textwrap
+
+import pytest
+
+from planner.mapping import MappingOptions, Shortage, plan_design
+from planner.mapping import planning
+from planner.mapping.solver import highs_available
+from planner.spec import load_design, load_stock
+from planner.stages import Branch, Network, Stage, prove
+
+# Invented: a bench with one 6.3 V and one 12.6 V winding.
+SUPPLIES = """\
+supplies:
+  plate: {volts: 250, max_ma: %(plate)s}
+  bias: {volts: -100, max_ma: 50}
+  heater:
+    - {id: H1, volts: 6.3, max_amps: %(h1)s}
+    - {id: H2, volts: 12.6, max_amps: 1.0}
+"""
+
+
+def _stock(tmp_path, tubes: str, *, diodes="none", objective="", plate=200, h1=3.0, name="stock.yaml"):
+    text = "# Invented test data.\n" + SUPPLIES % {"plate": plate, "h1": h1} + "tubes:\n" + textwrap.indent(
+        textwrap.dedent(tubes), "  ") + f"diodes: {diodes}\n" + textwrap.dedent(objective)
+    path = tmp_path / name
+    path.write_text(text)
+    return load_stock(str(path))
+
+
+def _design(tmp_path, outputs: str, inputs="[a, b, c]", name="design.yaml"):
+    path = tmp_path / name
+    path.write_text(f"# Invented test data.\ndesign: test\ninputs: {inputs}\noutputs:\n"
+                    + textwrap.indent(textwrap.dedent(outputs), "  "))
+    return load_design(str(path))
+
+
+def _with_counts(stock, extra: dict):
+    tubes = tuple(dataclasses.replace(t, count=t.count + extra.get(t.tube, 0)) for t in stock.tubes)
+    return dataclasses.replace(stock, tubes=tubes)
+
+
+def _network_of(plan, design) -> Network:
+    """The stage network as the plan places it (for proving the plan's own logic)."""
+    stages = []
+    for s in plan.stages:
+        if s.kind == "follower":
+            stages.append(Stage(s.id, s.output, "follower", input=s.input))
+        else:
+            stages.append(Stage(s.id, s.output, "inverting", tuple(
+                Branch(b.inputs, "single" if len(b.inputs) == 1 else ("dual" if len(b.inputs) == 2 else "diode"))
+                for b in s.branches)))
+    complements = tuple(name for name, available in plan.inputs if available)
+    return Network(tuple(n for n, _ in plan.inputs), tuple(stages), dict(plan.outputs), complements=complements)
+
+
+def _check_invariants(plan, stock, design):
+    # Every branch and follower on its own section; every section used at most once.
+    seats = [(b.envelope, b.section) for s in plan.stages for b in s.branches]
+    seats += [(s.envelope, s.section) for s in plan.stages if s.kind == "follower"]
+    assert len(seats) == len(set(seats))
+    env = {e.ref: e for e in plan.envelopes}
+    for ref, section in seats:
+        uses = [u for u in env[ref].sections if u.index == section]
+        assert len(uses) == 1 and uses[0].means != "unused"
+    # Envelope counts within stock less reserve; the stock list covers every stocked type.
+    assert [u.tube for u in plan.stock] == [t.tube for t in stock.tubes]
+    for use in plan.stock:
+        assert use.used == sum(1 for e in plan.envelopes if e.tube == use.tube)
+        assert use.used <= use.on_hand - use.reserve
+    # Winding amps within max, and heater volts matching the winding's.
+    volts = {w.id: w.volts for w in stock.windings}
+    for w in plan.budget.windings:
+        assert w.amps <= w.max_amps + 1e-9
+        assert w.amps == pytest.approx(sum(e.heater_amps for e in plan.envelopes if e.winding == w.id))
+    for e in plan.envelopes:
+        assert e.heater_volts == volts[e.winding]
+    assert plan.budget.plate_ma_worst <= plan.budget.plate_max_ma
+    assert plan.budget.bias_ma <= plan.budget.bias_max_ma
+    # Every branch input reaches its grid (or diode tap) through a divider's upper resistor,
+    # whose grid side also has a lower resistor to BIAS.
+    resistors = [p for p in plan.parts if p.kind == "resistor"]
+    for stage in plan.stages:
+        for b, branch in enumerate(stage.branches, 1):
+            for net in branch.inputs:
+                uppers = [p for p in resistors if p.role == "divider upper" and p.stage == stage.id
+                          and p.pins[0][1] == net and p.pins[1][1].startswith(f"{stage.output}.b{b}.")]
+                assert uppers, (stage.id, b, net)
+                for upper in uppers:
+                    node = upper.pins[1][1]
+                    assert any(p.role == "divider lower" and p.pins == (("1", node), ("2", "BIAS"))
+                               for p in resistors)
+        if stage.kind == "inverting":
+            assert sum(1 for p in resistors if p.role == "plate load" and p.stage == stage.id
+                       and p.pins == (("1", "B+"), ("2", stage.output))) == 1
+    for p in resistors:
+        assert p.ohms > 0 and p.watts_rating is not None and p.tolerance is not None
+        # A resistor's rating covers its worst dissipation (common practice: run at most at full rating).
+        assert p.dissipation_watts <= p.watts_rating + 1e-9
+    # Designators unique and numbered from 1 per class letter (IEEE 315 class letters R, C, D, V).
+    refs = [p.ref for p in plan.parts]
+    assert len(refs) == len(set(refs))
+    for letter in "RCDV":
+        numbers = sorted(int(r[1:]) for r in refs if r[0] == letter and r[1:].isdigit())
+        assert numbers == list(range(1, len(numbers) + 1))
+    # The plan's own network computes the design.
+    prove(_network_of(plan, design), design)
+    # Solver account: the LP relaxation's bound never exceeds the objective.
+    assert plan.solution.lp_bound <= plan.solution.objective + 1e-9
+    for _name, value, bound, _gap in plan.solution.levels:
+        assert bound <= value + 1e-9
+
+
+TRIODES = """\
+12AU7: {count: 6}
+6AU6: {count: 4}
+"""
+
+
+def test_plan_invariants_and_bound(tmp_path):
+    stock = _stock(tmp_path, TRIODES + "5915: {count: 2}\n", diodes="solid-state")
+    design = _design(tmp_path, """\
+        y: ~(a & b | c)
+        z: a | b
+        w: a ^ b
+        """)
+    plan = plan_design(design, stock)
+    _check_invariants(plan, stock, design)
+    assert plan.solution.status == "optimal" and plan.solution.gap == 0.0
+
+
+def _brute_force_optimum(problem) -> float:
+    """Least weighted objective by enumerating every stage's way and every envelope's heater."""
+    kinds = {k.tube: k for k in problem.kinds}
+    stages = [cls for cls in problem.classes for _ in range(cls.count)]
+    best = None
+    for choice in itertools.product(*[cls.ways for cls in stages]):
+        if sum(w.plate_ma for w in choice) > problem.supplies.plate_max_ma:
+            continue
+        if sum(w.bias_ma for w in choice) > problem.supplies.bias_max_ma:
+            continue
+        need = {}
+        for tube, kind in kinds.items():
+            demand = {}
+            for w in choice:
+                if w.tube == tube:
+                    for k, n in w.demand:
+                        demand[k] = demand.get(k, 0) + n
+            # Sections of these types serve every kind they are asked for (checked below).
+            per = len(kind.sections)
+            total = sum(demand.values())
+            assert all(all(k in caps for caps in kind.sections) for k in demand)
+            need[tube] = -(-total // per) if per else 0
+        if any(need[t] > kinds[t].usable for t in kinds):
+            continue
+        envelopes = [t for t in sorted(kinds) for _ in range(need[t])]
+        for heat in itertools.product(*[kinds[t].heaters for t in envelopes]):
+            amps = {}
+            for h in heat:
+                amps[h.winding] = amps.get(h.winding, 0.0) + h.amps
+            if any(amps.get(w, 0.0) > cap + 1e-9 for w, _v, cap in problem.supplies.windings):
+                continue
+            wt = problem.weights
+            value = (wt.envelopes * len(envelopes) + wt.heater_watts * sum(h.watts for h in heat)
+                     + wt.scarce * sum(1 for t in envelopes if kinds[t].scarce))
+            best = value if best is None else min(best, value)
+    return best
+
+
+@pytest.mark.parametrize("outputs, h1", [("y: ~(a | b)\nz: ~(b | c)\n", 0.9),
+                                         ("y: ~(a & b)\nz: ~c\n", 3.0),
+                                         ("y: a & b | c\n", 0.6)])
+def test_integer_program_matches_brute_force_on_tiny_designs(tmp_path, outputs, h1):
+    stock = _stock(tmp_path, "12AU7: {count: 2}\n6AU6: {count: 3}\n5915: {count: 1, scarce: true}\n", h1=h1)
+    design = _design(tmp_path, outputs)
+    options = MappingOptions()
+    rules = planning.design_rules(stock, options)
+    tubes = [(stock.catalogue.get(t.tube), rules.wear) for t in stock.tubes]
+    family = planning.design_family(planning.Rails(250, -100), tubes, rules)
+    weights = planning._weights(stock, options)
+    candidates = planning._candidates(design, stock, family, rules, options, weights)
+    optima = [_brute_force_optimum(c.problem) for c in candidates if c.problem is not None]
+    optima = [v for v in optima if v is not None]
+    plan = plan_design(design, stock, options)
+    assert plan.solution.objective == pytest.approx(min(optima), abs=1e-6)
+
+
+def test_scarce_type_avoided_and_reserve_untouched(tmp_path):
+    design = _design(tmp_path, "y: ~(a & b)\nz: ~(b & c)\n")
+    # Without a scarce mark, 5915 dual-control sections make each NAND one envelope.
+    plain = plan_design(design, _stock(tmp_path, "12AU7: {count: 2, reserve: 1}\n6AU6: {count: 4}\n"
+                                                 "5915: {count: 2}\n", diodes="solid-state"))
+    assert any(u.tube == "5915" and u.used for u in plain.stock)
+    heavy = _stock(tmp_path, "12AU7: {count: 2, reserve: 1}\n6AU6: {count: 4}\n5915: {count: 2, scarce: true}\n",
+                   diodes="solid-state", objective="objective: {scarce: 50.0}\n", name="heavy.yaml")
+    plan = plan_design(design, heavy)
+    used = {u.tube: u for u in plan.stock}
+    assert used["5915"].used == 0
+    assert used["12AU7"].used <= 1
+    _check_invariants(plan, heavy, design)
+
+
+def test_shortage_gives_the_smallest_purchase(tmp_path):
+    design = _design(tmp_path, "y: ~(a | b)\nz: ~(c | d)\nw: ~(a | c)\nv: ~(b | d)\n", inputs="[a, b, c, d]")
+    stock = _stock(tmp_path, "12AU7: {count: 1}\n6AU6: {count: 0}\n", h1=6.0)
+    with pytest.raises(Shortage) as short:
+        plan_design(design, stock)
+    purchase = short.value.purchase
+    assert purchase and not short.value.overloads
+    assert "more triode section" in short.value.message or "more pentode section" in short.value.message
+    plan = plan_design(design, _with_counts(stock, purchase))
+    _check_invariants(plan, _with_counts(stock, purchase), design)
+    for tube in purchase:
+        less = dict(purchase, **{tube: purchase[tube] - 1})
+        with pytest.raises(Shortage):
+            plan_design(design, _with_counts(stock, less))
+
+
+def test_overloaded_winding_is_reported(tmp_path):
+    design = _design(tmp_path, "y: ~(a | b)\nz: ~(b | c)\n")
+    stock = _stock(tmp_path, "12AU7: {count: 4}\n", h1=0.3)
+    with pytest.raises(Shortage) as short:
+        plan_design(design, stock)
+    # Two 12AU7 (0.3 A each at 6.3 V, RCA RC-30 12AU7 data; or 0.15 A each in series on 12.6 V).
+    assert short.value.purchase == {}
+    assert "winding" in short.value.message
+
+
+def test_lexicographic_mode_and_highs_agree(tmp_path):
+    stock = _stock(tmp_path, TRIODES + "5915: {count: 2, scarce: true}\n", diodes="solid-state")
+    design = _design(tmp_path, "y: ~(a & b | c)\nz: a | b\n")
+    lexi = plan_design(design, stock, MappingOptions(mode="lexicographic"))
+    assert [lv[0] for lv in lexi.solution.levels] == ["scarce envelopes", "envelopes", "heater watts"]
+    assert dict(lexi.solution.terms)["scarce envelopes"] == 0
+    _check_invariants(lexi, stock, design)
+    if not highs_available():
+        pytest.skip("highspy is not installed")
+    cbc = plan_design(design, stock)
+    highs = plan_design(design, stock, MappingOptions(solver="highs"))
+    assert highs.solution.objective == pytest.approx(cbc.solution.objective, abs=1e-6)
+
+
+def test_same_inputs_same_plan_under_other_hash_seeds(tmp_path):
+    stock_path = tmp_path / "s.yaml"
+    _stock(tmp_path, TRIODES + "5915: {count: 2}\n", diodes="solid-state", name="s.yaml")
+    _design(tmp_path, "y: ~(a & b | c)\nz: a ^ b ^ c\n", name="d.yaml")
+    script = textwrap.dedent(f"""
+        import dataclasses
+        from planner.spec import load_design, load_stock
+        from planner.mapping import plan_design
+        plan = plan_design(load_design({str(tmp_path / 'd.yaml')!r}), load_stock({str(stock_path)!r}))
+        print(repr(dataclasses.replace(plan, solution=dataclasses.replace(plan.solution, seconds=0.0))))
+        """)
+    outs = [subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True,
+                           env={"PYTHONHASHSEED": seed, "PATH": "/usr/bin:/bin"}).stdout for seed in ("1", "977")]
+    assert outs[0] == outs[1] and "Plan(" in outs[0]
