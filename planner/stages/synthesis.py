@@ -322,22 +322,25 @@ def _assemble(design, options, blocks, signals: list[str], polarity: Mapping[str
     return asm, chosen
 
 
-def _candidates(options, blocks: Mapping[str, _Block], names: list[str], chosen: Mapping[str, bool],
+def _candidates(options, blocks: Mapping[str, _Block], block_names: list[str], chosen: Mapping[str, bool],
                 cache: dict) -> dict[str, tuple[Candidate, ...]]:
+    """Both candidates of every block, each built alone with every literal at hand."""
     result = {}
-    for name in names:
+    for name in block_names:
         block = blocks[name]
         found = []
+        # The exact NAND search works over the block's inputs: they are at hand too.
+        names = tuple(dict.fromkeys(block.variables + (block.flat.names if block.flat else ())))
         for polarity in (True, False):
             var_net = {v: (v, True) for v in block.variables}
-            asm = _Assembly(options, blocks, var_net, {v: "~" + v for v in block.variables}, cache)
+            asm = _Assembly(options, blocks, var_net, {v: "~" + v for v in names}, cache)
             net, exact = asm.block_net(block, polarity)
             if block.kind == "output" and not polarity:
                 net = asm.builder.complement(net)
-            network = asm.builder.network(block.variables, block.variables, {name: net}, {}, {}, {})
+            network = asm.builder.network(names, names, {name: net}, {}, {}, {})
             cost = network.cost()
             used = {x for stage in network.stages for x in stage.input_nets} | set(network.outputs.values())
-            literals = tuple(lit for v in block.variables for lit in (v, "~" + v) if lit in used)
+            literals = tuple(lit for v in names for lit in (v, "~" + v) if lit in used)
             found.append(Candidate(name, block.kind, "true" if polarity else "inverted",
                                    _form(block, polarity, exact), literals, cost.sections_by_means,
                                    cost.diodes, cost.stages, chosen.get(name) == polarity))
