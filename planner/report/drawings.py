@@ -21,6 +21,8 @@ from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedStage, Pl
 from .designators import natural_key
 
 _GRID_Y = {"grid": -0.4, "screen": 0.0, "grid3": 0.4}
+#: Display scale of the drawings relative to schemdraw's default size.
+SCALE = 0.7
 _RAIL_TEXT = {PLATE_RAIL: "B+", BIAS_RAIL: "BIAS", GROUND: "0 V"}
 
 
@@ -265,7 +267,13 @@ def _draw_follower(stage: PlacedStage, net: _Netlist, plan: Plan) -> str:
 def _svg(d) -> str:
     """The drawing as an inline SVG element of class "schematic" (the report's CSS scales it)."""
     text = d.get_imagedata("svg").decode("utf-8")
-    return re.sub(r"^<svg ", '<svg class="schematic" ', text, count=1)
+
+    def smaller(match):  # schemdraw's default scale draws a tube about 2 cm wide; 0.7 reads as well
+        return f'{match.group(1)}="{float(match.group(2)) * SCALE:.1f}pt"'
+
+    head, rest = text.split(">", 1)
+    head = re.sub(r'\b(height|width)="([0-9.]+)pt"', smaller, head)
+    return head.replace("<svg ", '<svg class="schematic" ', 1) + ">" + rest
 
 
 def _signature(stage: PlacedStage, net: _Netlist) -> tuple:
