@@ -12,7 +12,7 @@ from planner.catalogue import builtin_catalogue
 from planner.report import (CAUTIONS, HEADROOM, SURGE_FACTORS, bom_csv, bom_lines, bom_markdown, plan_budgets,
                             wiring_csv, wiring_rows)
 from planner.report.designators import natural_key, ranges
-from test_report_fixtures import FIXTURE_PRICES, FIXTURE_TUBE_PRICES, fixture_plan
+from test_report_fixtures import FIXTURE_PRICES, FIXTURE_TUBE_PRICES, fixture_diode_plan, fixture_plan
 
 
 def check_bom_against_plan(plan, lines):
@@ -135,3 +135,16 @@ def test_tube_pin_functions_follow_the_basing():
 def test_designator_ranges():
     assert ranges(["R2", "R3", "R4", "R5", "R7", "R8", "V1"]) == "R2-R5, R7, R8, V1"
     assert sorted(["V10", "V9", "V1"], key=natural_key) == ["V1", "V9", "V10"]
+
+
+def test_diodes_are_grouped_by_kind():
+    plan = fixture_diode_plan()
+    lines = bom_lines(plan, prices={"diode": 0.25})
+    check_bom_against_plan(plan, lines)
+    diodes = [l for l in lines if l.group == "diode"]
+    assert [(l.description, l.quantity, l.designators) for l in diodes] == \
+        [("silicon signal diode", 3, ("D1", "D2", "D3"))]
+    assert diodes[0].total == 0.75
+    rows = wiring_rows(plan, builtin_catalogue())
+    check_wiring_against_plan(plan, rows)
+    assert {(r.terminal, r.function) for r in rows if r.ref == "D1"} == {("D1.A", "anode"), ("D1.K", "cathode")}

@@ -15,7 +15,7 @@ from planner.report import CAUTIONS
 from planner.report.content import report_content
 from planner.report.html_report import report_html
 from planner.report.markdown_report import report_markdown
-from test_report_fixtures import fixture_plan
+from test_report_fixtures import fixture_diode_plan, fixture_plan
 
 ARTIFACTS = Path(__file__).resolve().parent.parent / "test-artifacts"
 VOID = {"meta", "br", "hr", "img", "input", "link", "wbr", "col", "area", "base", "source"}
@@ -118,3 +118,9 @@ def test_report_renders_in_headless_chromium(tmp_path):
     page.write_text(report_html(_content()))
     ARTIFACTS.mkdir(exist_ok=True)
     render_in_chromium(page, ARTIFACTS / "report_fixture.png")
+
+
+def test_diode_and_stage_is_drawn():
+    page = report_html(_content(fixture_diode_plan()))
+    text = check_report_html(page)
+    assert "one diode and divider per input (3: a, b, c)" in text and "NAND-3 on 12AU7" in text

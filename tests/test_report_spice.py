@@ -11,7 +11,7 @@ import pytest
 
 from planner.catalogue import builtin_catalogue
 from planner.report import ngspice_path, sanitise, simulate, spice_deck
-from test_report_fixtures import FIXTURE_LOGIC, fixture_plan
+from test_report_fixtures import FIXTURE_LOGIC, fixture_diode_plan, fixture_plan
 
 needs_ngspice = pytest.mark.skipif(ngspice_path() is None,
                                    reason="ngspice is not installed (Debian package ngspice)")
@@ -126,3 +126,12 @@ def test_a_wrong_plan_is_caught():
     deck = spice_deck(dataclasses.replace(plan, parts=parts), builtin_catalogue())
     with pytest.raises(AssertionError, match="disagrees"):
         check_truth_table(plan, deck, lambda out, v: FIXTURE_LOGIC[out](v["a"], v["b"]))
+
+
+@needs_ngspice
+def test_diode_and_fixture_in_ngspice():
+    """A three-input diode AND on one triode is a NAND-3 in ngspice; the deck models the silicon diodes."""
+    plan = fixture_diode_plan()
+    deck = spice_deck(plan, builtin_catalogue())
+    assert "D1 s1_g1 s1_t1 d_silicon" in deck.text and deck.text.count(".model d_silicon D(") == 1
+    check_truth_table(plan, deck, lambda out, v: 1 - (v["a"] & v["b"] & v["c"]))

@@ -138,10 +138,10 @@ def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool, drawn_i
         diode, tap = diodes[0]
         d.add(elm.Dot().at((x, y)))
         tap_xy = (x - 3.0, y)
-        d.add(elm.Diode().at(tap_xy).to((x, y)).label(f"{diode.ref}", loc="top", fontsize=10))
+        d.add(elm.Diode().at((x, y)).to(tap_xy).label(diode.ref, loc="bottom", fontsize=10))  # anode at the grid
         inputs = [t for _, t in diodes]
-        _text(d, (x - 1.5, y - 0.9), f"one diode and divider per input ({len(diodes)}: "
-                                     f"{', '.join(_input_names(net, inputs))})", ("center", "top"), 9)
+        _text(d, (x - 3.0, y + 1.0), f"one diode and divider per input ({len(diodes)}: "
+                                     f"{', '.join(_input_names(net, inputs))})", ("center", "bottom"), 10)
         _feed(d, net, tap_xy, tap, upward_return, drawn_inputs)
         return
     if not upper:
