@@ -100,7 +100,7 @@ def _check(network, d, options):
                 assert len(b.inputs) == 1
 
 
-@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(designs(), st.sampled_from(MODES))
 def test_random_designs_are_proven_in_every_mode(d, options):
     """Every synthesised network computes the design on its care set (planner.logic truth tables)."""
@@ -109,7 +109,7 @@ def test_random_designs_are_proven_in_every_mode(d, options):
     assert synthesise(d, options).network == result.network     # deterministic
 
 
-@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(designs())
 def test_random_designs_with_followers_at_fanout_two(d):
     """insert_followers at fan-out 2 keeps the function and meets the limit everywhere."""

@@ -38,7 +38,7 @@ def insert_followers(network: Network, fanout_limit: FanoutLimit) -> Network:
     >>> inv = Network(("a",), (Stage("S1", "n1", "inverting", (Branch(("a",), "single"),)),),
     ...               {"x": "n1", "y": "n1", "z": "n1"})
     >>> [s.view for s in insert_followers(inv, 2).stages]
-    ['inverter', 'follower', 'follower']
+    ['inverter', 'follower']
     """
     limit = fanout_limit if callable(fanout_limit) else (lambda _stage, n=fanout_limit: n)
     records = _records(network)

@@ -14,15 +14,18 @@ than a branch and sums longer than a stage are decomposed (see
 :mod:`planner.stages.decompose` and :meth:`Builder.aoi_net`).  The choice of
 candidates minimises sections, then stages, then diodes: all polarity choices
 of up to :data:`MAX_POLARITY_ENUMERATION` signals are tried, more by coordinate
-descent; each output takes its cheaper candidate given the signals.  In NAND
-mode a block of at most three variables is also tried as an exact minimum NAND
-circuit (:mod:`planner.stages.nand_exact`).  The result is proven against the
-design before it is returned.
+descent; each output takes its cheaper candidate given the signals.  Where
+branches take two inputs, a block of at most three inputs is also tried as an
+exact minimum NAND circuit over every net already built
+(:mod:`planner.stages.nand_exact`), and in ``aoi`` mode a whole NAND-style
+build (NAND and inverter stages are AND-OR-INVERT stages too) is kept when it
+needs fewer sections.  The result is proven against the design before it is
+returned.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from types import MappingProxyType
 from typing import Callable, Mapping
 
@@ -153,7 +156,7 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
             if kind == "signal":
                 bits[name] = table_from_expr(flat_expr, names).on
             support = used_inputs(names, flat_expr, flat_dc)
-            if options.mode == "nand" and len(support) <= EXACT_MAX_VARIABLES:
+            if options.fanin >= 2 and len(support) <= EXACT_MAX_VARIABLES:
                 flat = table_from_expr(flat_expr, support, flat_dc)
         blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
     return blocks
@@ -348,17 +351,9 @@ def _candidates(options, blocks: Mapping[str, _Block], block_names: list[str], c
     return result
 
 
-def synthesise(design, options: SynthesisOptions = SynthesisOptions()) -> Synthesis:
-    """The stage network for ``design`` under ``options``, proven against the design.
-
-    Deterministic: the same design and options give an identical network.
-    Raises :class:`planner.stages.ProofError` if the result were ever wrong.
-    """
-    block_list = _blocks(design, options)
-    blocks = {b.name: b for b in block_list}
-    signals = _needed_signals(design, blocks)
-    cache: dict = {}
-
+def _choose_polarity(design, options, blocks, signals, cache):
+    """The best build over signal polarities: all of them up to :data:`MAX_POLARITY_ENUMERATION`
+    signals, else coordinate descent from all-true.  Returns ((cost, assembly, chosen), polarity)."""
     def build(polarity):
         asm, chosen = _assemble(design, options, blocks, signals, polarity, cache)
         return asm.builder.live_cost(asm.roots), asm, chosen
@@ -381,6 +376,26 @@ def synthesise(design, options: SynthesisOptions = SynthesisOptions()) -> Synthe
                     best, polarity, improved = result, trial, True
             if not improved:
                 break
+    return best, polarity
+
+
+def synthesise(design, options: SynthesisOptions = SynthesisOptions()) -> Synthesis:
+    """The stage network for ``design`` under ``options``, proven against the design.
+
+    Deterministic: the same design and options give an identical network.
+    Raises :class:`planner.stages.ProofError` if the result were ever wrong.
+    """
+    block_list = _blocks(design, options)
+    blocks = {b.name: b for b in block_list}
+    signals = _needed_signals(design, blocks)
+    cache: dict = {}
+    best, polarity = _choose_polarity(design, options, blocks, signals, cache)
+    if options.mode == "aoi" and options.fanin >= 2:
+        # NAND and inverter stages are AND-OR-INVERT stages too: the NAND-style build
+        # (multi-level, exact for small blocks) sometimes needs fewer sections.
+        nand = _choose_polarity(design, replace(options, mode="nand"), blocks, signals, cache)
+        if nand[0][0] < best[0]:
+            best, polarity = nand
     _, asm, chosen = best
     outputs = {name: net for name, (net, _, _) in chosen.items()}
     forms = {name: _form(blocks[name], p, exact) for name, (_, p, exact) in chosen.items()}
