@@ -21,14 +21,14 @@ Body = tuple[tuple[tuple[str, ...], str], ...]
 class Builder:
     """Stages under construction for one synthesis; :meth:`copy` gives a trial branch."""
 
-    def __init__(self, options: SynthesisOptions, complements: Mapping[str, str] = {}) -> None:
+    def __init__(self, options: SynthesisOptions, complements: Mapping[str, str] | None = None) -> None:
         self.options = options
         self.decomposer = Decomposer(fanin=options.fanin, max_branches=options.branch_limit,
                                      branch_cost=self._branch_cost)
         self.drivers: dict[str, tuple] = {}
         self._by_body: dict[tuple, str] = {}
         self._complement: dict[str, str] = {}
-        for a, b in sorted(complements.items()):
+        for a, b in sorted((complements or {}).items()):
             self._complement[a], self._complement[b] = b, a
 
     def copy(self) -> "Builder":
