@@ -88,14 +88,25 @@ def _check_invariants(plan, stock, design):
         assert e.heater_volts == volts[e.winding]
     assert plan.budget.plate_ma_worst <= plan.budget.plate_max_ma
     assert plan.budget.bias_ma <= plan.budget.bias_max_ma
-    # Every branch input reaches its grid (or diode tap) through a divider's upper resistor,
-    # whose grid side also has a lower resistor to BIAS.
+    # Every branch input reaches a divider: directly (its upper resistor from the input net to the
+    # branch's grid node) or through an AND diode (cathode on the input, anode on the branch's gate
+    # node, which feeds a divider); every divider's grid side has its lower resistor to BIAS.
     resistors = [p for p in plan.parts if p.kind == "resistor"]
+    diode_pairs = {tuple(net for _pin, net in p.pins) for p in plan.parts if p.kind == "diode"}
+    diode_pairs |= {(dict(u.nets)["plate"], dict(u.nets)["cathode"]) for e in plan.envelopes
+                    for u in e.sections if u.means == "diode"}
+
+    def upper_from(net, stage, b):
+        return [p for p in resistors if p.role == "divider upper" and p.stage == stage.id
+                and p.pins[0][1] == net and p.pins[1][1].startswith(f"{stage.output}.b{b}.")]
     for stage in plan.stages:
         for b, branch in enumerate(stage.branches, 1):
             for net in branch.inputs:
-                uppers = [p for p in resistors if p.role == "divider upper" and p.stage == stage.id
-                          and p.pins[0][1] == net and p.pins[1][1].startswith(f"{stage.output}.b{b}.")]
+                uppers = upper_from(net, stage, b)
+                if branch.means == "diode":
+                    gate = f"{stage.output}.b{b}.x"
+                    assert (gate, net) in diode_pairs, (stage.id, b, net)
+                    uppers = upper_from(gate, stage, b)
                 assert uppers, (stage.id, b, net)
                 for upper in uppers:
                     node = upper.pins[1][1]
@@ -124,12 +135,12 @@ def _check_invariants(plan, stock, design):
 
 TRIODES = """\
 12AU7: {count: 6}
-6AU6: {count: 4}
+6AU6: {count: 8}
 """
 
 
 def test_plan_invariants_and_bound(tmp_path):
-    stock = _stock(tmp_path, TRIODES + "5915: {count: 2}\n", diodes="solid-state")
+    stock = _stock(tmp_path, TRIODES + "5915: {count: 4}\n", diodes="solid-state")
     design = _design(tmp_path, """\
         y: ~(a & b | c)
         z: a | b
@@ -182,7 +193,7 @@ def _brute_force_optimum(problem) -> float:
                                          ("y: ~(a & b)\nz: ~c\n", 3.0),
                                          ("y: a & b | c\n", 0.6)])
 def test_integer_program_matches_brute_force_on_tiny_designs(tmp_path, outputs, h1):
-    stock = _stock(tmp_path, "12AU7: {count: 2}\n6AU6: {count: 3}\n5915: {count: 1, scarce: true}\n", h1=h1)
+    stock = _stock(tmp_path, "12AU7: {count: 2}\n6AU6: {count: 4}\n5915: {count: 2, scarce: true}\n", h1=h1)
     design = _design(tmp_path, outputs)
     options = MappingOptions()
     rules = planning.design_rules(stock, options)
@@ -198,22 +209,26 @@ def test_integer_program_matches_brute_force_on_tiny_designs(tmp_path, outputs, 
 
 def test_scarce_type_avoided_and_reserve_untouched(tmp_path):
     design = _design(tmp_path, "y: ~(a & b)\nz: ~(b & c)\n")
-    # Without a scarce mark, 5915 dual-control sections make each NAND one envelope.
-    plain = plan_design(design, _stock(tmp_path, "12AU7: {count: 2, reserve: 1}\n6AU6: {count: 4}\n"
-                                                 "5915: {count: 2}\n", diodes="solid-state"))
-    assert any(u.tube == "5915" and u.used for u in plain.stock)
-    heavy = _stock(tmp_path, "12AU7: {count: 2, reserve: 1}\n6AU6: {count: 4}\n5915: {count: 2, scarce: true}\n",
-                   diodes="solid-state", objective="objective: {scarce: 50.0}\n", name="heavy.yaml")
-    plan = plan_design(design, heavy)
-    used = {u.tube: u for u in plan.stock}
-    assert used["5915"].used == 0
-    assert used["12AU7"].used <= 1
-    _check_invariants(plan, heavy, design)
+    heavy = "objective: {scarce: 50.0}\n"
+    # Two 6AU6 usable: the scarce 5915 is avoided.
+    stock = _stock(tmp_path, "6AU6: {count: 3, reserve: 1}\n5915: {count: 2, scarce: true}\n",
+                   diodes="solid-state", objective=heavy)
+    plan = plan_design(design, stock)
+    used = {u.tube: u.used for u in plan.stock}
+    assert used == {"5915": 0, "6AU6": 2}
+    _check_invariants(plan, stock, design)
+    # One 6AU6 usable (two kept in reserve): the reserve stays untouched and one 5915 is used.
+    stock = _stock(tmp_path, "6AU6: {count: 3, reserve: 2}\n5915: {count: 2, scarce: true}\n",
+                   diodes="solid-state", objective=heavy, name="reserved.yaml")
+    plan = plan_design(design, stock)
+    used = {u.tube: u.used for u in plan.stock}
+    assert used == {"5915": 1, "6AU6": 1}
+    _check_invariants(plan, stock, design)
 
 
 def test_shortage_gives_the_smallest_purchase(tmp_path):
     design = _design(tmp_path, "y: ~(a | b)\nz: ~(c | d)\nw: ~(a | c)\nv: ~(b | d)\n", inputs="[a, b, c, d]")
-    stock = _stock(tmp_path, "12AU7: {count: 1}\n6AU6: {count: 0}\n", h1=6.0)
+    stock = _stock(tmp_path, "6AU6: {count: 1}\n5915: {count: 0}\n", h1=6.0)
     with pytest.raises(Shortage) as short:
         plan_design(design, stock)
     purchase = short.value.purchase
@@ -229,12 +244,14 @@ def test_shortage_gives_the_smallest_purchase(tmp_path):
 
 def test_overloaded_winding_is_reported(tmp_path):
     design = _design(tmp_path, "y: ~(a | b)\nz: ~(b | c)\n")
-    stock = _stock(tmp_path, "12AU7: {count: 4}\n", h1=0.3)
+    stock = _stock(tmp_path, "6AU6: {count: 4}\n", h1=0.3)
     with pytest.raises(Shortage) as short:
         plan_design(design, stock)
-    # Two 12AU7 (0.3 A each at 6.3 V, RCA RC-30 12AU7 data; or 0.15 A each in series on 12.6 V).
+    # Two NOR-2 stages take four single-section 6AU6 envelopes, each heater 0.3 A at 6.3 V by the
+    # catalogue (no 12.6 V connection), so the 0.3 A winding is 0.9 A short; nothing to buy.
     assert short.value.purchase == {}
-    assert "winding" in short.value.message
+    assert short.value.overloads == pytest.approx({"H1": 0.9})
+    assert "winding H1 over by 0.90 A" in short.value.message
 
 
 def test_lexicographic_mode_and_highs_agree(tmp_path):

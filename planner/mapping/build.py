@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from .assemble import Placement
 from .model import Counts, Problem
-from .parts import NetlistBuilder, grid_node, tap_node
+from .parts import NetlistBuilder, gate_node, grid_node
 from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Envelope, Part, PlacedBranch, PlacedStage, Plan, SectionUse,
                    Solution, StockUse, WindingLoad)
 from .problem import branch_realisation
@@ -60,17 +60,17 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             diodes = []
             if real.means == "diode":
                 rec = family.receivers[(way.tube, "diode")]
-                for k, source in enumerate(branch.inputs, 1):
-                    vacuum = None
-                    if problem.vacuum_diodes:
+                gate = gate_node(stage.output, b)
+                vacuum = None
+                if problem.vacuum_diodes:
+                    vacuum = []
+                    for k, source in enumerate(branch.inputs, 1):
                         dref, dpos = placement.at[(stage.id, b, k)]
-                        dtube = stock.catalogue.get(sockets[dref].tube)
-                        dsec = dtube.diode_sections[dpos]
-                        vacuum = (dref, dsec)
+                        dsec = stock.catalogue.get(sockets[dref].tube).diode_sections[dpos]
+                        vacuum.append((dref, dsec))
                         uses[dref].append(SectionUse(dsec.index, "diode", stage.id,
-                                                     (("cathode", tap_node(stage.output, b, k)), ("plate", g1))))
-                    diodes.append(net.diode_input(stage, source, tap_node(stage.output, b, k), g1, rec, vacuum))
-                net.grid_return(stage, g1, rec)
+                                                     (("cathode", source), ("plate", gate))))
+                diodes = list(net.diode_gate(stage, branch.inputs, gate, g1, rec, vacuum))
             else:
                 for role, source in zip(real.roles, branch.inputs):
                     node = g1 if role == "grid" else grid_node(stage.output, b, "g3")

@@ -8,9 +8,9 @@ Circuits (the electrical layer's templates, planner.electrical):
 * every grid input: the receiver's divider, upper resistor from the driving
   net to the grid node, lower from the grid node to BIAS (a speed-up capacitor
   across the upper one when the rules ask for it);
-* a diode-AND input: the divider ends in a tap node; a diode (anode at the
-  grid node, cathode at the tap) per input; the grid returns to GND through
-  the receiver's return resistor;
+* a diode-AND branch: a gate node pulled up to B+ through the receiver's
+  pull-up, a diode from the gate node (anode) to each input net (cathode), and
+  the receiver's divider from the gate node to the grid;
 * follower: plate at B+, grid on the input net, cathode on the output net,
   cathode load from the output net to BIAS.
 
@@ -25,7 +25,7 @@ a centre-tapped heater in parallel has both ends on ``H1_RET`` and the tap on
 
 Dissipation figures are worst-case upper bounds from the templates' worst
 figures (plate supply high, resistors at their tolerance ends): a divider's
-upper resistor with the whole high plate supply across it; a lower resistor
+upper resistor (and a gate pull-up) with the whole high plate supply across it; a lower resistor
 carrying the receiver's worst bias current; a plate load the lesser of its
 stage's worst supply current and the whole high supply; a follower's cathode
 load its worst bias current; a screen series resistor the whole high supply,
@@ -143,24 +143,22 @@ class NetlistBuilder:
         if rec.speedup_pf:
             self.capacitor(source, node, rec.speedup_pf * 1e-12, "speed-up", stage.id)
 
-    def diode_input(self, stage, source: str, tap: str, grid: str, rec, vacuum: tuple | None) -> str:
-        """Divider to a tap, and the AND-gate diode from the grid to the tap; the diode's designator."""
-        ratio = self.hi(rec.upper_ohms) / (self.hi(rec.upper_ohms) + self.lo(rec.lower_ohms))
-        upper_v = (self.vb + self.vc) * ratio
-        self.resistor(source, tap, rec.upper_ohms, rec.upper_watts, upper_v ** 2 / self.lo(rec.upper_ohms),
-                      "divider upper", stage.id)
-        self.resistor(tap, BIAS_RAIL, rec.lower_ohms, rec.lower_watts,
-                      (rec.bias_ma_worst / 1e3) ** 2 * self.lo(rec.lower_ohms), "divider lower", stage.id)
-        if vacuum is None:
-            return self.diode(grid, tap, "AND diode", stage.id)
-        ref, section = vacuum
-        self.pin(ref, section.pins["plate"], grid)
-        self.pin(ref, section.pins["cathode"], tap)
-        return f"{ref}.{section.index}"
-
-    def grid_return(self, stage, grid: str, rec) -> None:
-        self.resistor(grid, GROUND, rec.return_ohms, rec.return_watts, self.vc ** 2 / self.lo(rec.return_ohms),
-                      "grid return", stage.id)
+    def diode_gate(self, stage, inputs, gate: str, grid: str, rec, vacuum: list | None) -> tuple[str, ...]:
+        """A diode-AND gate: pull-up from B+ to the gate node, a diode from the gate to each input
+        (anode at the gate), and the receiver's divider from the gate to the grid; the diodes' designators."""
+        self.resistor(PLATE_RAIL, gate, rec.pullup_ohms, rec.pullup_watts, self.vb ** 2 / self.lo(rec.pullup_ohms),
+                      "gate pull-up", stage.id)
+        refs = []
+        for k, source in enumerate(inputs):
+            if vacuum is None:
+                refs.append(self.diode(gate, source, "AND diode", stage.id))
+                continue
+            ref, section = vacuum[k]
+            self.pin(ref, section.pins["plate"], gate)
+            self.pin(ref, section.pins["cathode"], source)
+            refs.append(f"{ref}.{section.index}")
+        self.divider(stage, gate, grid, rec)
+        return tuple(refs)
 
 
 def section_nets(tube, section, job_means: str, nets: dict[str, str]) -> tuple[tuple[str, str], ...]:
@@ -174,13 +172,13 @@ def grid_node(stage_output: str, branch: int, grid: str) -> str:
     return f"{stage_output}.b{branch + 1}.{grid}"
 
 
-def tap_node(stage_output: str, branch: int, k: int) -> str:
-    """Net of a diode-AND input's divider tap, e.g. ``n3.b1.t2``."""
-    return f"{stage_output}.b{branch + 1}.t{k}"
+def gate_node(stage_output: str, branch: int) -> str:
+    """Net of a diode-AND gate node (the diodes' anodes), e.g. ``n3.b1.x``."""
+    return f"{stage_output}.b{branch + 1}.x"
 
 
 def roles_of(template: str, n_inputs: int) -> tuple[str, ...]:
     return branch_realisation(template, n_inputs).roles
 
 
-__all__ = ["NetlistBuilder", "SectionUse", "farads_text", "grid_node", "ohms_text", "section_nets", "tap_node"]
+__all__ = ["NetlistBuilder", "SectionUse", "farads_text", "grid_node", "ohms_text", "gate_node", "section_nets"]

@@ -241,9 +241,12 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
                     kind.diode_sections):
                 continue
             held = tuple((t, n) for t, n in sorted(purchase.items()) if t != kind.tube)
-            trial = diagnose(problem, solver=options.solver, gap=options.gap,
-                             time_limit_s=max(1.0, deadline - time.monotonic()),
-                             allow_only=(other.tube,) + tuple(t for t, _ in held), fixed_purchase=held)
+            try:
+                trial = diagnose(problem, solver=options.solver, gap=options.gap,
+                                 time_limit_s=max(1.0, deadline - time.monotonic()),
+                                 allow_only=(other.tube,) + tuple(t for t, _ in held), fixed_purchase=held)
+            except Infeasible:
+                continue
             over = sum(v for _w, v in trial.overloads)
             if over <= sum(overloads.values()) + 1e-6:
                 n = dict(zip((k.tube for k in problem.kinds), trial.purchase))[other.tube]

@@ -15,8 +15,9 @@ and template):
   high level, above 0 V; and the template's worst supply current is taken with
   the grids at their highest, which g3 at 0 V does not exceed;
 * ``diode``: every branch a diode AND of its inputs (one diode an input, a
-  one-input branch included) on one single-grid section (receiver "diode");
-  where the stock has diodes;
+  one-input branch included: a gate node pulled up to B+, a diode from it to
+  each input, one "diode" receiver's divider from it to the grid) on one
+  single-grid section; where the stock has diodes;
 * ``follower``: a cathode follower on a triode section; never fed by another
   follower (the family's rule).
 
@@ -49,15 +50,26 @@ def branch_realisation(template: str, n_inputs: int) -> Realisation:
     """The wiring of a branch of ``n_inputs`` inputs under ``template``.
 
     >>> branch_realisation("dual", 1), branch_realisation("diode", 3).roles
-    (Realisation(means='g1-only', roles=('grid',)), ('diode', 'diode', 'diode'))
+    (Realisation(means='g1-only', roles=('grid',)), ('diode',))
     """
     if template == "single":
         return Realisation("single", ("grid",))
     if template == "dual":
         return Realisation("dual", ("grid", "grid3")) if n_inputs == 2 else Realisation("g1-only", ("grid",))
     if template == "diode":
-        return Realisation("diode", ("diode",) * n_inputs)
+        return Realisation("diode", ("diode",))
     raise ValueError(f"no branch in a {template} template")
+
+
+def pullup_ma_worst(family, rec) -> float:
+    """Most current a diode gate's pull-up can take from B+: the whole high supply across its lowest value.
+
+    (The driver templates do not count it; its typical figure is the nominal
+    supply over the nominal value, an upper figure too.)
+    """
+    rules = family.rules
+    vb = family.rails.plate_volts * (1 + rules.supply_tolerance)
+    return vb / (rec.pullup_ohms * (1 - rules.resistor_tolerance)) * 1e3
 
 
 def heater_ways(tube, windings) -> tuple[HeaterWay, ...]:
@@ -123,7 +135,7 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
                 continue
             if template == "diode" and (diode_fanin < 2 or any(w > diode_fanin for w in widths)):
                 continue
-            bias, diodes, missing = 0.0, 0, False
+            bias, plate, typical, diodes, missing = 0.0, 0.0, 0.0, 0, False
             for width in widths:
                 for role in branch_realisation(template, width).roles:
                     rec = family.receivers.get((tube, role))
@@ -131,13 +143,16 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
                         missing = True
                         break
                     bias += rec.bias_ma_worst
+                    if rec.pullup_ohms is not None:
+                        plate += pullup_ma_worst(family, rec)
+                        typical += family.rails.plate_volts / rec.pullup_ohms * 1e3
                 diodes += width if template == "diode" else 0
             if missing:
                 continue
             kind = {"single": "single", "dual": "dual", "diode": "single"}[template]
             demand = ((kind, len(widths)),) if widths else ()
-            ways.append(Way(tube, template, demand, driver.supply_ma_worst, driver.supply_ma_typical, bias,
-                            driver.fanout_limit, diodes))
+            ways.append(Way(tube, template, demand, driver.supply_ma_worst + plate,
+                            driver.supply_ma_typical + typical, bias, driver.fanout_limit, diodes))
     return tuple(ways)
 
 

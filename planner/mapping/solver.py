@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
+import sys
 import tempfile
 import time
 from dataclasses import dataclass
@@ -38,6 +40,20 @@ class Outcome:
         return max(0.0, self.objective - self.bound) / max(abs(self.objective), 1e-9)
 
 
+@contextlib.contextmanager
+def _quiet_stdout():
+    """Silence file descriptor 1 (HiGHS prints its banner from C before any option applies)."""
+    sys.stdout.flush()
+    saved = os.dup(1)
+    try:
+        with open(os.devnull, "wb") as null:
+            os.dup2(null.fileno(), 1)
+            yield
+    finally:
+        os.dup2(saved, 1)
+        os.close(saved)
+
+
 def highs_available() -> bool:
     """Whether pulp can reach HiGHS through the highspy package."""
     return pulp.HiGHS().available()
@@ -57,7 +73,8 @@ def solve(model: pulp.LpProblem, *, solver: str, time_limit_s: float, gap: float
                              "or use the default solver 'cbc'")
         engine = pulp.HiGHS(mip=not relax, msg=False, timeLimit=limit, gapRel=gap, threads=1,
                             random_seed=1)
-        model.solve(engine)
+        with _quiet_stdout():
+            model.solve(engine)
         bound = None
         if not relax and model.sol_status in (pulp.LpSolutionOptimal, pulp.LpSolutionIntegerFeasible):
             bound = float(model.solverModel.getInfo().mip_dual_bound)
