@@ -111,7 +111,7 @@ def _check_rewrite(builder, inputs, complements, net, expected):
     network = builder.network(inputs, complements, {"y": net}, {}, {}, {})
     values = simulate(network)
     assert values[network.outputs["y"]] == table_from_expr(expected, inputs).on
-    assert _sympy_equal(network_exprs(network)[network.outputs["y"]], expected)
+    assert _sympy_equal(network_exprs(network)[network.outputs["y"]], expected)   # sympy satisfiable
     for stage in network.stages:
         for b in stage.branches:
             assert len(b.inputs) <= builder.options.fanin

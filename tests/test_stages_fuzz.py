@@ -7,6 +7,7 @@ check by sympy's satisfiable on small cases.
 
 from __future__ import annotations
 
+import pytest
 import sympy
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -91,7 +92,7 @@ def _check(network, d, options):
     values = simulate(network)
     for out in d.outputs:
         t = table_from_expr(d.flatten(out.expr), d.input_names, d.flatten(out.dont_care))
-        assert (values[network.outputs[out.name]] ^ t.on) & t.care == 0
+        assert (values[network.outputs[out.name]] ^ t.on) & t.care == 0   # planner.logic truth table
     for stage in network.stages:
         assert len(stage.branches) <= options.branch_limit
         for b in stage.branches:
@@ -118,3 +119,12 @@ def test_random_designs_with_followers_at_fanout_two(d):
     counts = network.load_counts()
     driven = {s.output for s in network.stages}
     assert all(counts[net] <= 2 for net in driven)
+
+
+@pytest.mark.fuzz_long
+@settings(max_examples=10_000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs(), st.sampled_from(MODES))
+def test_random_designs_long_run(d, options):
+    """The long run of the same property (``pytest -m fuzz_long``)."""
+    _check(synthesise(d, options).network, d, options)
+    _check(insert_followers(synthesise(d, options).network, 2), d, options)

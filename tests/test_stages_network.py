@@ -26,7 +26,7 @@ def b(*inputs, means=None):
 ])
 def test_textbook_views(branches, view):
     """Names as in the logic-family literature (common practice): AOI shape lists branch widths."""
-    assert stage_view("inverting", branches) == view
+    assert stage_view("inverting", branches) == view                    # common practice names
     assert Stage("S1", "n1", "inverting", branches).view == view
 
 
@@ -69,7 +69,7 @@ def test_input_patterns_follow_sympy_truth_table_order():
     pats, _ = input_patterns(("a", "c", "d"))
     for index, (values, _) in enumerate(truth_table(a, [a, c, d])):
         for name, v in zip(("a", "c", "d"), values):
-            assert (pats[name] >> index & 1) == v
+            assert (pats[name] >> index & 1) == v                       # sympy truth_table row order
 
 
 def test_simulation_matches_sympy():
@@ -86,7 +86,7 @@ def test_simulation_matches_sympy():
     for index, (row, _) in enumerate(truth_table(sympy.true, syms)):
         env = dict(zip(syms, row))
         for s in net.stages:
-            assert (values[s.output] >> index & 1) == bool(exprs[s.output].subs(env))
+            assert (values[s.output] >> index & 1) == bool(exprs[s.output].subs(env))   # sympy evaluation
 
 
 def test_simulation_of_chosen_assignments():
