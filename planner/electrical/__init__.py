@@ -1,0 +1,29 @@
+"""DC design of stage templates: plate loads, level-shifting dividers, logic levels and margins.
+
+Public API:
+
+- ``Rails(plate_volts, bias_volts)``, ``DesignRules(...)``
+- E series (IEC 60063): ``e_series(name)``, ``series_values(name, lo, hi)``,
+  ``nearest_values(r_ohms, series)``, ``resistor_rating_watts(watts)``
+- ``design_family(rails, tubes, rules) -> Family`` with ``Driver``,
+  ``Receiver``, ``Follower`` and ``Shortfall`` (why a part was rejected)
+- ``design_template(tube, means, rails, fanout, rules) -> Template``,
+  raising ``NoTemplate``
+- ``brent_root(f, lo, hi)`` (the 1-D solver used throughout)
+
+See docs/electrical.md for the circuits, the worst-case method and the
+mixing rule of a family.
+"""
+
+from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
+from .family import design_family
+from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Template
+from .roots import brent_root
+from .rules import DesignRules, Rails
+from .template import design_template
+
+__all__ = [
+    "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
+    "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "nearest_values",
+    "resistor_rating_watts", "series_values",
+]

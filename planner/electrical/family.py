@@ -1,0 +1,239 @@
+"""A logic family for given rails and tube types: levels, drivers, receivers, followers.
+
+Mixing rule. The family fixes three plate-node levels: ``high_min``,
+``low_max`` and ``follower_low_max`` (>= low_max). Every inverting driver
+holds its node at or above ``high_min`` with up to its ``fanout_limit``
+loads of the family's heaviest receiver (the one drawing most current at
+``high_min``) and at or below ``low_max`` with one load of the lightest;
+every follower holds its cathode at or above ``high_min`` and at or below
+``follower_low_max``; every receiver's divider turns any level at or above
+``high_min`` into a grid at or above 0 V and any level at or below
+``follower_low_max`` into a grid at least the margin below cut-off, worst
+case. A node's voltage falls monotonically as its loads draw more, so a
+node with fewer or lighter loads than the extremes only sits further
+from the threshold that matters. Hence any driver may feed any mix of
+receivers up to its fan-out limit.
+
+How the levels are chosen. Candidate levels are fractions of the nominal
+plate supply: high_min from 35 % to 85 %, follower_low_max from 6 % to 36 %
+(at least 15 % below high_min), and the follower allowance
+follower_low_max - low_max from 0 to 6 % (0 when no type can be a
+follower). Each candidate is scored by, in order: the sum over drivers
+and followers that pass of their fan-out, each counted up to the rules'
+fan-out goal (so a type that passes only with a fan-out of one does not
+outweigh better fan-out for the rest); the least driver fan-out; the least
+receiver margin over its requirement. A coarse grid of (high, low) without followers comes
+first; then the neighbours of its best point at half the step, with each
+follower allowance. Cost: about 65 evaluations, each designing every
+receiver, driver and follower once.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from planner.catalogue.types import FrozenMap, TubeType
+
+from .context import TubeContext
+from .drivers import Envelope, design_driver, make_envelope, precheck
+from .followers import design_follower
+from .parts import Family, Follower, Receiver, Shortfall
+from .receivers import design_receiver
+from .rules import DesignRules, Rails
+
+HIGH_FRACTIONS = (0.35, 0.45, 0.55, 0.65, 0.75, 0.85)
+LOW_FRACTIONS = (0.06, 0.12, 0.18, 0.24, 0.30, 0.36)
+FOLLOWER_FRACTIONS = (0.0, 0.015, 0.03, 0.06)
+MIN_WINDOW_FRACTION = 0.15
+
+
+@dataclass(frozen=True)
+class Levels:
+    """Candidate family levels in volts."""
+
+    high: float
+    accept_low: float
+    drive_low: float
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """Everything designed for one candidate of levels, with its score."""
+
+    levels: Levels
+    score: tuple
+    receivers: dict
+    drivers: dict
+    followers: dict
+    rejected: dict
+
+
+def evaluate(ctxs: Sequence[TubeContext], levels: Levels, means_filter=None, with_followers=True,
+             goal: int | None = None) -> Outcome:
+    """Design receivers, drivers and followers for one set of levels and score the result.
+
+    ``means_filter``: optional set of (tube, means) to consider (templates
+    use one). Receivers are designed for every role a considered means
+    needs; drivers against the envelope of those receivers; then, so that
+    receivers of rejected drivers do not burden the rest, once more against
+    the receivers the accepted drivers need. Followers last, fed by the
+    accepted driver with the smallest plate load.
+    """
+    rules = ctxs[0].rules
+    goal = goal or rules.fanout_goal
+    receivers: dict[tuple[str, str], Receiver] = {}
+    rejected: dict[tuple[str, str], Shortfall] = {}
+    wanted = {}
+    for c in ctxs:
+        for m in c.means:
+            if means_filter is not None and (c.name, m) not in means_filter:
+                continue
+            problem = precheck(c, m)
+            if problem is None:
+                wanted[(c.name, m)] = (c, m)
+            else:
+                rejected[(c.name, m)] = problem
+    roles_needed = sorted({(c.name, r): c for c, m in wanted.values() for r in c.roles(m)}.items())
+    ctx_of = {c.name: c for c in ctxs}
+    for (name, role), c in roles_needed:
+        result = design_receiver(c, role, levels.accept_low, levels.high)
+        if isinstance(result, Shortfall):
+            rejected[(name, role)] = result
+        else:
+            receivers[(name, role)] = result
+
+    def run(keys, recs):
+        pairs = [(ctx_of[k[0]], r) for k, r in sorted(recs.items())]
+        env = make_envelope(pairs, levels.high, levels.drive_low)
+        out, bad = {}, {}
+        for key in keys:
+            c, m = wanted[key]
+            missing = [r for r in c.roles(m) if (c.name, r) not in receivers]
+            if missing:
+                bad[key] = rejected[(c.name, missing[0])]
+                continue
+            d = design_driver(c, m, levels.drive_low, levels.high, env, goal)
+            (bad if isinstance(d, Shortfall) else out)[key] = d
+        return out, bad, pairs
+
+    if not receivers:
+        drivers, bad, pairs = {}, {k: rejected[(k[0], wanted[k][0].roles(k[1])[0])] for k in wanted}, []
+    else:
+        drivers, bad, pairs = run(sorted(wanted), receivers)
+        used = {(k[0], r) for k in drivers for r in wanted[k][0].roles(k[1])}
+        if drivers and used != set(receivers):
+            lighter = {k: r for k, r in receivers.items() if k in used}
+            drivers2, bad2, pairs2 = run(sorted(drivers), lighter)
+            if set(drivers2) == set(drivers):
+                drivers, pairs = drivers2, pairs2
+                bad.update(bad2)
+                for k in sorted(set(receivers) - used):
+                    del receivers[k]
+    rejected.update(bad)
+    followers: dict[str, Follower] = {}
+    if with_followers and drivers:
+        f_env = make_envelope(pairs, levels.high, levels.accept_low)
+        node = min(d.plate_load_ohms for d in drivers.values())
+        for c in ctxs:
+            if not c.follower_capable or (means_filter is not None):
+                continue
+            f = design_follower(c, levels.high, levels.accept_low, levels.drive_low, f_env, node)
+            if isinstance(f, Shortfall):
+                rejected[(c.name, "follower")] = f
+            else:
+                followers[c.name] = f
+    score = _score(rules, goal, receivers, drivers, followers)
+    return Outcome(levels, score, receivers, drivers, followers, rejected)
+
+
+def _score(rules: DesignRules, goal: int, receivers, drivers, followers) -> tuple:
+    if not drivers:
+        return (0, 0, 0.0)
+    useful = sum(min(d.fanout_limit, goal) for d in drivers.values())
+    useful += sum(min(f.fanout_limit, goal) for f in followers.values())
+    fan = min(min(d.fanout_limit, goal) for d in drivers.values())
+    margin = min(min(r.margin_high_volts, r.margin_low_volts - rules.margin_volts) for r in receivers.values())
+    return (useful, fan, round(margin, 1))
+
+
+def _grid(vb: float, highs, lows, follower_steps) -> list[Levels]:
+    out = []
+    for h in highs:
+        for lo in lows:
+            if lo > h - MIN_WINDOW_FRACTION or lo <= 0:
+                continue
+            for f in follower_steps:
+                if f < lo:
+                    out.append(Levels(h * vb, lo * vb, (lo - f) * vb))
+    return out
+
+
+def search_levels(ctxs: Sequence[TubeContext], means_filter=None, goal=None, better=None) -> Outcome:
+    """Best-scoring levels: a coarse grid without followers, then a finer one around its best.
+
+    Stage 1 scores the coarse grid of (high, low) with no follower
+    allowance and no followers. Stage 2 scores the neighbours of the best
+    point at half the step, each with every follower allowance (when some
+    type can be a follower; not for templates, ``means_filter`` given).
+    ``better(outcome) -> tuple`` replaces the score as the sort key when
+    given. Ties go to the candidate met first, so the result is deterministic.
+    """
+    vb = ctxs[0].box.vb(0)
+    follow = any(c.follower_capable for c in ctxs) and means_filter is None
+    key = better or (lambda o: o.score)
+    seen: dict[tuple, Outcome] = {}
+
+    def best_of(grid, with_followers):
+        best = None
+        for levels in grid:
+            tag = (round(levels.high, 6), round(levels.accept_low, 6), round(levels.drive_low, 6), with_followers)
+            if tag not in seen:
+                seen[tag] = evaluate(ctxs, levels, means_filter, with_followers, goal)
+            o = seen[tag]
+            if best is None or key(o) > key(best):
+                best = o
+        return best
+
+    first = best_of(_grid(vb, HIGH_FRACTIONS, LOW_FRACTIONS, (0.0,)), False)
+    h, lo = first.levels.high / vb, first.levels.accept_low / vb
+    dh, dl = (HIGH_FRACTIONS[1] - HIGH_FRACTIONS[0]) / 2, (LOW_FRACTIONS[1] - LOW_FRACTIONS[0]) / 2
+    fs = FOLLOWER_FRACTIONS if follow else (0.0,)
+    return best_of(_grid(vb, (h - dh, h, h + dh), (lo - dl, lo, lo + dl), fs), follow)
+
+
+def design_family(rails: Rails, tubes: Sequence[tuple[TubeType, float]], rules: DesignRules = DesignRules()) -> Family:
+    """The logic family for ``rails`` and the tube types in view, each with its wear (condition).
+
+    See the module docstring for the mixing rule and how levels are chosen.
+    Types are taken in name order (the result does not depend on the order
+    given). Raises ValueError for an empty list.
+
+    >>> from planner.catalogue import builtin_catalogue
+    >>> t = builtin_catalogue().get("12AT7")
+    >>> fam = design_family(Rails(250, -100), [(t, 0.7)])
+    >>> ("12AT7", "single") in fam.drivers, fam.high_min_volts > fam.follower_low_max_volts
+    (True, True)
+    """
+    if not tubes:
+        raise ValueError("design_family needs at least one tube type")
+    by_name = {}
+    for tube, wear in tubes:
+        by_name[tube.name] = min(wear, by_name.get(tube.name, wear))
+    types = {t.name: t for t, _ in tubes}
+    ctxs = [TubeContext(types[n], by_name[n], rails, rules) for n in sorted(by_name)]
+    best = search_levels(ctxs)
+    lv = best.levels
+    return Family(rails=rails, rules=rules, high_min_volts=lv.high, low_max_volts=lv.drive_low,
+                  follower_low_max_volts=lv.accept_low,
+                  drivers=FrozenMap(best.drivers), receivers=FrozenMap(best.receivers),
+                  followers=FrozenMap(best.followers), rejected=FrozenMap(best.rejected))
+
+
+def envelope_of(family: Family, tubes: Sequence[tuple[TubeType, float]], low_volts: float) -> Envelope:
+    """The family's receivers as an envelope of loads at (high_min, ``low_volts``) (for checks and tests)."""
+    wear = {t.name: w for t, w in tubes}
+    types = {t.name: t for t, _ in tubes}
+    ctx = {n: TubeContext(types[n], wear[n], family.rails, family.rules) for n in sorted(types)}
+    pairs = [(ctx[k[0]], r) for k, r in sorted(family.receivers.items())]
+    return make_envelope(pairs, family.high_min_volts, low_volts)

@@ -1,0 +1,165 @@
+"""Design of a cathode follower: the cathode resistor of a triode section for given levels.
+
+The follower's grid takes an inverting stage's plate node directly (its
+levels: at or above ``high_volts``, at or below ``drive_low_volts``); its
+cathode, returned to the bias supply through Rk, is a new node that must
+sit at or above ``high_volts`` with F loads and at or below
+``accept_low_volts`` with one. A conducting follower's cathode sits above
+its grid by the grid-cathode bias it needs, so its low output is higher
+than its input: the family leaves ``accept_low_volts - drive_low_volts`` for
+that.
+
+As for drivers, the cathode node's residual (plate + grid current -
+(Vk - Vbias)/Rk - loads) falls monotonically in Vk, so both level checks
+are closed forms at the level itself. Worst corners: high output with a
+worn tube, lowest plate supply, Rk low, bias most negative, heavy loads;
+low output with a new tube, highest supply, Rk high, bias least negative,
+the lightest load.
+"""
+
+from __future__ import annotations
+
+import math
+
+from planner.catalogue.models import plate_current_amps
+
+from .circuit import follower_cathode_volts, follower_on_node, load_amps
+from .context import TubeContext
+from .drivers import FANOUT_CAP, Envelope
+from .eseries import resistor_rating_watts
+from .parts import Follower, Shortfall
+
+MAX_TRIES = 12
+"""Candidate cathode resistors verified (in order of preference) before giving up."""
+
+def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float, drive_low_volts: float,
+                    env: Envelope, node_load_ohms: float) -> Follower | Shortfall:
+    """Cathode resistor of a follower on ``ctx.tube`` for the levels, or why none passes.
+
+    ``env`` must be the family's envelope at (``high_volts``,
+    ``accept_low_volts``); ``node_load_ohms`` the smallest plate load of
+    any driver that may feed the follower (it limits the grid current when
+    the input node rises towards B+). Rk is scanned over the E series; the
+    pair with the largest fan-out (then the least current) that also passes
+    grid current, heater-cathode voltage, dissipation and watts wins.
+    Cost: O(values) closed forms plus a few nested solves per value tried.
+    """
+    tube, box = ctx.tube, ctx.box
+    if not ctx.follower_capable:
+        return Shortfall("section kind", 0.0, "", f"{ctx.name} has no triode section for a follower")
+    if ctx.plate_rating_problem:
+        limit, excess, unit = ctx.plate_rating_problem
+        return Shortfall(limit, excess, unit, f"the plate supply exceeds the {ctx.name}'s plate rating by {excess:.1f} V")
+    hk = tube.max_heater_cathode_volts
+    if hk is not None and high_volts > hk:
+        return Shortfall("heater-cathode voltage", high_volts - hk, "V",
+                         f"a follower's cathode must reach {high_volts:.1f} V, over the {ctx.name}'s "
+                         f"{hk:g} V heater-cathode rating")
+    delta = accept_low_volts - drive_low_volts
+    if delta <= 0:
+        return Shortfall("follower allowance", 0.0, "V",
+                         "the family's levels leave no room for a follower's grid-cathode voltage "
+                         "(at the levels chosen, followers would cost more fan-out than they add)")
+    heavy, light = env.heavy_amps, env.light_amps
+    vb_lo, vb_hi = box.vb(-1), box.vb(+1)
+    vc_most, vc_least = box.vc(+1), box.vc(-1)
+    on_weak = ctx.wear * plate_current_amps(tube, plate_volts=vb_lo - high_volts, grid_volts=0.0)
+    on_low = plate_current_amps(tube, plate_volts=vb_hi - accept_low_volts, grid_volts=-delta)
+    candidates = []
+    low_fail = high_fail = None
+    for rk in box.values():
+        slack = (accept_low_volts - vc_least) / box.r(rk, +1) - on_low
+        if slack + light < 0:
+            low_fail = rk if low_fail is None else low_fail
+            continue
+        spare = on_weak - (high_volts - vc_most) / box.r(rk, -1)
+        fanout = math.floor(spare / heavy) if heavy > 0 else FANOUT_CAP
+        if light < 0:  # diode inputs push current into a low output: the cathode resistor must take it
+            fanout = min(fanout, math.floor(slack / -light))
+        fanout = min(fanout, FANOUT_CAP)
+        if fanout < 1:
+            high_fail = rk if high_fail is None else max(high_fail, rk)
+            continue
+        candidates.append((-fanout, -rk))
+    if not candidates:
+        if high_fail is not None:
+            rk = box.r(high_fail, -1)
+            v = follower_cathode_volts(tube, ctx.wear, vb_lo, high_volts, rk, vc_most, ((1, env.heavy),))
+            return Shortfall("high level", high_volts - v, "V",
+                             f"a worn {ctx.name} follower's high output is {v:.1f} V with one load, "
+                             f"{high_volts - v:.1f} V below {high_volts:.1f} V")
+        rk = box.r(box.values()[0], +1)
+        v = follower_cathode_volts(tube, 1.0, vb_hi, drive_low_volts, rk, vc_least, env.light_loads(1))
+        return Shortfall("low level", v - accept_low_volts, "V",
+                         f"a {ctx.name} follower's low output is {v:.1f} V, {v - accept_low_volts:.1f} V above "
+                         f"{accept_low_volts:.1f} V")
+    candidates.sort()
+    problem = None
+    for neg_f, neg_rk in candidates[:MAX_TRIES]:
+        result = _verify(ctx, -neg_rk, -neg_f, high_volts, accept_low_volts, drive_low_volts, env, node_load_ohms)
+        if isinstance(result, Follower):
+            return result
+        problem = problem or result
+    return problem
+
+
+def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_low_volts: float,
+            drive_low_volts: float, env: Envelope, node_load_ohms: float) -> Follower | Shortfall:
+    tube, box = ctx.tube, ctx.box
+    vb_lo, vb_hi = box.vb(-1), box.vb(+1)
+    vc_most, vc_least = box.vc(+1), box.vc(-1)
+    rk_lo, rk_hi = box.r(rk, -1), box.r(rk, +1)
+    node = box.r(node_load_ohms, -1)
+    heavy_loads = ((fanout, env.heavy),)
+    # Input node rising towards B+: a worn tube and heavy loads leave the grid most positive.
+    _, _, grid_amps = follower_on_node(tube, ctx.wear, vb_hi, node, rk_lo, vc_most, heavy_loads)
+    if grid_amps > ctx.max_grid_amps:
+        excess = (grid_amps - ctx.max_grid_amps) * 1e3
+        return Shortfall("grid current", excess, "mA", f"the follower's grid would draw {grid_amps * 1e3:.2f} mA")
+    # Highest cathode: new tube, no loads, Rk high, bias least negative.
+    _, vk_max, _ = follower_on_node(tube, 1.0, vb_hi, node, rk_hi, vc_least, ())
+    hk = tube.max_heater_cathode_volts
+    if hk is not None and vk_max > hk:
+        return Shortfall("heater-cathode voltage", vk_max - hk, "V",
+                         f"the follower's cathode reaches {vk_max:.1f} V, over the {hk:g} V heater-cathode rating")
+    watts = _plate_watts_bound(vb_hi, rk_lo, vc_most, env, fanout, accept_low_volts, high_volts, vk_max)
+    if watts > tube.max_plate_watts:
+        return Shortfall("plate dissipation", watts - tube.max_plate_watts, "W",
+                         f"the follower section could dissipate {watts:.2f} W")
+    rk_watts = resistor_rating_watts((vk_max - vc_most) ** 2 / rk_lo)
+    if rk_watts is None:
+        return Shortfall("resistor watts", 2 * (vk_max - vc_most) ** 2 / rk_lo - 2.0, "W",
+                         "the cathode resistor needs more than a 2 W rating")
+    high = follower_cathode_volts(tube, ctx.wear, vb_lo, high_volts, rk_lo, vc_most, heavy_loads)
+    low = follower_cathode_volts(tube, 1.0, vb_hi, drive_low_volts, rk_hi, vc_least, env.light_loads(fanout))
+    vp, vk, _ = follower_on_node(tube, 1.0, vb_hi, node, rk_lo, vc_most, heavy_loads)
+    supply = plate_current_amps(tube, plate_volts=vb_hi - vk, grid_volts=vp - vk)
+    vn, vcn = box.vb(0), box.vc(0)
+    typical = 0.0
+    for grid in (high_volts, drive_low_volts):
+        k = follower_cathode_volts(tube, 1.0, vn, grid, rk, vcn, ((1, env.nominal),))
+        typical += 0.5 * plate_current_amps(tube, plate_volts=vn - k, grid_volts=grid - k)
+    return Follower(
+        tube=tube.name, cathode_load_ohms=rk, cathode_load_watts=rk_watts, fanout_limit=fanout,
+        supply_ma_worst=supply * 1e3, supply_ma_typical=typical * 1e3,
+        bias_ma_worst=(vk_max - vc_most) / rk_lo * 1e3, section_watts_worst=watts,
+        grid_ma_worst=grid_amps * 1e3, cathode_volts_max=vk_max, high_volts=high, low_volts=low)
+
+
+def _plate_watts_bound(vb: float, rk: float, vc: float, env: Envelope, fanout: int,
+                       low_top: float, high_bottom: float, vk_max: float) -> float:
+    """Upper bound on the follower's plate dissipation over both output states.
+
+    The cathode may sit anywhere in [0, low_top] (output low) or
+    [high_bottom, vk_max] (output high); there the section carries the Rk
+    current plus ``fanout`` heavy loads and drops B+ - Vk. On a range [a, b]
+    the Rk part (B+ - Vk)(Vk - Vbias)/Rk is a parabola, maximised in closed
+    form; the load part is at most (B+ - a) * F * I_load(b), both factors
+    being monotone. Cost O(1) plus two load evaluations per range.
+    """
+    best = 0.0
+    for a, b in ((0.0, low_top), (high_bottom, max(high_bottom, vk_max))):
+        peak = min(max(0.5 * (vb + vc), a), b)
+        parabola = (vb - peak) * (peak - vc) / rk
+        best = max(best, parabola + (vb - a) * fanout * load_amps(env.heavy, b))
+    return best

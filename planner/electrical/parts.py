@@ -1,0 +1,222 @@
+"""Frozen results of the electrical design: receivers, drivers, followers, families, templates.
+
+All voltages are to ground; "worst" figures are over the whole tolerance box
+(resistors, supplies, tube wear). Currents in mA, power in W, resistance in ohms.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+from .rules import DesignRules, Rails
+
+
+@dataclass(frozen=True)
+class Shortfall:
+    """A limit a design misses: which, by how much, in what unit, in words."""
+
+    limit: str
+    amount: float
+    unit: str
+    message: str
+
+
+class NoTemplate(Exception):
+    """No stage template passes; ``shortfall`` says which limit fails and by how much."""
+
+    def __init__(self, reason: str, shortfall: Shortfall | None = None):
+        super().__init__(reason)
+        self.reason = reason
+        self.shortfall = shortfall
+
+
+@dataclass(frozen=True)
+class Receiver:
+    """The level-shifting divider in front of one grid (plate -> upper -> grid -> lower -> bias).
+
+    ``grid_role``: "grid" (g1), "grid3" (second control grid) or "diode"
+    (g1 behind a diode-AND gate: one diode per input from the gate node,
+    which is pulled up to B+ through ``pullup_ohms`` and feeds the divider).
+    Levels at the family's input levels: ``grid_high_volts`` (lowest grid
+    voltage for a high input), ``grid_low_volts`` (highest for a low
+    input); ``margin_high_volts``: how far above 0 V the divider would take
+    the grid for the lowest high input if the grid did not clamp;
+    ``margin_low_volts``: how far below cut-off the highest low input puts it.
+    ``load_ma_high``: the most current it draws from a node at the family's
+    lowest high level; ``inject_ma_low``: the most it pushes into a node at
+    the highest low level (diode inputs; 0 otherwise); ``bias_ma_worst``:
+    the most it returns to the bias supply; ``grid_ma_worst``: the most
+    clamp current into its grid.
+    ``speedup_pf``: capacitor across the upper resistor (compensated
+    divider), when the rules ask for one.
+    """
+
+    tube: str
+    grid_role: str
+    upper_ohms: float
+    lower_ohms: float
+    upper_watts: float
+    lower_watts: float
+    grid_high_volts: float
+    grid_low_volts: float
+    cutoff_volts: float
+    margin_high_volts: float
+    margin_low_volts: float
+    bias_ma_worst: float
+    load_ma_high: float
+    grid_ma_worst: float
+    inject_ma_low: float = 0.0
+    pullup_ohms: float | None = None
+    pullup_watts: float | None = None
+    speedup_pf: float | None = None
+
+
+@dataclass(frozen=True)
+class Driver:
+    """An inverting stage of one section type: plate load and screen feed, with its limits.
+
+    ``fanout_limit``: loads (of the family's heaviest receiver) it drives
+    while meeting the family levels. ``high_volts``: worst high level at
+    that fan-out; ``low_volts``: worst low level with one (lightest) load.
+    ``supply_ma_worst``: most plate-supply current of a one-branch stage
+    (plate load and the conducting section's screen feed, output low with
+    ``fanout_limit`` heavy loads); each further branch adds up to
+    ``branch_supply_ma_worst`` (its screen feed while cut off: the bleeder
+    current, 0 for triodes); ``supply_ma_typical``: nominal values, new tube,
+    one load, mean of the two output states (50 % duty).
+    ``section_watts_worst`` / ``screen_watts_worst``: dissipation of the
+    conducting section. Screen feed: ``screen_series_ohms`` from B+ and
+    ``screen_shunt_ohms`` to ground (None where not used).
+    """
+
+    tube: str
+    means: str
+    plate_load_ohms: float
+    plate_load_watts: float
+    fanout_limit: int
+    supply_ma_worst: float
+    supply_ma_typical: float
+    branch_supply_ma_worst: float
+    section_watts_worst: float
+    screen_watts_worst: float | None
+    screen_series_ohms: float | None
+    screen_series_watts: float | None
+    screen_shunt_ohms: float | None
+    screen_shunt_watts: float | None
+    high_volts: float
+    low_volts: float
+
+
+@dataclass(frozen=True)
+class Follower:
+    """A cathode follower on a triode section: plate at B+, cathode to bias through ``cathode_load_ohms``.
+
+    Its grid takes an inverting stage's output directly; its cathode is a
+    new net with the family's high level and a low level up to
+    ``Family.follower_low_max_volts``. It must not be fed from another
+    follower.
+    """
+
+    tube: str
+    cathode_load_ohms: float
+    cathode_load_watts: float
+    fanout_limit: int
+    supply_ma_worst: float
+    supply_ma_typical: float
+    bias_ma_worst: float
+    section_watts_worst: float
+    grid_ma_worst: float
+    cathode_volts_max: float
+    high_volts: float
+    low_volts: float
+
+
+@dataclass(frozen=True)
+class Family:
+    """A logic family: levels every driver meets and every receiver accepts.
+
+    Inverting drivers guarantee ``high_min_volts`` and ``low_max_volts`` at
+    their plate node with up to ``fanout_limit`` loads; followers guarantee
+    ``high_min_volts`` and ``follower_low_max_volts`` (a little higher, by
+    the grid-cathode voltage the follower needs); every receiver switches
+    correctly for any level at or above ``high_min_volts`` and any at or
+    below ``follower_low_max_volts``. So any driver may feed any receiver.
+    ``rejected``: (tube, means) -> Shortfall for drivers, (tube, "follower")
+    for followers, (tube, role) for receivers that could not be designed.
+    """
+
+    rails: Rails
+    rules: DesignRules
+    high_min_volts: float
+    low_max_volts: float
+    follower_low_max_volts: float
+    drivers: Mapping[tuple[str, str], Driver]
+    receivers: Mapping[tuple[str, str], Receiver]
+    followers: Mapping[str, Follower]
+    rejected: Mapping[tuple[str, str], Shortfall]
+
+
+@dataclass(frozen=True)
+class Template:
+    """One type driving ``fanout`` loads of its own kind, with worst-case levels at that fan-out.
+
+    ``high_volts`` / ``low_volts``: worst plate levels (high with ``fanout``
+    loads, low with one); ``grid_*``: a load's grid at those levels;
+    ``margin_high_volts``: how far above 0 V a load's divider would drive
+    its grid without clamping; ``margin_low_volts``: how far below cut-off
+    a low input puts it. ``fanout_limit``: most loads these values carry.
+    """
+
+    tube: str
+    means: str
+    rails: Rails
+    rules: DesignRules
+    fanout: int
+    driver: Driver
+    receivers: tuple[Receiver, ...]
+    high_volts: float
+    low_volts: float
+    grid_high_volts: float
+    grid_low_volts: float
+    cutoff_volts: float
+    margin_high_volts: float
+    margin_low_volts: float
+    fanout_limit: int
+
+    @property
+    def plate_load_ohms(self) -> float:
+        return self.driver.plate_load_ohms
+
+    def to_json(self) -> dict:
+        """A JSON-ready document (the ``tubeplan stage --json`` output)."""
+        first = self.receivers[0]
+        d = self.driver
+        return {
+            "tube": self.tube,
+            "means": self.means,
+            "rails": {"plate_volts": self.rails.plate_volts, "bias_volts": self.rails.bias_volts},
+            "fanout": self.fanout,
+            "fanout_limit": self.fanout_limit,
+            "plate_load_ohms": d.plate_load_ohms,
+            "plate_load_watts": d.plate_load_watts,
+            "screen": None if d.screen_series_ohms is None else {
+                "series_ohms": d.screen_series_ohms, "series_watts": d.screen_series_watts,
+                "shunt_ohms": d.screen_shunt_ohms, "shunt_watts": d.screen_shunt_watts},
+            "divider": {"upper_ohms": first.upper_ohms, "lower_ohms": first.lower_ohms,
+                        "upper_watts": first.upper_watts, "lower_watts": first.lower_watts,
+                        "pullup_ohms": first.pullup_ohms},
+            "dividers": [{"grid_role": r.grid_role, "upper_ohms": r.upper_ohms, "lower_ohms": r.lower_ohms,
+                          "pullup_ohms": r.pullup_ohms, "cutoff_volts": r.cutoff_volts} for r in self.receivers],
+            "levels": {"high_volts": self.high_volts, "low_volts": self.low_volts},
+            "grid": {"high_volts": self.grid_high_volts, "low_volts": self.grid_low_volts,
+                     "cutoff_volts": self.cutoff_volts},
+            "margins": {"high_volts": self.margin_high_volts, "low_volts": self.margin_low_volts},
+            "supply_ma_worst": d.supply_ma_worst,
+            "supply_ma_typical": d.supply_ma_typical,
+            "section_watts_worst": d.section_watts_worst,
+            "screen_watts_worst": d.screen_watts_worst,
+            "rules": {"series": self.rules.series, "resistor_tolerance": self.rules.resistor_tolerance,
+                      "supply_tolerance": self.rules.supply_tolerance, "wear": self.rules.wear,
+                      "margin_volts": self.rules.margin_volts},
+        }
