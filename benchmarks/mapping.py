@@ -43,10 +43,10 @@ supplies:
     - {id: H2, volts: 12.6, max_amps: 300}
 tubes:
   12AU7: {count: 3000, reserve: 10}
-  12AT7: {count: 800}
-  6AU6: {count: 1500}
-  5915: {count: 600, scarce: true}
-  6J6: {count: 400}
+  12AT7: {count: 2000}
+  6AU6: {count: 3000}
+  5915: {count: 1500, scarce: true}
+  6J6: {count: 1500}
 diodes: solid-state
 """
 
@@ -83,8 +83,9 @@ def synthetic_network(branches: int, seed: int = 1) -> Network:
     return Network(inputs, tuple(stages), outputs)
 
 
-def greedy_envelopes(problem, ways_of, network) -> int:
-    """First-fit baseline: each stage on the first way (type name order) whose type still has sections."""
+def greedy(problem, ways_of, network) -> tuple[int, float]:
+    """First-fit baseline: each stage on the first way (type name order) whose type still has sections;
+    returns envelopes and the weighted objective (each envelope on its type's first heater way)."""
     kinds = {k.tube: k for k in problem.kinds}
     free = {t: k.usable * len(k.sections) for t, k in kinds.items()}
     used = {t: 0 for t in kinds}
@@ -99,7 +100,11 @@ def greedy_envelopes(problem, ways_of, network) -> int:
                 break
         else:
             raise RuntimeError(f"greedy baseline: no room for {stage.id}")
-    return sum(-(-n // len(kinds[t].sections)) for t, n in used.items())
+    envelopes = {t: -(-n // len(kinds[t].sections)) for t, n in used.items()}
+    w = problem.weights
+    objective = sum(n * (w.envelopes + w.heater_watts * kinds[t].heaters[0].watts + w.scarce * kinds[t].scarce)
+                    for t, n in envelopes.items())
+    return sum(envelopes.values()), objective
 
 
 def run(branches: int, stock, family, rules) -> None:
@@ -121,11 +126,12 @@ def run(branches: int, stock, family, rules) -> None:
     done = time.perf_counter()
     n_branches = sum(len(s.branches) for s in network.stages)
     envelopes = len(plan.envelopes)
-    greedy = greedy_envelopes(problem, ways_of, network)
+    greedy_envelopes, greedy_objective = greedy(problem, ways_of, network)
     print(f"{n_branches:6d} branches {len(network.stages):5d} stages {len(problem.classes):3d} classes | "
           f"model {built - start:6.2f} s, solve {solved - built:6.2f} s (gap {level.gap:.4f}, "
           f"LP bound {level.lp_bound:.1f}, objective {level.value:.1f}), plan {done - solved:6.2f} s | "
-          f"envelopes {envelopes} vs greedy {greedy} (ratio {envelopes / greedy:.3f}) | "
+          f"envelopes {envelopes} vs greedy {greedy_envelopes} (ratio {envelopes / greedy_envelopes:.3f}), "
+          f"objective ratio {level.value / greedy_objective:.3f} | "
           f"{len(plan.parts)} parts")
 
 

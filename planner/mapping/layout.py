@@ -110,20 +110,20 @@ def pack(kind: TubeKind, jobs: list[Job], envelopes: int) -> list[list[tuple[int
     slots = envelopes - len(solo)
     demand = {k: sum(1 for j in rest if j.kind == k) for k in KINDS}
     split = dict(max_flow_split(demand, kind.sections, slots)) if rest else {}
-    room = {edge: count for edge, count in split.items()}
-    taken: dict[tuple[int, int], Job] = {}
+    room = dict(split)
+    lowest = [0] * len(kind.sections)  # no section is ever freed, so the lowest free envelope only rises
+    boxes: list[list[tuple[int, Job]]] = [[] for _ in range(slots)]
     for job in rest:
         best = None
         for s in range(len(kind.sections)):
-            if room.get((job.kind, s), 0) <= 0:
-                continue
-            e = next(e for e in range(slots) if (e, s) not in taken)
-            if best is None or (e, s) < best:
-                best = (e, s)
-        taken[best] = job
-        room[(job.kind, best[1])] -= 1
-    boxes = [[(s, job) for (e2, s), job in sorted(taken.items()) if e2 == e] for e in range(slots)]
-    boxes = [box for box in boxes if box] + [[(_follower_section(kind), job)] for job in solo]
+            if room.get((job.kind, s), 0) > 0 and (best is None or (lowest[s], s) < best):
+                best = (lowest[s], s)
+        e, s = best
+        boxes[e].append((s, job))
+        lowest[s] += 1
+        room[(job.kind, s)] -= 1
+    boxes = [sorted(box, key=lambda sj: sj[0]) for box in boxes if box]
+    boxes += [[(_follower_section(kind), job)] for job in solo]
     return sorted(boxes, key=lambda box: min(job.order for _s, job in box))
 
 
