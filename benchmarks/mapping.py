@@ -20,8 +20,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from planner.electrical.family import design_family
-from planner.electrical.rules import DesignRules, Rails
+from planner.electrical import DesignRules, Rails, design_family
 from planner.mapping.assemble import place
 from planner.mapping.build import build_plan
 from planner.mapping.model import Weights, solve_problem

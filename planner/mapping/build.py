@@ -112,7 +112,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
                 tuple(sorted(network.outputs.items(), key=lambda kv: _order(design, kv[0]))),
                 tuple(sorted(network.forms.items(), key=lambda kv: _order(design, kv[0]))),
                 tuple(placed), tuple(envelopes), tuple(parts), budget, stock_use, solution,
-                stock.plate.volts, stock.bias.volts, family.high_min_volts, family.low_max_volts)
+                stock.plate.volts, stock.bias.volts, family.high_min_volts, family.low_max_volts,
+                family.follower_low_max_volts)
 
 
 def _order(design, output: str) -> int:

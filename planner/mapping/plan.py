@@ -178,7 +178,12 @@ class Solution:
 
 @dataclass(frozen=True)
 class Plan:
-    """Everything ``tubeplan plan`` decided; the report layer only formats it."""
+    """Everything ``tubeplan plan`` decided; the report layer only formats it.
+
+    Family levels at every plate node, worst case: ``high_volts`` or more for
+    a high, ``low_volts`` or less for a low from an inverting stage,
+    ``follower_low_volts`` or less from a follower.
+    """
 
     design: str
     inputs: tuple[tuple[str, bool], ...]
@@ -194,3 +199,4 @@ class Plan:
     bias_volts: float
     high_volts: float
     low_volts: float
+    follower_low_volts: float | None = None

@@ -5,8 +5,7 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass, replace
 
-from planner.electrical.family import design_family
-from planner.electrical.rules import DesignRules, Rails
+from planner.electrical import DesignRules, Rails, design_family
 from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
 
 from .assemble import place
