@@ -94,7 +94,7 @@ def _check_invariants(plan, stock, design):
     resistors = [p for p in plan.parts if p.kind == "resistor"]
     diode_pairs = {tuple(net for _pin, net in p.pins) for p in plan.parts if p.kind == "diode"}
     diode_pairs |= {(dict(u.nets)["plate"], dict(u.nets)["cathode"]) for e in plan.envelopes
-                    for u in e.sections if u.means == "diode"}
+                    for u in e.sections if u.means == "AND diode"}
 
     def upper_from(net, stage, b):
         return [p for p in resistors if p.role == "divider upper" and p.stage == stage.id
@@ -282,3 +282,29 @@ def test_same_inputs_same_plan_under_other_hash_seeds(tmp_path):
     outs = [subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True,
                            env={"PYTHONHASHSEED": seed, "PATH": "/usr/bin:/bin"}).stdout for seed in ("1", "977")]
     assert outs[0] == outs[1] and "Plan(" in outs[0]
+
+
+def test_vacuum_diodes_come_from_diode_envelopes(tmp_path):
+    design = _design(tmp_path, "y: ~(a & b & c)\nz: ~(a & b)\n")
+    stock = _stock(tmp_path, "6AU6: {count: 2}\n6AL5: {count: 2}\n", diodes="vacuum-only", h1=6.0)
+    # Five AND inputs need five diode sections; two 6AL5 have four (two diodes each, by the catalogue).
+    with pytest.raises(Shortage) as short:
+        plan_design(design, stock)
+    assert short.value.purchase == {"6AL5": 1}
+    assert short.value.message == "needs 1 more diode section: 1 x 6AL5"
+    stock = _with_counts(stock, {"6AL5": 1})
+    plan = plan_design(design, stock)
+    _check_invariants(plan, stock, design)
+    assert not [p for p in plan.parts if p.kind == "diode"]
+    diodes = [f"{e.ref}.{u.index}" for e in plan.envelopes for u in e.sections if u.means == "AND diode"]
+    assert len(diodes) == 5 and all(plan.envelopes[int(d[1:].split(".")[0]) - 1].tube == "6AL5" for d in diodes)
+    assert sorted(d for s in plan.stages for b in s.branches for d in b.diodes) == sorted(diodes)
+
+
+def test_fanout_beyond_every_template_is_reported(tmp_path):
+    outputs = "".join(f"y{k}: ~(a | b)\n" for k in range(40))
+    design = _design(tmp_path, outputs, inputs="[a, b]")
+    stock = _stock(tmp_path, "6AU6: {count: 4}\n")
+    with pytest.raises(Shortage) as short:
+        plan_design(design, stock)
+    assert "40 loads" in short.value.message and short.value.unbuildable

@@ -68,7 +68,7 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
                         dref, dpos = placement.at[(stage.id, b, k)]
                         dsec = stock.catalogue.get(sockets[dref].tube).diode_sections[dpos]
                         vacuum.append((dref, dsec))
-                        uses[dref].append(SectionUse(dsec.index, "diode", stage.id,
+                        uses[dref].append(SectionUse(dsec.index, "AND diode", stage.id,
                                                      (("cathode", source), ("plate", gate))))
                 diodes = list(net.diode_gate(stage, branch.inputs, gate, g1, rec, vacuum))
             else:

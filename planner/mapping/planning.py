@@ -220,7 +220,7 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
     if best is None:
         reasons = "; ".join(dict.fromkeys(c.reason for c in candidates if c.reason))
         return Shortage(f"no stocked tube type can build the design: {reasons}",
-                        unbuildable=tuple(c.reason for c in candidates if c.reason))
+                        unbuildable=tuple(dict.fromkeys(c.reason for c in candidates if c.reason)))
     _, cand, counts = best
     problem = cand.problem
     purchase = {k.tube: n for k, n in zip(problem.kinds, counts.purchase) if n}
