@@ -166,6 +166,8 @@ class Template:
     ``margin_high_volts``: how far above 0 V a load's divider would drive
     its grid without clamping; ``margin_low_volts``: how far below cut-off
     a low input puts it. ``fanout_limit``: most loads these values carry.
+    ``design_high_volts`` / ``design_low_volts``: the plate levels the
+    values are designed to (worst case, with up to ``fanout_limit`` loads).
     """
 
     tube: str
@@ -183,6 +185,8 @@ class Template:
     margin_high_volts: float
     margin_low_volts: float
     fanout_limit: int
+    design_high_volts: float
+    design_low_volts: float
 
     @property
     def plate_load_ohms(self) -> float:
@@ -208,7 +212,8 @@ class Template:
                         "pullup_ohms": first.pullup_ohms},
             "dividers": [{"grid_role": r.grid_role, "upper_ohms": r.upper_ohms, "lower_ohms": r.lower_ohms,
                           "pullup_ohms": r.pullup_ohms, "cutoff_volts": r.cutoff_volts} for r in self.receivers],
-            "levels": {"high_volts": self.high_volts, "low_volts": self.low_volts},
+            "levels": {"high_volts": self.high_volts, "low_volts": self.low_volts,
+                       "design_high_volts": self.design_high_volts, "design_low_volts": self.design_low_volts},
             "grid": {"high_volts": self.grid_high_volts, "low_volts": self.grid_low_volts,
                      "cutoff_volts": self.cutoff_volts},
             "margins": {"high_volts": self.margin_high_volts, "low_volts": self.margin_low_volts},

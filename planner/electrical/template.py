@@ -73,7 +73,8 @@ def design_template(tube: TubeType, means: str, rails: Rails, fanout: int = 1,
         raise NoTemplate(f"no template for {where}: {why.message}", why)
     figures = _figures(ctx, means, best, receivers, fanout)
     return Template(tube=tube.name, means=means, rails=rails, rules=rules, fanout=fanout, driver=driver,
-                    receivers=receivers, fanout_limit=driver.fanout_limit, **figures)
+                    receivers=receivers, fanout_limit=driver.fanout_limit, design_high_volts=best.levels.high,
+                    design_low_volts=best.levels.drive_low, **figures)
 
 
 def _option(ctx: TubeContext, means: str, outcome: Outcome):
