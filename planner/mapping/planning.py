@@ -60,7 +60,7 @@ def _weights(stock, options: MappingOptions) -> Weights:
 
 
 def _synthesis_variants(stock, family, rules: DesignRules, options: MappingOptions):
-    """Stage-layer options to try, derived from the stock: (label, SynthesisOptions).
+    """Stage-layer options to try, derived from the stock: ([(label, SynthesisOptions)], diode fan-in).
 
     Dual-control branches where a stocked type has a dual template; diode ANDs
     (up to :data:`DIODE_FANIN` inputs) where the stock has diodes and a type
@@ -90,7 +90,7 @@ def _synthesis_variants(stock, family, rules: DesignRules, options: MappingOptio
             problems.append(str(problem))
     if not out:
         raise Shortage("the stock cannot build this kind of stage: " + "; ".join(problems))
-    return out
+    return out, fanin
 
 
 def _fanout_limits(family, names):
@@ -118,7 +118,8 @@ def _candidates(design, stock, family, rules, options, weights) -> list[_Candida
     names = tuple(t.tube for t in stock.tubes)
     limit = _fanout_limits(family, names)
     found, seen = [], set()
-    for label, synth in _synthesis_variants(stock, family, rules, options):
+    variants, fanin = _synthesis_variants(stock, family, rules, options)
+    for label, synth in variants:
         network = synthesise(design, synth).network
         try:
             network = insert_followers(network, limit)
@@ -130,7 +131,8 @@ def _candidates(design, stock, family, rules, options, weights) -> list[_Candida
             continue
         seen.add(key)
         prove(network, design)
-        problem, ways = build_problem(network, family, stock, weights, diode_fanin=synth.diode_fanin)
+        # Every network may use every template the stock allows (diode ANDs included).
+        problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin)
         loads = network.load_counts()
         stuck = [f"stage {s.id} ({s.view}, {loads[s.output]} loads)" for s in network.stages if not ways[s.id]]
         reason = ""
