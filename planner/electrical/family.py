@@ -18,14 +18,16 @@ How the levels are chosen. Candidate levels are fractions of the nominal
 plate supply: high_min from 35 % to 85 %, follower_low_max from 6 % to 36 %
 (at least 15 % below high_min), and the follower allowance
 follower_low_max - low_max from 0 to 6 % (0 when no type can be a
-follower). Each candidate is scored by, in order: the sum over drivers
-and followers that pass of their fan-out, each counted up to the rules'
-fan-out goal (so a type that passes only with a fan-out of one does not
-outweigh better fan-out for the rest); the least driver fan-out; the least
-receiver margin over its requirement. A coarse grid of (high, low) without followers comes
-first; then the neighbours of its best point at half the step, with each
-follower allowance. Cost: about 65 evaluations, each designing every
-receiver, driver and follower once.
+follower). Each candidate is scored by, in order: the sum, over the tube
+types with a driver that passes and over the followers that pass, of the
+fan-out (a type's best means; each counted up to the rules' fan-out goal,
+so that a type passing only with a fan-out of one does not outweigh better
+fan-out for the rest); whether some follower passes (without one a net
+cannot drive more loads than its driver's fan-out); the least driver
+fan-out; the least receiver margin over its requirement. A coarse grid of
+(high, low) without followers comes first; then the neighbours of its best
+point at half the step, with each follower allowance. Cost: about 65
+evaluations, each designing every receiver, driver and follower once.
 """
 
 from __future__ import annotations
@@ -149,12 +151,14 @@ def evaluate(ctxs: Sequence[TubeContext], levels: Levels, means_filter=None, wit
 
 def _score(rules: DesignRules, goal: int, receivers, drivers, followers) -> tuple:
     if not drivers:
-        return (0, 0, 0.0)
-    useful = sum(min(d.fanout_limit, goal) for d in drivers.values())
-    useful += sum(min(f.fanout_limit, goal) for f in followers.values())
+        return (0, 0, 0, 0.0)
+    best_per_tube: dict[str, int] = {}
+    for (tube, _), d in drivers.items():
+        best_per_tube[tube] = max(best_per_tube.get(tube, 0), min(d.fanout_limit, goal))
+    useful = sum(best_per_tube.values()) + sum(min(f.fanout_limit, goal) for f in followers.values())
     fan = min(min(d.fanout_limit, goal) for d in drivers.values())
     margin = min(min(r.margin_high_volts, r.margin_low_volts - rules.margin_volts) for r in receivers.values())
-    return (useful, fan, round(margin, 1))
+    return (useful, 1 if followers else 0, fan, round(margin, 1))
 
 
 def _grid(vb: float, highs, lows, follower_steps) -> list[Levels]:

@@ -115,7 +115,8 @@ class Follower:
     Its grid takes an inverting stage's output directly; its cathode is a
     new net with the family's high level and a low level up to
     ``Family.follower_low_max_volts``. It must not be fed from another
-    follower.
+    follower. ``grid_stopper_ohms``: resistor in series with the grid (0:
+    none) that limits grid current when the input node rises towards B+.
     """
 
     tube: str
@@ -127,6 +128,7 @@ class Follower:
     bias_ma_worst: float
     section_watts_worst: float
     grid_ma_worst: float
+    grid_stopper_ohms: float
     cathode_volts_max: float
     high_volts: float
     low_volts: float
