@@ -1,8 +1,7 @@
-"""From the model's counts to concrete sockets: which envelope and section each job takes.
+"""Packing section jobs of one tube type into envelopes.
 
-Everything here is deterministic: stages are taken in network order, types in
-name order, and envelopes are numbered V1, V2, ... by the first stage that uses
-them (diode envelopes by the first diode-AND branch they serve).
+Deterministic: jobs are taken in network order and fill the lowest-numbered
+envelope with a suitable section free.
 """
 
 from __future__ import annotations
@@ -23,16 +22,6 @@ class Job:
     branch: int | None
     kind: str
     part: int = 0
-
-
-@dataclass(frozen=True)
-class Socket:
-    """One envelope of the layout: type, designator, heater way index, and its jobs by section."""
-
-    ref: str
-    tube: str
-    heater: int
-    jobs: tuple[tuple[int, Job], ...]  # (section index, job)
 
 
 def max_flow_split(demand: dict[str, int], sections: tuple[frozenset, ...], envelopes: int) -> dict:

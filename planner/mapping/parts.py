@@ -37,8 +37,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from .plan import BIAS_RAIL, GROUND, PLATE_RAIL, Part, SectionUse
-from .problem import branch_realisation
+from .plan import BIAS_RAIL, GROUND, PLATE_RAIL, Part
 
 
 def ohms_text(ohms: float) -> str:
@@ -161,12 +160,6 @@ class NetlistBuilder:
         return tuple(refs)
 
 
-def section_nets(tube, section, job_means: str, nets: dict[str, str]) -> tuple[tuple[str, str], ...]:
-    """Every pin role of ``section`` with its net; roles not given are tied to the cathode."""
-    cathode = nets["cathode"]
-    return tuple(sorted((role, nets.get(role, cathode)) for role in section.pins))
-
-
 def grid_node(stage_output: str, branch: int, grid: str) -> str:
     """Net of a grid behind its divider, e.g. ``n3.b1.g1``."""
     return f"{stage_output}.b{branch + 1}.{grid}"
@@ -177,8 +170,4 @@ def gate_node(stage_output: str, branch: int) -> str:
     return f"{stage_output}.b{branch + 1}.x"
 
 
-def roles_of(template: str, n_inputs: int) -> tuple[str, ...]:
-    return branch_realisation(template, n_inputs).roles
-
-
-__all__ = ["NetlistBuilder", "SectionUse", "farads_text", "grid_node", "ohms_text", "gate_node", "section_nets"]
+__all__ = ["NetlistBuilder", "farads_text", "gate_node", "grid_node", "ohms_text"]

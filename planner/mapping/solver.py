@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import contextlib
+import inspect
 import os
 import re
 import sys
@@ -14,6 +15,10 @@ import pulp
 
 #: Fixed seeds and one thread: the same model always takes the same search path.
 _CBC_OPTIONS = ("randomSeed 1", "randomCbcSeed 1")
+# pulp 3 warns that its bundled CBC will move to an extra in pulp 4; the warning is for pulp's
+# own users, not ours, and older pulp has no such switch.
+_CBC_QUIET = ({"_skip_v4_deprecation": True}
+              if "_skip_v4_deprecation" in inspect.signature(pulp.PULP_CBC_CMD.__init__).parameters else {})
 _BOUND_RE = re.compile(r"^Lower bound:\s*(-?[0-9.eE+-]+)", re.MULTILINE)
 
 
@@ -83,8 +88,7 @@ def solve(model: pulp.LpProblem, *, solver: str, time_limit_s: float, gap: float
         os.close(handle)
         try:
             engine = pulp.PULP_CBC_CMD(mip=not relax, msg=False, timeLimit=limit, gapRel=gap, threads=1,
-                                       logPath=log, options=list(_CBC_OPTIONS),
-                                       _skip_v4_deprecation=True)
+                                       logPath=log, options=list(_CBC_OPTIONS), **_CBC_QUIET)
             model.solve(engine)
             with open(log, encoding="utf-8", errors="replace") as handle_log:
                 found = _BOUND_RE.search(handle_log.read())
