@@ -114,7 +114,52 @@ def _run_tubes(args) -> int:
     return EXIT_OK
 
 
-_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan)
+# --- stage --------------------------------------------------------------------------------
+
+def _add_stage(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "stage", help="design one stage template: plate load, dividers, worst-case levels and margins",
+        description="Design the DC values of one tube type driving FANOUT loads of its own kind, worst "
+                    "case over resistor and supply tolerance and tube wear. Exit 2 when none passes.")
+    parser.add_argument("tube", metavar="TYPE", help="tube type from the catalogue (see: tubeplan tubes)")
+    parser.add_argument("--plate-volts", type=float, required=True, metavar="V", help="plate supply (B+), volts")
+    parser.add_argument("--bias-volts", type=float, required=True, metavar="V", help="bias supply, negative volts")
+    parser.add_argument("--fanout", type=int, default=1, metavar="N", help="loads driven (default 1)")
+    parser.add_argument("--means", choices=("single", "dual", "diode"), default="single",
+                        help="branch: one grid, both control grids (g1 and g3), or a diode AND on g1")
+    parser.add_argument("--series", choices=("E24", "E12"), default="E24", help="resistor values (IEC 60063)")
+    parser.add_argument("--json", action="store_true", help="print the template as JSON")
+    parser.set_defaults(run=_run_stage)
+
+
+def _run_stage(args) -> int:
+    from planner.catalogue import builtin_catalogue
+    from planner.electrical import DesignRules, NoTemplate, Rails, design_template, format_template
+
+    where = "<command line>"
+    try:
+        tube = builtin_catalogue().get(args.tube)
+    except KeyError as problem:
+        raise InputError(where, 0, problem.args[0]) from None
+    if args.fanout < 1:
+        raise InputError(where, 0, f"--fanout must be at least 1, got {args.fanout}")
+    try:
+        rails = Rails(args.plate_volts, args.bias_volts)
+    except ValueError as problem:
+        raise InputError(where, 0, f"{problem}; expected e.g. --plate-volts 250 --bias-volts -100") from None
+    try:
+        template = design_template(tube, args.means, rails, args.fanout, DesignRules(series=args.series))
+    except NoTemplate as problem:
+        print(problem.reason, file=sys.stderr)
+        return EXIT_INPUT
+    if args.json:
+        _print_json(template.to_json())
+    else:
+        sys.stdout.write(format_template(template))
+    return EXIT_OK
+
+
+_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_stage)
 
 
 def build_parser() -> argparse.ArgumentParser:

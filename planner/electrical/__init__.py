@@ -9,6 +9,7 @@ Public API:
   ``Receiver``, ``Follower`` and ``Shortfall`` (why a part was rejected)
 - ``design_template(tube, means, rails, fanout, rules) -> Template``,
   raising ``NoTemplate``
+- ``format_template(template) -> str`` (the ``tubeplan stage`` text)
 - ``brent_root(f, lo, hi)`` (the 1-D solver used throughout)
 
 See docs/electrical.md for the circuits, the worst-case method and the
@@ -17,6 +18,7 @@ mixing rule of a family.
 
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
+from .listing import format_template
 from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Template
 from .roots import brent_root
 from .rules import DesignRules, Rails
@@ -24,6 +26,6 @@ from .template import design_template
 
 __all__ = [
     "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
-    "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "nearest_values",
+    "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",
 ]

@@ -1,0 +1,66 @@
+"""Plain-text description of a stage template (``tubeplan stage``)."""
+
+from __future__ import annotations
+
+from .parts import Template
+
+CAUTION = ("CAUTION: the plate supply of these stages is high voltage and can kill; switch off and "
+           "discharge the filter capacitors before touching the wiring, and follow your local "
+           "electrical codes and licensed practice.")
+
+
+def ohms_text(ohms: float) -> str:
+    """Resistance in the usual short form.
+
+    >>> ohms_text(82e3), ohms_text(1.2e6), ohms_text(470.0)
+    ('82k', '1.2M', '470')
+    """
+    for scale, suffix in ((1e6, "M"), (1e3, "k")):
+        if ohms >= scale:
+            return f"{ohms / scale:g}{suffix}"
+    return f"{ohms:g}"
+
+
+def watts_text(watts: float) -> str:
+    """A resistor rating: 1/4 W, 1/2 W, 1 W, 2 W."""
+    return {0.25: "1/4 W", 0.5: "1/2 W"}.get(watts, f"{watts:g} W")
+
+
+def format_template(t: Template) -> str:
+    """Human-readable summary of ``t``: values, worst-case levels and margins, supply, a caution."""
+    d, r = t.driver, t.rules
+    lines = [
+        f"{t.tube} stage ({t.means} branch) on {t.rails.plate_volts:+g} V / {t.rails.bias_volts:+g} V, "
+        f"fan-out {t.fanout} (these values carry up to {t.fanout_limit})",
+        f"worst case over {r.resistor_tolerance:.0%} resistors, {r.supply_tolerance:.0%} supplies and tubes at "
+        f"{r.wear:.0%} of nominal current; {r.series} values",
+        "",
+        f"  plate load       {ohms_text(d.plate_load_ohms):>6}  {watts_text(d.plate_load_watts)}",
+    ]
+    if d.screen_series_ohms is not None:
+        text = f"  screen feed      {ohms_text(d.screen_series_ohms):>6}  {watts_text(d.screen_series_watts)} from B+"
+        if d.screen_shunt_ohms is not None:
+            text += f", {ohms_text(d.screen_shunt_ohms)} {watts_text(d.screen_shunt_watts)} to ground"
+        lines.append(text)
+    for rec in t.receivers:
+        role = f"({rec.grid_role})"
+        text = (f"  divider {role:<8} {ohms_text(rec.upper_ohms):>6}  {watts_text(rec.upper_watts)} "
+                f"upper, {ohms_text(rec.lower_ohms)} {watts_text(rec.lower_watts)} lower to bias")
+        if rec.pullup_ohms is not None:
+            text += f"; gate pull-up {ohms_text(rec.pullup_ohms)} {watts_text(rec.pullup_watts)} to B+"
+        if rec.speedup_pf is not None:
+            text += f"; {rec.speedup_pf:g} pF across the upper"
+        lines.append(text)
+    lines += [
+        "",
+        f"  output high      {t.high_volts:7.1f} V at the plate (designed for {t.design_high_volts:.1f} V); "
+        f"load grid {t.grid_high_volts:+.2f} V, drive {t.margin_high_volts:.1f} V above 0 V",
+        f"  output low       {t.low_volts:7.1f} V at the plate (designed for {t.design_low_volts:.1f} V); "
+        f"load grid {t.grid_low_volts:+.1f} V, {t.margin_low_volts:.1f} V below cut-off ({t.cutoff_volts:.1f} V)",
+        f"  plate supply     {d.supply_ma_worst:.2f} mA worst, {d.supply_ma_typical:.2f} mA typical per stage",
+        f"  section          {d.section_watts_worst:.2f} W worst"
+        + (f", screen {d.screen_watts_worst:.2f} W" if d.screen_watts_worst is not None else ""),
+        "",
+        CAUTION,
+    ]
+    return "\n".join(lines) + "\n"
