@@ -101,7 +101,7 @@ def evaluate(ctxs: Sequence[TubeContext], levels: Levels, means_filter=None, wit
     for (name, role), c in roles_needed:
         result = design_receiver(c, role, levels.accept_low, levels.high)
         if isinstance(result, Shortfall):
-            rejected[(name, role)] = result
+            rejected[(name, f"{role} receiver")] = result
         else:
             receivers[(name, role)] = result
 
@@ -113,14 +113,15 @@ def evaluate(ctxs: Sequence[TubeContext], levels: Levels, means_filter=None, wit
             c, m = wanted[key]
             missing = [r for r in c.roles(m) if (c.name, r) not in receivers]
             if missing:
-                bad[key] = rejected[(c.name, missing[0])]
+                bad[key] = rejected[(c.name, f"{missing[0]} receiver")]
                 continue
             d = design_driver(c, m, levels.drive_low, levels.high, env, goal)
             (bad if isinstance(d, Shortfall) else out)[key] = d
         return out, bad, pairs
 
     if not receivers:
-        drivers, bad, pairs = {}, {k: rejected[(k[0], wanted[k][0].roles(k[1])[0])] for k in wanted}, []
+        drivers, bad, pairs = {}, {k: rejected[(k[0], f"{wanted[k][0].roles(k[1])[0]} receiver")]
+                                   for k in wanted}, []
     else:
         drivers, bad, pairs = run(sorted(wanted), receivers)
         used = {(k[0], r) for k in drivers for r in wanted[k][0].roles(k[1])}

@@ -145,7 +145,8 @@ class Family:
     correctly for any level at or above ``high_min_volts`` and any at or
     below ``follower_low_max_volts``. So any driver may feed any receiver.
     ``rejected``: (tube, means) -> Shortfall for drivers, (tube, "follower")
-    for followers, (tube, role) for receivers that could not be designed.
+    for followers, (tube, "<role> receiver") for receivers that could not
+    be designed (e.g. ("12AU7", "grid receiver")).
     """
 
     rails: Rails
