@@ -308,3 +308,50 @@ def test_fanout_beyond_every_template_is_reported(tmp_path):
     with pytest.raises(Shortage) as short:
         plan_design(design, stock)
     assert "40 loads" in short.value.message and short.value.unbuildable
+
+
+def test_followers_are_placed_and_wired(tmp_path):
+    """Fan-out past the driver's limit through followers, with a made-up follower template.
+
+    The follower figures are invented test data (the built-in family may have no
+    follower at these rails); the check is on placement and wiring only.
+    """
+    from planner.electrical import Follower
+    from planner.mapping.assemble import place
+    from planner.mapping.build import build_plan
+    from planner.mapping.model import solve_problem
+    from planner.mapping.plan import Solution
+    from planner.mapping.problem import build_problem
+    from planner.stages import insert_followers, synthesise
+
+    outputs = "".join(f"y{k}: ~(a | b)\n" for k in range(14))
+    design = _design(tmp_path, outputs, inputs="[a, b]")
+    stock = _stock(tmp_path, "6AU6: {count: 4}\n6J6: {count: 4}\n")
+    options = MappingOptions()
+    rules = planning.design_rules(stock, options)
+    tubes = [(stock.catalogue.get(t.tube), rules.wear) for t in stock.tubes]
+    family = planning.design_family(planning.Rails(250, -100), tubes, rules)
+    made_up = Follower("6J6", 47e3, 1.0, 8, 4.0, 3.0, 2.5, 0.5, 0.1, 10e3, 150.0, 120.0, 40.0)
+    family = dataclasses.replace(family, followers={"6J6": made_up})
+    network = insert_followers(synthesise(design).network, planning._fanout_limits(family, ("6AU6", "6J6")))
+    prove(network, design)
+    followers = [s for s in network.stages if s.kind == "follower"]
+    assert followers
+    problem, ways = build_problem(network, family, stock, planning._weights(stock, options), diode_fanin=0)
+    counts = solve_problem(problem)
+    placement = place(network, problem, counts)
+    level = counts.levels[-1]
+    plan = build_plan(design, network, family, stock, problem, counts, placement,
+                      Solution("cbc", counts.status, level.value, level.lp_bound, level.gap, 0.0), rules)
+    _check_invariants(plan, stock, design)
+    env = {e.ref: e for e in plan.envelopes}
+    for stage in (s for s in plan.stages if s.kind == "follower"):
+        # The catalogue's 6J6 has one cathode for both sections: a follower sits alone in its envelope.
+        assert stage.tube == "6J6"
+        uses = env[stage.envelope].sections
+        assert [u.means for u in uses].count("follower") == 1
+        assert all(u.means in ("follower", "unused") for u in uses)
+        cathode_loads = [p for p in plan.parts if p.role == "cathode load" and p.stage == stage.id]
+        assert cathode_loads and cathode_loads[0].pins == (("1", stage.output), ("2", "BIAS"))
+        stoppers = [p for p in plan.parts if p.role == "grid stopper" and p.stage == stage.id]
+        assert stoppers[0].pins == (("1", stage.input), ("2", f"{stage.output}.g1"))

@@ -36,7 +36,11 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             follower = family.followers[way.tube]
             ref, pos = placement.at[(stage.id, None, 0)]
             section = tube.amplifying_sections[pos]
-            nets = {"plate": PLATE_RAIL, "grid": stage.input, "cathode": stage.output}
+            grid = stage.input
+            if follower.grid_stopper_ohms:
+                grid = f"{stage.output}.g1"
+                net.grid_stopper(stage, stage.input, grid, follower)
+            nets = {"plate": PLATE_RAIL, "grid": grid, "cathode": stage.output}
             _use(net, uses, ref, tube, section, "follower", stage.id, nets)
             net.resistor(stage.output, BIAS_RAIL, follower.cathode_load_ohms, follower.cathode_load_watts,
                          (follower.bias_ma_worst / 1e3) ** 2 * net.hi(follower.cathode_load_ohms),

@@ -11,8 +11,9 @@ Circuits (the electrical layer's templates, planner.electrical):
 * a diode-AND branch: a gate node pulled up to B+ through the receiver's
   pull-up, a diode from the gate node (anode) to each input net (cathode), and
   the receiver's divider from the gate node to the grid;
-* follower: plate at B+, grid on the input net, cathode on the output net,
-  cathode load from the output net to BIAS.
+* follower: plate at B+, grid on the input net (through the template's grid
+  stopper when it has one), cathode on the output net, cathode load from the
+  output net to BIAS.
 
 Tie-offs (common practice): a one-input branch on a dual-control section has
 g3 at its cathode; a pentode's suppressor goes to its cathode; every electrode
@@ -36,6 +37,8 @@ a shunt the bleeder's open-circuit voltage.  Designators: R, C, D and V class le
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+
+from planner.electrical import resistor_rating_watts
 
 from .plan import BIAS_RAIL, GROUND, PLATE_RAIL, Part
 
@@ -119,6 +122,12 @@ class NetlistBuilder:
         watts = min((driver.supply_ma_worst / 1e3) ** 2 * self.hi(r), self.vb ** 2 / self.lo(r))
         self.resistor(PLATE_RAIL, stage.output, driver.plate_load_ohms, driver.plate_load_watts, watts,
                       "plate load", stage.id)
+
+    def grid_stopper(self, stage, source: str, grid: str, follower) -> None:
+        """A follower's grid stopper; its rating from its worst grid current (twice the dissipation)."""
+        r = follower.grid_stopper_ohms
+        watts = (follower.grid_ma_worst / 1e3) ** 2 * self.hi(r)
+        self.resistor(source, grid, r, resistor_rating_watts(watts), watts, "grid stopper", stage.id)
 
     def screen(self, stage, driver, node: str) -> str:
         """Screen feed of one section; the net its screen pin goes on."""

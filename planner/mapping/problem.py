@@ -151,8 +151,10 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
                 continue
             kind = {"single": "single", "dual": "dual", "diode": "single"}[template]
             demand = ((kind, len(widths)),) if widths else ()
-            ways.append(Way(tube, template, demand, driver.supply_ma_worst + plate,
-                            driver.supply_ma_typical + typical, bias, driver.fanout_limit, diodes))
+            # Each branch past the first adds its cut-off screen feed (the template's figure).
+            extra = max(0, len(widths) - 1) * driver.branch_supply_ma_worst
+            ways.append(Way(tube, template, demand, driver.supply_ma_worst + extra + plate,
+                            driver.supply_ma_typical + extra + typical, bias, driver.fanout_limit, diodes))
     return tuple(ways)
 
 
