@@ -30,15 +30,18 @@ def _names(names: Iterable[str] | None, *exprs: sympy.Basic) -> tuple[str, ...]:
 
 class _Tseitin:
     """Tseitin encoding (G. S. Tseitin, "On the complexity of derivation in
-    propositional calculus", 1968): one fresh variable per connective, so the
-    clause count is linear in the expression size.  Literals are DIMACS-style
-    integers; inputs are variables 1..n in name order.
+    propositional calculus", 1968) with structural hashing: one fresh variable
+    per distinct connective, so the clause count is linear in the expression
+    size and subexpressions that are the same on both sides of the miter get
+    the same variable (as in and-inverter-graph equivalence checkers).  Literals
+    are DIMACS-style integers; inputs are variables 1..n in name order.
     """
 
     def __init__(self, names: tuple[str, ...]) -> None:
         self.symbols: list[sympy.Symbol] = [sympy.Symbol(n) for n in names]
         self.index = {n: k + 1 for k, n in enumerate(names)}
         self.clauses: list[set[int]] = []
+        self.gates: dict[tuple, int] = {}
         self.true = self._fresh()
         self.clauses.append({self.true})
 
@@ -85,23 +88,49 @@ class _Tseitin:
             elif isinstance(node, Or):
                 memo[key] = -self._and([-x for x in lits])
             else:
-                acc = lits[0]
-                for x in lits[1:]:
-                    acc = self._xor(acc, x)
-                memo[key] = acc
+                memo[key] = self._xor(lits)
         return memo[id(expr)]
 
     def _and(self, lits: list[int]) -> int:
-        t = self._fresh()
-        for x in lits:
-            self.clauses.append({-t, x})
-        self.clauses.append({t, *[-x for x in lits]})
-        return t
+        if -self.true in lits:
+            return -self.true
+        args = sorted({x for x in lits if x != self.true})
+        if any(-x in args for x in args):
+            return -self.true
+        if not args:
+            return self.true
+        if len(args) == 1:
+            return args[0]
+        gate = ("and", *args)
+        if gate not in self.gates:
+            t = self.gates[gate] = self._fresh()
+            for x in args:
+                self.clauses.append({-t, x})
+            self.clauses.append({t, *[-x for x in args]})
+        return self.gates[gate]
 
-    def _xor(self, a: int, b: int) -> int:
-        t = self._fresh()
-        self.clauses += [{-t, a, b}, {-t, -a, -b}, {t, -a, b}, {t, a, -b}]
-        return t
+    def _xor(self, lits: list[int]) -> int:
+        parity = False
+        odd: set[int] = set()
+        for x in lits:
+            if abs(x) == self.true:
+                parity ^= x > 0
+                continue
+            parity ^= x < 0
+            odd ^= {abs(x)}  # x ^ x = 0
+        acc = None
+        for x in sorted(odd):
+            if acc is None:
+                acc = x
+                continue
+            gate = ("xor", acc, x)
+            if gate not in self.gates:
+                t = self.gates[gate] = self._fresh()
+                self.clauses += [{-t, acc, x}, {-t, -acc, -x}, {t, -acc, x}, {t, acc, -x}]
+            acc = self.gates[gate]
+        if acc is None:
+            return self.true if parity else -self.true
+        return -acc if parity else acc
 
 
 def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,

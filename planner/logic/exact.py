@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
 
 import pulp
@@ -93,11 +94,14 @@ def _solve_ilp(rows: int, cols: int, col_rows: list[int], row_cols: dict[int, in
     columns = list(iter_bits(cols))
     weight = len(columns) + 1
     prob = pulp.LpProblem("cover", pulp.LpMinimize)
-    x = {c: pulp.LpVariable(f"p{c}", cat=pulp.LpBinary) for c in columns}
+    x = {c: prob.add_variable(f"p{c}", 0, 1, cat=pulp.LpBinary) for c in columns}
     prob += pulp.lpSum((lits[c] * weight + 1) * x[c] for c in columns)
     for r in iter_bits(rows):
         prob += pulp.lpSum(x[c] for c in iter_bits(row_cols[r] & cols)) >= 1
-    solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=time_limit_s)
+    with warnings.catch_warnings():
+        # pulp 3.3 flags its bundled CBC for removal in 4.0; the bundled binary is what we use.
+        warnings.filterwarnings("ignore", category=DeprecationWarning, message=".*PULP_CBC_CMD")
+        solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=time_limit_s, threads=1)
     prob.solve(solver)
     picked = [c for c in columns if (x[c].value() or 0) > 0.5]
     covered = 0
@@ -128,6 +132,13 @@ def minimum_cover(table: TruthTable, primes: tuple[Cube, ...], *,
     core was empty or CBC proved optimality.  ``primes`` must include every
     prime implicant that touches the on-set, else the result is only minimum
     among those given.
+
+    >>> from .primes import prime_implicants
+    >>> from .table import table_from_minterms
+    >>> t = table_from_minterms(("a", "b", "c"), [0, 1, 2, 5, 6, 7])  # cyclic: no essentials
+    >>> s = minimum_cover(t, prime_implicants(t))
+    >>> len(s.cubes), s.proven, s.core_rows, s.core_columns
+    (3, True, 6, 6)
     """
     space = Space(table.n)
     col_rows = [space.cube_bits(p.mask, p.value) & table.on for p in primes]
