@@ -143,7 +143,7 @@ def test_diodes_are_grouped_by_kind():
     check_bom_against_plan(plan, lines)
     diodes = [l for l in lines if l.group == "diode"]
     assert [(l.description, l.quantity, l.designators) for l in diodes] == \
-        [("silicon signal diode", 3, ("D1", "D2", "D3"))]
+        [("silicon signal diode, rated at least 320 V reverse (the B+ to BIAS span)", 3, ("D1", "D2", "D3"))]
     assert diodes[0].total == 0.75
     rows = wiring_rows(plan, builtin_catalogue())
     check_wiring_against_plan(plan, rows)

@@ -115,35 +115,34 @@ def test_fixture_stages_have_their_parts():
 
 
 def fixture_diode_plan() -> Plan:
-    """Invented plan "fixture-diode": q = NAND(a, b, c) as a diode AND (D1-D3, silicon) on V1 section 1.
+    """Invented plan "fixture-diode": q = NAND(a, b, c) as a diode AND on a 6AU6 pentode (V1).
 
-    Each input's divider (220k / 220k to BIAS) feeds a tap; a diode from the grid (anode)
-    to each tap (cathode) pulls the grid low when any tap is low; the grid returns to 0 V
-    through 1M. Section 2 of V1 is parked with every electrode at GND.
+    The circuit is the one the planner builds for a diode-AND branch: a gate node pulled
+    up from B+ (1.3M), a silicon diode from the gate node (anode) to each input (cathode),
+    and the divider (680k / 1.2M to BIAS) from the gate node to the grid; the screen is fed
+    from B+ through 68k with 100k to ground, the suppressor is tied to ground. Values as a
+    planner run chose them for 225 V / -95 V, levels 67.5 V / 20.25 V; budgets invented.
     """
-    taps = {"a": "S1.t1", "b": "S1.t2", "c": "S1.t3"}
-    parts = [Part("V1", "tube", "12AU7", (("1", "GND"), ("2", "GND"), ("3", "GND"), ("4", "H1"), ("5", "H1"),
-                                          ("6", "n1"), ("7", "S1.g1"), ("8", "GND"), ("9", "H1_RET")),
-                  "tube", None, tube="12AU7"),
-             _r("R1", 47e3, "B+", "n1", "plate load", "S1", 0.75, rating=2.0),
-             _r("R2", 1e6, "S1.g1", "GND", "grid return", "S1", 0.001)]
-    k = 3
-    for i, (name, tap) in enumerate(sorted(taps.items()), start=1):
-        parts.append(_r(f"R{k}", 220e3, name, tap, "divider upper", "S1", 0.04))
-        parts.append(_r(f"R{k + 1}", 220e3, tap, "BIAS", "divider lower", "S1", 0.04))
-        k += 2
-    parts += [Part(f"D{i}", "diode", "silicon signal diode", (("A", "S1.g1"), ("K", tap)), "AND diode", "S1")
-              for i, tap in enumerate(sorted(taps.values()), start=1)]
+    parts = [Part("V1", "tube", "6AU6", (("1", "S1.g1"), ("2", "GND"), ("3", "H1"), ("4", "H1_RET"),
+                                         ("5", "n1"), ("6", "S1.g2"), ("7", "GND")), "tube", None, tube="6AU6"),
+             _r("R1", 130e3, "B+", "n1", "plate load", "S1", 0.39, rating=1.0),
+             _r("R2", 68e3, "B+", "S1.g2", "screen series", "S1", 0.25),
+             _r("R3", 100e3, "S1.g2", "GND", "screen shunt", "S1", 0.18),
+             _r("R4", 1.3e6, "B+", "S1.x", "gate pull-up", "S1", 0.02),
+             _r("R5", 680e3, "S1.x", "S1.g1", "divider upper", "S1", 0.01),
+             _r("R6", 1.2e6, "S1.g1", "BIAS", "divider lower", "S1", 0.01)]
+    parts += [Part(f"D{i}", "diode", "silicon signal diode", (("A", "S1.x"), ("K", name)), "AND diode", "S1")
+              for i, name in enumerate("abc", start=1)]
     stage = PlacedStage("S1", "inverting", "n1", "NAND-3",
-                        branches=(PlacedBranch(("a", "b", "c"), "diode", "12AU7", "V1", 1, ("D1", "D2", "D3")),),
-                        plate_load_ohms=47e3, fanout=0, fanout_limit=6, supply_ma_worst=4.6,
-                        supply_ma_typical=2.4, bias_ma_worst=1.2)
-    envelope = Envelope("V1", "12AU7", "9-pin noval", "H1", "parallel", 6.3, 0.3,
-                        (SectionUse(1, "diode", "S1", (("cathode", "GND"), ("grid", "S1.g1"), ("plate", "n1"))),
-                         SectionUse(2, "unused", "", (("cathode", "GND"), ("grid", "GND"), ("plate", "GND")))))
-    budget = Budget(1.89, (WindingLoad("H1", 6.3, 2.0, 0.3),), 4.6, 2.4, 1.2, 100.0, 20.0)
+                        branches=(PlacedBranch(("a", "b", "c"), "diode", "6AU6", "V1", 1, ("D1", "D2", "D3")),),
+                        plate_load_ohms=130e3, fanout=0, fanout_limit=4, supply_ma_worst=3.9,
+                        supply_ma_typical=2.6, bias_ma_worst=0.2)
+    envelope = Envelope("V1", "6AU6", "7-pin miniature", "H1", "single", 6.3, 0.3,
+                        (SectionUse(1, "diode", "S1", (("cathode", "GND"), ("grid", "S1.g1"), ("grid3", "GND"),
+                                                       ("plate", "n1"), ("screen", "S1.g2"))),))
+    budget = Budget(1.89, (WindingLoad("H1", 6.3, 2.0, 0.3),), 3.9, 2.6, 0.2, 100.0, 20.0)
     return Plan(design="fixture-diode", inputs=(("a", False), ("b", False), ("c", False)),
                 outputs=(("q", "n1"),), forms=(("q", "~(a & b & c)"),), stages=(stage,), envelopes=(envelope,),
-                parts=tuple(parts), budget=budget, stock=(StockUse("12AU7", 2, 0, 1, False),),
+                parts=tuple(parts), budget=budget, stock=(StockUse("6AU6", 2, 0, 1, False),),
                 solution=Solution("CBC", "Optimal", 1.1, 1.1, 0.0, 0.05),
-                plate_volts=225.0, bias_volts=-95.0, high_volts=180.0, low_volts=60.0)
+                plate_volts=225.0, bias_volts=-95.0, high_volts=67.5, low_volts=20.25)

@@ -123,4 +123,5 @@ def test_report_renders_in_headless_chromium(tmp_path):
 def test_diode_and_stage_is_drawn():
     page = report_html(_content(fixture_diode_plan()))
     text = check_report_html(page)
-    assert "one diode and divider per input (3: a, b, c)" in text and "NAND-3 on 12AU7" in text
+    assert "NAND-3 on 6AU6" in text and all(f"D{i}" in text for i in (1, 2, 3))
+    assert "R4 1.3M" in text and "R3 100k" in text  # the gate's pull-up and the screen shunt are drawn

@@ -130,8 +130,8 @@ def test_a_wrong_plan_is_caught():
 
 @needs_ngspice
 def test_diode_and_fixture_in_ngspice():
-    """A three-input diode AND on one triode is a NAND-3 in ngspice; the deck models the silicon diodes."""
+    """A three-input diode AND on one pentode is a NAND-3 in ngspice; the deck models the silicon diodes."""
     plan = fixture_diode_plan()
     deck = spice_deck(plan, builtin_catalogue())
-    assert "D1 s1_g1 s1_t1 d_silicon" in deck.text and deck.text.count(".model d_silicon D(") == 1
+    assert "D1 s1_x a d_silicon" in deck.text and deck.text.count(".model d_silicon D(") == 1
     check_truth_table(plan, deck, lambda out, v: 1 - (v["a"] & v["b"] & v["c"]))

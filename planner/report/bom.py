@@ -102,8 +102,8 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
                                         _percent(tolerance or None)) if x)
         elif kind == "capacitor":
             text = f"{value} capacitor"
-        else:
-            text = value
+        else:  # an AND diode may see up to the whole span between the rails in reverse
+            text = f"{value}, rated at least {plan.plate_volts - plan.bias_volts:g} V reverse (the B+ to BIAS span)"
         rows.append((kind, len(refs), text, refs, prices.get(kind), None, None))
 
     budgets = plan_budgets(plan)

@@ -52,7 +52,7 @@ class TubeSymbol(elm.Element):
                 self.segments.append(Segment([(-0.45, y), (-1.5, y)]))
                 self.anchors[electrode] = (-1.5, y)
         if caption:
-            self.segments.append(SegmentText((0.75, -1.0), caption, align=("left", "top"), fontsize=10))
+            self.segments.append(SegmentText((-0.3, -1.05), caption, align=("right", "top"), fontsize=10))
 
 
 class Text(elm.Element):
@@ -123,27 +123,20 @@ def _text(d, at, text: str, align, fontsize: float = 11) -> None:
     d.add(Text(text, align=align, fontsize=fontsize).at(at).theta(0))
 
 
-def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool, drawn_inputs: set) -> None:
-    """Draw what drives a grid at ``node_xy``: its divider (input, upper, lower) or a direct input."""
+def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool) -> None:
+    """Draw what drives a grid at ``node_xy``: a rail, an input directly, or a divider from its source.
+
+    The divider's source is an input net, or the gate node of a diode AND
+    (pulled up from B+, one diode to each input), which is drawn too.
+    """
     x, y = node_xy
+    if grid_net in _RAIL_TEXT:
+        d.add(elm.Line().at((x, y)).to((x - 0.6, y)))
+        _text(d, (x - 0.8, y), _RAIL_TEXT[grid_net], ("right", "center"))
+        return
     resistors = net.two_terminal(grid_net)
     upper = [(p, other) for p, other in resistors if other not in _RAIL_TEXT]
     lower = [(p, other) for p, other in resistors if other in _RAIL_TEXT]
-    diodes = net.diodes_from(grid_net)
-    if diodes:
-        for part, rail in lower:  # the grid's return resistor
-            end = (x, y - 2.5)
-            d.add(elm.Resistor().at((x, y)).to(end).label(_value(part), loc="bottom", fontsize=10))
-            _rail_label(d, end, rail, "down")
-        diode, tap = diodes[0]
-        d.add(elm.Dot().at((x, y)))
-        tap_xy = (x - 3.0, y)
-        d.add(elm.Diode().at((x, y)).to(tap_xy).label(diode.ref, loc="bottom", fontsize=10))  # anode at the grid
-        inputs = [t for _, t in diodes]
-        _text(d, (x - 3.0, y + 1.0), f"one diode and divider per input ({len(diodes)}: "
-                                     f"{', '.join(_input_names(net, inputs))})", ("center", "bottom"), 10)
-        _feed(d, net, tap_xy, tap, upward_return, drawn_inputs)
-        return
     if not upper:
         d.add(elm.Line().at((x, y)).to((x - 1.0, y)))
         _text(d, (x - 1.2, y), grid_net, ("right", "center"))
@@ -153,43 +146,70 @@ def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool, drawn_i
     start = (x - 3.0, y)
     d.add(elm.Resistor().at(start).to((x, y)).label(_value(part), loc="top" if upward_return else "bottom",
                                                      fontsize=10))
-    _text(d, (start[0] - 0.2, y), source, ("right", "center"))
     for part, rail in lower[:1]:
         end = (x, y + 2.0) if upward_return else (x, y - 2.5)
         d.add(elm.Resistor().at((x, y)).to(end).label(_value(part), loc="bottom", fontsize=10))
         _rail_label(d, end, rail, "up" if upward_return else "down")
-
-
-def _input_names(net: _Netlist, taps) -> list[str]:
-    names = []
-    for tap in taps:
-        sources = [other for _, other in net.two_terminal(tap) if other not in _RAIL_TEXT]
-        names.append(sources[0] if sources else tap)
-    return names
+    diodes = net.diodes_from(source)
+    if not diodes:
+        _text(d, (start[0] - 0.2, y), source, ("right", "center"))
+        return
+    gx, gy = start
+    d.add(elm.Dot().at(start))
+    for part, rail in [(p, o) for p, o in net.two_terminal(source) if o in _RAIL_TEXT][:1]:  # the pull-up
+        top = (gx, gy + 2.5)
+        d.add(elm.Resistor().at(start).to(top).label(_value(part), loc="bottom", fontsize=10))
+        _rail_label(d, top, rail, "up")
+    for k, (diode, cathode) in enumerate(diodes):  # one diode to each input, anode at the gate node
+        row = (gx, gy - 1.4 * k)
+        if k:
+            d.add(elm.Line().at((gx, gy - 1.4 * (k - 1))).to(row))
+            d.add(elm.Dot().at(row))
+        end = (gx - 3.0, row[1])
+        d.add(elm.Diode().at(row).to(end).label(diode.ref, loc="bottom" if k == len(diodes) - 1 else "top",
+                                                fontsize=10))
+        _text(d, (end[0] - 0.2, row[1]), cathode, ("right", "center"))
 
 
 def _section_electrodes(nets: dict) -> tuple[str, ...]:
     return tuple(role for role in ("grid", "screen", "grid3") if role in nets)
 
 
-def _draw_section(d, net: _Netlist, centre, nets: dict, label: str, drawn: set) -> TubeSymbol:
+def _draw_screen(d, net: _Netlist, anchor, screen_net: str) -> None:
+    """The screen feed: series resistor from B+ and, if present, the shunt to a rail."""
+    sx, sy = anchor
+    if screen_net in _RAIL_TEXT:
+        d.add(elm.Line().at(anchor).to((sx + 1.0, sy)))
+        _text(d, (sx + 1.2, sy), _RAIL_TEXT[screen_net], ("left", "center"))
+        return
+    resistors = net.two_terminal(screen_net)
+    series = [p for p, o in resistors if o == PLATE_RAIL]
+    shunts = [(p, o) for p, o in resistors if o in _RAIL_TEXT and o != PLATE_RAIL]
+    node = (sx + 0.8, sy)
+    d.add(elm.Line().at(anchor).to(node))
+    for part, rail in shunts[:1]:
+        d.add(elm.Dot().at(node))
+        end = (node[0], sy - 2.5)
+        d.add(elm.Resistor().at(node).to(end).label(_value(part), loc="bottom", fontsize=10))
+        _rail_label(d, end, rail, "down")
+    if series:
+        end = (node[0] + 2.5, sy)
+        d.add(elm.Resistor().at(node).to(end).label(_value(series[0]), loc="top", fontsize=10))
+        _text(d, (end[0] + 0.2, sy), "B+", ("left", "center"))
+    else:
+        _text(d, (node[0] + 0.2, sy), screen_net, ("left", "center"))
+
+
+def _draw_section(d, net: _Netlist, centre, nets: dict, label: str) -> TubeSymbol:
     tube = d.add(TubeSymbol(_section_electrodes(nets), caption=label).at(centre).theta(0))
     for role, upward in (("grid", False), ("grid3", True)):
         if role in nets:
             gx, gy = tube.absanchors[role]
             node = (gx - 1.0, gy)
             d.add(elm.Line().at((gx, gy)).to(node))
-            _feed(d, net, node, nets[role], upward, drawn)
+            _feed(d, net, node, nets[role], upward)
     if "screen" in nets:
-        sx, sy = tube.absanchors["screen"]
-        feeds = [(p, o) for p, o in net.two_terminal(nets["screen"]) if o == PLATE_RAIL]
-        if feeds:
-            end = (sx + 2.5, sy)
-            d.add(elm.Resistor().at((sx, sy)).to(end).label(_value(feeds[0][0]), loc="top", fontsize=10))
-            _text(d, (end[0] + 0.2, sy), "B+", ("left", "center"))
-        else:
-            d.add(elm.Line().at((sx, sy)).to((sx + 1.0, sy)))
-            _text(d, (sx + 1.2, sy), nets["screen"], ("left", "center"))
+        _draw_screen(d, net, tube.absanchors["screen"], nets["screen"])
     kx, ky = tube.absanchors["cathode"]
     cathode = nets.get("cathode", GROUND)
     if cathode == GROUND:
@@ -202,15 +222,14 @@ def _draw_section(d, net: _Netlist, centre, nets: dict, label: str, drawn: set) 
 def _draw_inverting(stage: PlacedStage, net: _Netlist, plan: Plan) -> str:
     d = schemdraw.Drawing(canvas="svg", show=False)
     d.config(fontsize=11, lw=1.4)
-    drawn: set = set()
     plates = []
     x = 0.0
     for branch in stage.branches:
         nets = net.sections.get((branch.envelope, branch.section), {})
-        x += 7.0
+        x += 10.0 if branch.means == "diode" else 7.0  # a diode gate reaches further left
         centre = (x, 0.0)
         x += 6.0 if "screen" in nets else 2.5
-        tube = _draw_section(d, net, centre, nets, f"{branch.envelope}.{branch.section} {branch.tube}", drawn)
+        tube = _draw_section(d, net, centre, nets, f"{branch.envelope}.{branch.section} {branch.tube}")
         plates.append(tube.absanchors["plate"])
     bus_y = 4.2
     for px, py in plates:
@@ -246,7 +265,7 @@ def _draw_follower(stage: PlacedStage, net: _Netlist, plan: Plan) -> str:
     gx, gy = tube.absanchors["grid"]
     node = (gx - 1.0, gy)
     d.add(elm.Line().at((gx, gy)).to(node))
-    _feed(d, net, node, nets.get("grid", stage.input), False, set())
+    _feed(d, net, node, nets.get("grid", stage.input), False)
     kx, ky = tube.absanchors["cathode"]
     k = (kx, ky - 1.0)
     d.add(elm.Line().at((kx, ky)).to(k))

@@ -24,9 +24,11 @@ from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Plan
 
 from .designators import natural_key
 
-#: A generic small-signal silicon junction diode (from memory: typical of
-#: 100 V, 200 mA signal diodes; the plan's margins do not hinge on it).
-SILICON_DIODE_MODEL = ".model d_silicon D(IS=2.5n N=1.8 RS=0.6 BV=100 IBV=100u CJO=4p)"
+#: A generic small-signal silicon junction diode (forward parameters from memory,
+#: typical of signal diodes). No reverse breakdown is modelled: the BOM asks for
+#: diodes rated for the whole B+ to BIAS span, since an AND diode's cathode can
+#: sit at a high plate level while its anode is held near a low one.
+SILICON_DIODE_MODEL = ".model d_silicon D(IS=2.5n N=1.8 RS=0.6 CJO=4p)"
 
 
 
@@ -170,16 +172,19 @@ def ngspice_path() -> str | None:
     return shutil.which("ngspice")
 
 
-def simulate(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, executable: str | None = None,
-             timeout_s: float = 120.0) -> tuple[dict[str, float], ...]:
-    """Output node volts (design output -> V) for each input vector, in one ngspice run.
+def simulate(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: Mapping[str, str] | None = None,
+             executable: str | None = None, timeout_s: float = 120.0) -> tuple[dict[str, float], ...]:
+    """Node volts for each input vector, in one ngspice run: label -> V.
 
-    The deck's ``.op`` is replaced by a ``.control`` block that, per vector,
-    sets the input parameters (``alterparam``), re-loads the circuit
-    (``reset``), runs ``op`` and prints every output node. Raises
-    RuntimeError when ngspice fails or prints fewer results than asked.
-    Cost: one ngspice process, one operating point a vector.
+    ``probes`` maps a label to a SPICE node (see ``SpiceDeck.nodes``); the
+    default is every design output (label: output name, node out_NAME). The
+    deck's ``.op`` is replaced by a ``.control`` block that, per vector, sets
+    the input parameters (``alterparam``), re-loads the circuit (``reset``),
+    runs ``op`` and prints every probed node. Raises RuntimeError when
+    ngspice fails or prints fewer results than asked. Cost: one ngspice
+    process, one operating point a vector.
     """
+    probes = dict(deck.outputs if probes is None else probes)
     executable = executable or ngspice_path()
     if executable is None:
         raise RuntimeError("ngspice is not on PATH")
@@ -187,7 +192,7 @@ def simulate(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, executabl
     for k, vector in enumerate(vectors):
         control += [f"alterparam {param}={int(vector[name])}" for name, param in deck.params if name in vector]
         control += ["reset", "op", f"echo @@vector {k}"]
-        control += [f"print v({node})" for _, node in deck.outputs]
+        control += [f"print v({node})" for node in sorted(set(probes.values()))]
     control += ["quit", ".endc"]
     text = deck.text.replace("\n.op\n", "\n" + "\n".join(control) + "\n")
     with tempfile.TemporaryDirectory(prefix="tubeplan-spice-") as tmp:
@@ -195,16 +200,16 @@ def simulate(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, executabl
         path.write_text(text)
         done = subprocess.run([executable, "-b", str(path)], capture_output=True, text=True, timeout=timeout_s,
                               cwd=tmp)
-    results: list[dict[str, float]] = []
-    by_node = {node: name for name, node in deck.outputs}
+    volts: list[dict[str, float]] = []
     for line in done.stdout.splitlines():
         if line.startswith("@@vector"):
-            results.append({})
+            volts.append({})
             continue
         match = re.match(r"\s*v\((\S+)\)\s*=\s*(\S+)", line)
-        if match and results and match.group(1) in by_node:
-            results[-1][by_node[match.group(1)]] = float(match.group(2))
-    complete = len(results) == len(vectors) and all(len(r) == len(deck.outputs) for r in results)
+        if match and volts:
+            volts[-1][match.group(1)] = float(match.group(2))
+    results = [{label: row[node] for label, node in probes.items() if node in row} for row in volts]
+    complete = len(results) == len(vectors) and all(len(r) == len(probes) for r in results)
     if done.returncode != 0 or not complete:
         tail = "\n".join((done.stdout + done.stderr).splitlines()[-15:])
         raise RuntimeError(f"ngspice failed (status {done.returncode}, {len(results)} of {len(vectors)} "
