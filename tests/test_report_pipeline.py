@@ -236,6 +236,7 @@ def test_files_agree_with_the_plan(planned, case):
     assert sorted(doc["outputs"]) == sorted(o.name for o in design.outputs)
     text = check_report_html((out / "report.html").read_text())
     assert str(design_path) in text and str(stock_path) in text
+    assert all(part.ref in text for part in plan.parts)  # every part is in the report
     assert (out / MARKER).is_file()
 
 

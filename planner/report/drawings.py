@@ -52,7 +52,7 @@ class TubeSymbol(elm.Element):
                 self.segments.append(Segment([(-0.45, y), (-1.5, y)]))
                 self.anchors[electrode] = (-1.5, y)
         if caption:
-            self.segments.append(SegmentText((-0.3, -1.05), caption, align=("right", "top"), fontsize=10))
+            self.segments.append(SegmentText((0.2, 1.1), caption, align=("left", "bottom"), fontsize=10))
 
 
 class Text(elm.Element):
@@ -100,13 +100,17 @@ class _Netlist:
                 out.append((part, other[0] if other else net))
         return sorted(out, key=lambda item: natural_key(item[0].ref))
 
-    def diodes_from(self, grid: str) -> list[tuple[Part, str]]:
-        """Diodes with their anode on ``grid``, each with its cathode net."""
+    def diodes_from(self, node: str) -> list[tuple[str, str, bool]]:
+        """Diodes with their anode on ``node``: (label, cathode net, vacuum?), solid-state parts and
+        vacuum diode sections (a section with only a plate and a cathode) alike."""
         out = []
         for part in self.parts:
-            if part.kind == "diode" and dict(part.pins).get("A") == grid:
-                out.append((part, dict(part.pins)["K"]))
-        return sorted(out, key=lambda item: natural_key(item[0].ref))
+            if part.kind == "diode" and dict(part.pins).get("A") == node:
+                out.append((part.ref, dict(part.pins)["K"], False))
+        for (ref, index), nets in self.sections.items():
+            if set(nets) == {"plate", "cathode"} and nets["plate"] == node:
+                out.append((f"{ref}.{index} {self.tubes[ref].value}", nets["cathode"], True))
+        return sorted(out, key=lambda item: natural_key(item[0]))
 
 
 def _rail_label(d, at, rail: str, direction: str) -> None:
@@ -160,14 +164,19 @@ def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool) -> None
         top = (gx, gy + 2.5)
         d.add(elm.Resistor().at(start).to(top).label(_value(part), loc="bottom", fontsize=10))
         _rail_label(d, top, rail, "up")
-    for k, (diode, cathode) in enumerate(diodes):  # one diode to each input, anode at the gate node
-        row = (gx, gy - 1.4 * k)
+    pitch = 2.6 if any(vacuum for _, _, vacuum in diodes) else 1.4
+    for k, (label, cathode, vacuum) in enumerate(diodes):  # one diode to each input, anode at the gate node
+        row = (gx, gy - pitch * k)
         if k:
-            d.add(elm.Line().at((gx, gy - 1.4 * (k - 1))).to(row))
+            d.add(elm.Line().at((gx, gy - pitch * (k - 1))).to(row))
             d.add(elm.Dot().at(row))
         end = (gx - 3.0, row[1])
-        d.add(elm.Diode().at(row).to(end).label(diode.ref, loc="bottom" if k == len(diodes) - 1 else "top",
-                                                fontsize=10))
+        if vacuum:  # a diode section: plate at the gate node, cathode towards the input
+            d.add(TubeSymbol(()).at((gx - 1.5, row[1])).theta(-90))
+            _text(d, (gx - 1.5, row[1] - 1.1), label, ("center", "top"), 10)
+        else:
+            d.add(elm.Diode().at(row).to(end).label(label, loc="bottom" if k == len(diodes) - 1 else "top",
+                                                    fontsize=10))
         _text(d, (end[0] - 0.2, row[1]), cathode, ("right", "center"))
 
 

@@ -42,8 +42,10 @@ tbody tr:nth-child(even) td { background: #fafbfc; }
 .figure b { display: block; font-size: 20px; }
 .figure span { color: var(--muted); font-size: 12px; }
 .drawing { border: 1px solid var(--line); padding: 8px; margin: 6px 0 16px; overflow-x: auto; }
-svg.schematic { max-width: 100%; height: auto; display: block; }
+svg.schematic { display: block; }
 code { font-family: "DejaVu Sans Mono", Consolas, monospace; font-size: 13px; }
+details { margin: 4px 0 14px; }
+summary { cursor: pointer; color: var(--accent); font-size: 13px; }
 footer { color: var(--muted); font-size: 12px; border-top: 1px solid var(--line); margin-top: 30px;
          padding-top: 8px; }
 """
@@ -94,6 +96,19 @@ def _table(table: Table) -> str:
                         for i, c in enumerate(row))
         body.append(f"<tr>{cells}</tr>")
     return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+
+
+#: Resistors shown before the full list is folded away.
+MOST_LOADED = 12
+
+
+def _resistors(b) -> list[str]:
+    """The most loaded resistors, then all of them in a folded section when there are more."""
+    if len(b.resistors) <= MOST_LOADED:
+        return [_table(resistor_table(b))]
+    return [f'<p class="note">The {MOST_LOADED} resistors nearest their rating; every resistor is in the '
+            'folded list below.</p>', _table(resistor_table(b, most_loaded=MOST_LOADED)),
+            f"<details><summary>All {len(b.resistors)} resistors</summary>{_table(resistor_table(b))}</details>"]
 
 
 def _cautions() -> str:
@@ -155,7 +170,7 @@ def report_html(content: ReportContent) -> str:
            f'the time. Heat to get rid of: {b.heat_watts:.1f} W in all (heaters {b.heater_watts:.1f} W, plate '
            f'supply {b.plate.watts_worst:.1f} W, bias supply {b.bias.watts_worst:.2f} W); resistors dissipate '
            f'{b.resistor_watts:.2f} W of it.</p>',
-           '<h3>Resistor dissipation</h3>', _table(resistor_table(b)),
+           '<h3>Resistor dissipation</h3>', *_resistors(b),
            '<h2 id="stages">Stages</h2>', _table(stage_table(plan)),
            '<h2 id="drawings">Stage drawings</h2>',
            '<p class="note">One drawing per stage template (stages built alike share one), with the resistor '

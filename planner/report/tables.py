@@ -8,7 +8,7 @@ from planner.mapping import Plan
 
 from .bom import BomLine
 from .budgets import Budgets
-from .designators import ranges
+from .designators import natural_key, ranges
 from .wiring import Connection
 
 
@@ -54,9 +54,14 @@ def rail_table(budgets: Budgets) -> Table:
                    f"{b.watts_worst:.2f} W", f"{b.rating_ma:.1f} mA")), numeric=(1, 2, 3, 4, 5, 6))
 
 
-def resistor_table(budgets: Budgets) -> Table:
+def resistor_table(budgets: Budgets, *, most_loaded: int | None = None) -> Table:
+    """Each resistor's dissipation; with ``most_loaded``, only that many, highest share of rating first."""
+    resistors = list(budgets.resistors)
+    if most_loaded is not None:
+        share = lambda r: r.watts / r.rating_watts if r.rating_watts else 0.0
+        resistors = sorted(resistors, key=lambda r: (-share(r), natural_key(r.ref)))[:most_loaded]
     rows = []
-    for r in budgets.resistors:
+    for r in resistors:
         share = f"{100 * r.watts / r.rating_watts:.0f} %" if r.rating_watts else ""
         rows.append((r.ref, r.value, r.role, r.stage or "", f"{r.watts * 1000:.1f} mW",
                      "" if r.rating_watts is None else f"{r.rating_watts:g} W", share))
