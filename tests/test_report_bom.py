@@ -9,6 +9,7 @@ from collections import Counter
 import pytest
 
 from planner.catalogue import builtin_catalogue
+from planner.mapping import Part
 from planner.report import (CAUTIONS, HEADROOM, SURGE_FACTORS, bom_csv, bom_lines, bom_markdown, plan_budgets,
                             wiring_csv, wiring_rows)
 from planner.report.designators import natural_key, ranges
@@ -148,3 +149,20 @@ def test_diodes_are_grouped_by_kind():
     rows = wiring_rows(plan, builtin_catalogue())
     check_wiring_against_plan(plan, rows)
     assert {(r.terminal, r.function) for r in rows if r.ref == "D1"} == {("D1.A", "anode"), ("D1.K", "cathode")}
+
+
+def test_speedup_capacitors_are_listed_wired_and_simulated():
+    """A plan made with speed-up capacitors (across a divider's upper resistor) lists them as C parts."""
+    import dataclasses
+
+    from planner.report import spice_deck
+    plan = fixture_plan()
+    caps = (Part("C1", "capacitor", "22p", (("1", "a"), ("2", "S1.g1")), "speed-up", "S1", farads=22e-12),
+            Part("C2", "capacitor", "22p", (("1", "b"), ("2", "S1.g2")), "speed-up", "S1", farads=22e-12))
+    plan = dataclasses.replace(plan, parts=plan.parts + caps)
+    lines = bom_lines(plan)
+    check_bom_against_plan(plan, lines)
+    assert [(l.description, l.designators) for l in lines if l.group == "capacitor"] == \
+        [("22p capacitor", ("C1", "C2"))]
+    check_wiring_against_plan(plan, wiring_rows(plan, builtin_catalogue()))
+    assert "C1 a s1_g1 2.2e-11" in spice_deck(plan, builtin_catalogue()).text

@@ -9,6 +9,8 @@ Public API:
 - ``plan_budgets(plan) -> Budgets``; ``bom_lines(plan, prices=, tube_prices=) -> tuple[BomLine, ...]``;
   ``wiring_rows(plan, catalogue) -> tuple[Connection, ...]``
 - ``spice_deck(plan, catalogue) -> SpiceDeck``; ``simulate(deck, vectors) -> tuple[dict, ...]`` (ngspice)
+- ``check_target(out_dir) -> bool``: refuse (InputError) an output path that is not an earlier plan, before
+  any work; True when an earlier plan is there
 - ``CAUTIONS``: the safety cautions every human-facing output carries; ``MARKER``: the plan directory marker
 - ``design_summary(design)``, ``stock_summary(stock)``: what ``tubeplan check`` prints
 """
@@ -21,9 +23,9 @@ from .document import SCHEMA, plan_document, plan_json
 from .spice import SpiceDeck, ngspice_path, sanitise, simulate, spice_deck
 from .summary import plan_summary
 from .wiring import Connection, wiring_csv, wiring_rows
-from .write import MARKER, write_plan
+from .write import MARKER, check_target, write_plan
 
 __all__ = ["CAUTIONS", "HEADROOM", "MARKER", "SCHEMA", "SURGE_FACTORS", "BomLine", "Budgets", "Connection",
-           "SpiceDeck", "bom_csv", "bom_lines", "bom_markdown", "design_summary", "ngspice_path", "plan_budgets",
+           "SpiceDeck", "bom_csv", "bom_lines", "bom_markdown", "check_target", "design_summary", "ngspice_path", "plan_budgets",
            "plan_document", "plan_json", "plan_summary", "sanitise", "simulate", "spice_deck", "stock_summary",
            "wiring_csv", "wiring_rows", "write_plan"]

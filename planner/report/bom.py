@@ -116,6 +116,10 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
                               f"{budgets.bias.rating_ma:.1f} mA: load {budgets.bias.ma_worst:.1f} mA + {headroom}",
                  [], None, None, None))
     for w in budgets.windings:
+        if not w.envelopes:
+            rows.append(("supply", 0, f"heater winding {w.id} {w.volts:g} V: not used by this plan", [], None, None,
+                         None))
+            continue
         rows.append(("supply", 1, f"heater winding {w.id} {w.volts:g} V, rated at least {w.rating_amps:.2f} A "
                                   f"({w.volts * w.rating_amps:.1f} VA): load {w.amps:.2f} A + {headroom}; "
                                   f"cold-start surge {w.surge_amps_low:.1f} to {w.surge_amps_high:.1f} A "
@@ -165,8 +169,8 @@ def _md_cell(text: str) -> str:
 
 def bom_markdown(lines, *, title: str) -> str:
     """bom.md: the bill of materials as Markdown tables by group, the total and the cautions."""
-    out = [f"# Bill of materials: {title}", "", "> **Safety.** " + " ".join(
-        f"**{heading}.** {text}" for heading, text in CAUTIONS), ""]
+    out = [f"# Bill of materials: {title}", "", "**Safety first.**", ""]
+    out += [f"- **{heading}.** {text}" for heading, text in CAUTIONS] + [""]
     names = {"tube": "Tubes", "socket": "Sockets", "resistor": "Resistors", "diode": "Diodes",
              "capacitor": "Capacitors", "supply": "Supplies and transformer ratings"}
     for group in GROUPS:

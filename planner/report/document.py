@@ -25,7 +25,7 @@ def _stage(stage) -> dict:
              "fanout": stage.fanout, "fanout_limit": stage.fanout_limit,
              "supply_ma_worst": _num(stage.supply_ma_worst),
              "supply_ma_typical": _num(stage.supply_ma_typical),
-             "bias_ma_worst": _num(stage.bias_ma_worst)}
+             "bias_ma_worst": _num(stage.bias_ma_worst), "template": stage.template}
     if stage.kind == "follower":
         entry.update(input=stage.input, tube=stage.tube, envelope=stage.envelope, section=stage.section,
                      load_ohms=_num(stage.load_ohms))
@@ -63,7 +63,8 @@ def plan_document(plan: Plan) -> dict:
         "outputs": dict(plan.outputs),
         "forms": dict(plan.forms),
         "levels": {"plate_volts": _num(plan.plate_volts), "bias_volts": _num(plan.bias_volts),
-                   "high_volts": _num(plan.high_volts), "low_volts": _num(plan.low_volts)},
+                   "high_volts": _num(plan.high_volts), "low_volts": _num(plan.low_volts),
+                   "follower_low_volts": _num(plan.follower_low_volts)},
         "stages": [_stage(stage) for stage in plan.stages],
         "envelopes": [{"ref": e.ref, "tube": e.tube, "base": e.base, "winding": e.winding,
                        "heater_connection": e.heater_connection, "heater_volts": _num(e.heater_volts),
@@ -83,7 +84,11 @@ def plan_document(plan: Plan) -> dict:
                    "scarce": s.scarce} for s in plan.stock],
         "solution": {"solver": plan.solution.solver, "status": plan.solution.status,
                      "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
-                     "gap": _num(plan.solution.gap)},
+                     "gap": _num(plan.solution.gap), "mode": plan.solution.mode,
+                     "network": plan.solution.network,
+                     "levels": [{"criterion": c, "value": _num(v), "lp_bound": _num(b), "gap": _num(g)}
+                                for c, v, b, g in plan.solution.levels],
+                     "terms": {name: _num(value) for name, value in plan.solution.terms}},
     }
 
 
