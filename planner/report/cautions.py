@@ -27,7 +27,3 @@ CAUTIONS: tuple[tuple[str, str], ...] = (
      "to do so where that is required."),
 )
 
-
-def caution_lines() -> tuple[str, ...]:
-    """The cautions as one line each: ``"HEADING: text"``."""
-    return tuple(f"{heading.upper()}: {text}" for heading, text in CAUTIONS)
