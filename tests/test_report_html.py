@@ -125,3 +125,13 @@ def test_diode_and_stage_is_drawn():
     text = check_report_html(page)
     assert "NAND-3 on 6AU6" in text and all(f"D{i}" in text for i in (1, 2, 3))
     assert "R4 1.3M" in text and "R3 100k" in text  # the gate's pull-up and the screen shunt are drawn
+
+
+def test_speedup_capacitors_are_named_in_the_drawing():
+    import dataclasses
+
+    from planner.mapping import Part
+    plan = fixture_plan()
+    cap = Part("C1", "capacitor", "22p", (("1", "a"), ("2", "S1.g1")), "speed-up", "S1", farads=22e-12)
+    text = check_report_html(report_html(_content(dataclasses.replace(plan, parts=plan.parts + (cap,)))))
+    assert "R2 220k + C1 22p across" in text

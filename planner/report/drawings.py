@@ -148,8 +148,11 @@ def _feed(d, net: _Netlist, node_xy, grid_net: str, upward_return: bool) -> None
     part, source = upper[0]
     d.add(elm.Dot().at((x, y)))
     start = (x - 3.0, y)
-    d.add(elm.Resistor().at(start).to((x, y)).label(_value(part), loc="top" if upward_return else "bottom",
-                                                     fontsize=10))
+    label = _value(part)
+    for cap, other in net.two_terminal(grid_net, "capacitor"):  # a speed-up capacitor across the upper
+        if other == source:
+            label += f" + {_value(cap)} across"
+    d.add(elm.Resistor().at(start).to((x, y)).label(label, loc="top" if upward_return else "bottom", fontsize=10))
     for part, rail in lower[:1]:
         end = (x, y + 2.0) if upward_return else (x, y - 2.5)
         d.add(elm.Resistor().at((x, y)).to(end).label(_value(part), loc="bottom", fontsize=10))
