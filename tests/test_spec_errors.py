@@ -15,7 +15,7 @@ from conftest import GOOD_DESIGN, GOOD_STOCK
 # (name, design text, line expected, words the message must contain)
 DESIGN_MISTAKES = [
     ("not a mapping", "- a\n- b\n", 1, "must be a mapping"),
-    ("missing outputs", "design: d\ninputs: [a]\n", 1, "missing the required key 'outputs'"),
+    ("missing outputs", "design: d\ninputs: [a]\n", 1, "no outputs and no registers"),
     ("unknown top key", "design: d\ninputs: [a]\noutput:\n  y: a\n", 3, "did you mean 'outputs'"),
     ("duplicate input", "design: d\ninputs: [a, b, a]\noutputs:\n  y: a\n", 2, "listed twice"),
     ("bad input name", "design: d\ninputs: [a, 2b]\noutputs:\n  y: a\n", 2, "not a valid name"),
@@ -52,6 +52,12 @@ DESIGN_MISTAKES = [
      4, "expected an operator"),
     ("sympify-style injection", "design: d\ninputs: [a]\noutputs:\n  y: a & eval('1')\n", 4, "expected an operator"),
     ("expression is a list", "design: d\ninputs: [a]\noutputs:\n  y: [a]\n", 4, "must be an expression"),
+    ("register reset not 0 or 1", "design: d\ninputs: [a]\nregisters:\n  q: {next: a, reset: 2}\n", 4,
+     "reset must be 0 or 1"),
+    ("register next undefined", "design: d\ninputs: [a]\nregisters:\n  q: {next: a & z}\n", 4,
+     "'z', which is not an input"),
+    ("register next-state name taken", "design: d\ninputs: [a]\nregisters:\n  q: {next: a}\noutputs:\n  q_next: a\n",
+     6, "taken by the next state"),
     ("no inputs", "design: d\ninputs: []\noutputs:\n  y: 1\n", 2, "inputs is empty"),
     ("alias bomb", "design: d\ninputs: [a]\n" + "".join(
         f"x{i}: &x{i} [" + ", ".join([f"*x{i - 1}"] * 10 if i else ["1"] * 10) + "]\n" for i in range(7))

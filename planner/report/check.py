@@ -11,11 +11,16 @@ from planner.spec import Design, Stock
 
 
 def design_summary(design: Design) -> str:
-    """Inputs, signals, and each output with its inputs and care-set size."""
+    """Inputs, signals, registers, and each output with its inputs and care-set size."""
     lines = [f"design {design.name!r} ({design.path})"]
+    if design.registers:
+        lines.append(f"registers ({len(design.registers)}): " + ", ".join(
+            f"{reg.name} (reset {reg.reset})" for reg in design.registers))
+    registers = {reg.name for reg in design.registers}
+    design = design.combinational()
     shown_inputs = [f"{spec.name} (and ~{spec.name})" if spec.complement else spec.name
-                    for spec in design.inputs]
-    lines.append(f"inputs ({len(design.inputs)}): {', '.join(shown_inputs)}")
+                    for spec in design.inputs if spec.name not in registers]
+    lines.append(f"inputs ({len(shown_inputs)}): {', '.join(shown_inputs)}")
     if design.signals:
         lines.append(f"signals ({len(design.signals)}): {', '.join(design.signal_names)}")
     rows = []

@@ -52,8 +52,26 @@ class OutputSpec:
 
 
 @dataclass(frozen=True)
+class RegisterSpec:
+    """A clocked register: its output is net ``name`` (and ``~name``); ``next`` is its next state."""
+
+    name: str
+    next: sympy.Basic
+    reset: int = 0
+
+    @property
+    def next_output(self) -> str:
+        """The name of the next-state function in the combinational view."""
+        return f"{self.name}{NEXT_SUFFIX}"
+
+
+#: Suffix naming a register's next-state function among the outputs of the combinational view.
+NEXT_SUFFIX = "_next"
+
+
+@dataclass(frozen=True)
 class Design:
-    """A whole design: inputs, named signals (topological order) and outputs."""
+    """A whole design: inputs, named signals (topological order), outputs and registers."""
 
     name: str
     path: str
@@ -61,6 +79,27 @@ class Design:
     signals: tuple[SignalSpec, ...] = ()
     outputs: tuple[OutputSpec, ...] = ()
     lines: dict = field(default_factory=dict, compare=False, repr=False)
+    registers: tuple[RegisterSpec, ...] = ()
+
+    def combinational(self) -> "Design":
+        """The logic between the registers as a design of its own.
+
+        Register outputs become inputs with their complement available (a
+        bistable has both outputs); each register's next state becomes an
+        output ``NAME_next``. A design without registers is returned as is.
+
+        >>> d = Design("t", "-", (InputSpec("t"),), registers=(RegisterSpec("q", parse_expression("q ^ t")),))
+        >>> view = d.combinational()
+        >>> [(i.name, i.complement) for i in view.inputs], [o.name for o in view.outputs]
+        ([('t', False), ('q', True)], ['q_next'])
+        """
+        if not self.registers:
+            return self
+        inputs = self.inputs + tuple(InputSpec(reg.name, True) for reg in self.registers)
+        outputs = self.outputs + tuple(OutputSpec(reg.next_output, reg.next, sympy.false,
+                                                  f"next state of register {reg.name}")
+                                       for reg in self.registers)
+        return Design(self.name, self.path, inputs, self.signals, outputs, self.lines)
 
     @property
     def input_names(self) -> tuple[str, ...]:
@@ -76,7 +115,7 @@ class Design:
         >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
         ...            (SignalSpec("s", parse_expression("a & b")),))
         >>> d.flatten(parse_expression("s | ~a"))
-        b | ~a
+        ~a | (a & b)
         """
         flat: dict = {}
         for signal in self.signals:
@@ -91,40 +130,72 @@ def load_design(path) -> Design:
 
 def design_from_yaml(file: YamlFile) -> Design:
     top = expect_mapping(file, file.data, 1, "the design file")
-    check_keys(file, top, ("design", "inputs", "signals", "outputs"), "the design file",
-               required=("design", "inputs", "outputs"))
+    check_keys(file, top, ("design", "inputs", "signals", "outputs", "registers"), "the design file",
+               required=("design", "inputs"))
     name = get_text(file, top, "design", "the design file")
     inputs = _read_inputs(file, top)
     input_names = {spec.name for spec in inputs}
 
-    signal_map = top.get("signals")
-    if signal_map is None:
-        signal_map = Mapping()
-        signal_map.line, signal_map.lines, signal_map.raw = line_of(top, "signals"), {}, {}
-    expect_mapping(file, signal_map, line_of(top, "signals"), "signals")
-    output_map = expect_mapping(file, top["outputs"], line_of(top, "outputs"), "outputs")
-    if not output_map:
-        raise file.error(line_of(top, "outputs"), "outputs is empty; expected at least one output")
+    signal_map = _optional_mapping(file, top, "signals")
+    output_map = _optional_mapping(file, top, "outputs")
+    register_map = _optional_mapping(file, top, "registers")
+    if not output_map and not register_map:
+        raise file.error(line_of(top, "outputs"), "the design has no outputs and no registers; "
+                                                  "expected at least one output")
 
+    _check_new_names(file, register_map, "register", input_names, {})
+    input_names = input_names | set(register_map)
     _check_new_names(file, signal_map, "signal", input_names, {})
     _check_new_names(file, output_map, "output", input_names, signal_map.lines)
+    for register in register_map:
+        taken = register + NEXT_SUFFIX
+        if taken in output_map or taken in signal_map:
+            raise file.error(line_of(output_map if taken in output_map else signal_map, taken),
+                             f"the name {taken!r} is taken by the next state of register {register!r}; "
+                             "rename it")
 
     parsed = {}
     for signal, value in signal_map.items():
         parsed[signal] = _expression_value(file, signal_map, signal, value, f"signal {signal!r}")
-    known = input_names | set(signal_map)
+    known = input_names | set(signal_map)  # input_names includes the registers here
     for signal, expr in parsed.items():
         _check_references(file, line_of(signal_map, signal), f"signal {signal!r}", expr, known,
                           set(output_map))
     order = _topological_order(file, signal_map, parsed)
     signals = tuple(SignalSpec(signal, parsed[signal]) for signal in order)
 
-    outputs = tuple(_read_output(file, output_map, output, value, known, [s.name for s in inputs],
+    outputs = tuple(_read_output(file, output_map, output, value, known,
+                                 [s.name for s in inputs] + list(register_map),
                                  set(output_map))
                     for output, value in output_map.items())
+    registers = tuple(_read_register(file, register_map, register, value, known, set(output_map))
+                      for register, value in register_map.items())
     lines = {"inputs": dict((spec.name, line) for spec, line in zip(inputs, _input_lines(top))),
              "signals": dict(signal_map.lines), "outputs": dict(output_map.lines)}
-    return Design(name, file.path, inputs, signals, outputs, lines)
+    return Design(name, file.path, inputs, signals, outputs, lines, registers)
+
+
+def _optional_mapping(file: YamlFile, top: Mapping, key: str) -> Mapping:
+    """``top[key]`` as a mapping; an empty one with the right line when absent."""
+    value = top.get(key)
+    if value is None:
+        value = Mapping()
+        value.line, value.lines, value.raw = line_of(top, key), {}, {}
+    return expect_mapping(file, value, line_of(top, key), key)
+
+
+def _read_register(file: YamlFile, register_map: Mapping, name: str, value, known: set,
+                   outputs: set) -> RegisterSpec:
+    line = line_of(register_map, name)
+    what = f"register {name!r}"
+    entry = expect_mapping(file, value, line, what)
+    check_keys(file, entry, ("next", "reset"), what, required=("next",))
+    expr = _expression_value(file, entry, "next", entry["next"], f"{what} next")
+    _check_references(file, line_of(entry, "next"), f"{what} next", expr, known, outputs)
+    reset = entry.get("reset", 0)
+    if reset not in (0, 1) or isinstance(reset, bool):
+        raise file.error(line_of(entry, "reset"), f"{what} reset must be 0 or 1, found {describe(reset)}")
+    return RegisterSpec(name, expr, int(reset))
 
 
 def _input_lines(top: Mapping) -> list[int]:
@@ -296,4 +367,4 @@ def _sum_of_minterms(symbols: list, indices) -> sympy.Basic:
     return sympy.Or(*terms)
 
 
-__all__ = ["Design", "InputSpec", "OutputSpec", "SignalSpec", "load_design"]
+__all__ = ["NEXT_SUFFIX", "Design", "InputSpec", "OutputSpec", "RegisterSpec", "SignalSpec", "load_design"]
