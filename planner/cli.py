@@ -159,7 +159,45 @@ def _run_stage(args) -> int:
     return EXIT_OK
 
 
-_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_stage)
+# --- logic --------------------------------------------------------------------------------
+
+def _add_logic(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "logic", help="minimise each output of a design in both polarities",
+        description="Minimise each output of a design, with its named signals substituted, as a "
+                    "sum of products and as NOT of its complement's sum of products; give literal "
+                    "counts and whether each form is proven minimum.")
+    parser.add_argument("design", help="design file (YAML)")
+    parser.add_argument("--json", action="store_true", help="print one JSON document")
+    parser.set_defaults(run=_run_logic)
+
+
+def _run_logic(args) -> int:
+    from planner.logic import MAX_TABLE_INPUTS, expr_forms, format_forms, forms_document, used_inputs
+    from planner.spec import load_design
+
+    design = load_design(args.design)
+    rows = []
+    for output in design.outputs:
+        expr, dont_care = design.flatten(output.expr), design.flatten(output.dont_care)
+        n = len(used_inputs(design.input_names, expr, dont_care))
+        if n > MAX_TABLE_INPUTS:
+            raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
+                             f"output {output.name!r} depends on {n} inputs; tubeplan logic "
+                             f"minimises outputs of at most {MAX_TABLE_INPUTS} inputs")
+        if n > 10:
+            print(f"tubeplan logic: minimising {output.name} over {n} inputs ...", file=sys.stderr, flush=True)
+        rows.append((output.name, expr_forms(expr, design.input_names, dont_care)))
+    if args.json:
+        _print_json(forms_document(rows))
+    else:
+        print(format_forms(rows))
+        print()
+        print(CAUTION)
+    return EXIT_OK
+
+
+_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_stage, _add_logic)
 
 
 def build_parser() -> argparse.ArgumentParser:

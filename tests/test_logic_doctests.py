@@ -5,7 +5,7 @@ import importlib
 
 import pytest
 
-MODULES = ["cover", "equivalence", "exact", "heuristic", "minimise", "primes", "table", "text"]
+MODULES = ["cover", "equivalence", "exact", "heuristic", "listing", "minimise", "primes", "table", "text"]
 
 
 @pytest.mark.parametrize("name", MODULES)

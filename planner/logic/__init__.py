@@ -12,17 +12,20 @@ Public API
 - :class:`Forms`, :func:`forms`, :func:`expr_forms`, :func:`used_inputs`
 - :func:`equivalent`, :func:`counterexample`
 - :func:`format_expr`, :func:`symbol_names`
+- :func:`forms_document`, :func:`format_forms` (views for ``tubeplan logic``)
 """
 
 from .cover import Cover, Cube
 from .equivalence import EXHAUSTIVE_LIMIT, counterexample, equivalent
+from .listing import format_forms, forms_document
 from .minimise import Forms, expr_forms, forms, minimise, minimise_complement, used_inputs
 from .primes import prime_implicants
-from .table import TruthTable, symbol_names, table_from_expr, table_from_minterms
+from .table import MAX_TABLE_INPUTS, TruthTable, symbol_names, table_from_expr, table_from_minterms
 from .text import format_expr
 
 __all__ = [
-    "Cover", "Cube", "EXHAUSTIVE_LIMIT", "Forms", "TruthTable", "counterexample", "equivalent",
-    "expr_forms", "format_expr", "forms", "minimise", "minimise_complement", "prime_implicants",
-    "symbol_names", "table_from_expr", "table_from_minterms", "used_inputs",
+    "Cover", "Cube", "EXHAUSTIVE_LIMIT", "Forms", "MAX_TABLE_INPUTS", "TruthTable", "counterexample",
+    "equivalent", "expr_forms", "format_expr", "format_forms", "forms", "forms_document", "minimise",
+    "minimise_complement", "prime_implicants", "symbol_names", "table_from_expr", "table_from_minterms",
+    "used_inputs",
 ]

@@ -18,11 +18,12 @@ from .table import Space, TruthTable, iter_bits
 
 @dataclass
 class _Term:
-    """A cube with its assignment bitset (working data, private)."""
+    """A cube with its assignment bitset; ``prime`` when it came out of EXPAND unchanged since."""
 
     mask: int
     value: int
     bits: int
+    prime: bool = False
 
 
 @dataclass(frozen=True)
@@ -63,6 +64,10 @@ def _expand(space: Space, terms: list[_Term], on: int, off: int) -> list[_Term]:
     for t in order:
         if not t.bits & uncovered:
             continue
+        if t.prime:  # no literal can be raised: expanding would only re-test them all
+            out.append(t)
+            uncovered ^= uncovered & t.bits
+            continue
         mask, value, bits = t.mask, t.value, t.bits
         candidates = list(iter_bits(mask))
         while candidates:
@@ -86,7 +91,7 @@ def _expand(space: Space, terms: list[_Term], on: int, off: int) -> list[_Term]:
             value &= ~bit
             bits |= best_mirror
             candidates = [f[1] for f in feasible if f[1] != best]
-        out.append(_Term(mask, value, bits))
+        out.append(_Term(mask, value, bits, prime=True))
         uncovered ^= uncovered & bits
     return out
 
@@ -145,7 +150,7 @@ def _reduce(space: Space, terms: list[_Term], on: int, dc: int) -> list[_Term]:
             elif not need & space.one[p]:
                 mask |= 1 << p
                 bits &= space.zero[p]
-        out.append(_Term(mask, value, bits))
+        out.append(t if mask == t.mask else _Term(mask, value, bits))
         done_union |= bits
     return out
 

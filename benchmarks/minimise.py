@@ -1,0 +1,154 @@
+"""Benchmark: two-level minimisation against sympy's SOPform (not a test).
+
+Seeded random functions (each assignment on with probability 0.4, don't-care
+0.1, else off) at 6, 8, 9, 10, 12, 14 and 16 inputs.  For each: our time and
+literal count for the minimum SOP of f (exact up to 10 inputs, the
+expand / irredundant / reduce heuristic above), beside sympy SOPform's, each
+run in its own subprocess (SOPform with a 120 s timeout).  SOPform runs on
+every function up to 9 inputs and on the first two at 10 (it takes about a
+minute there); above 10 it is skipped.  The heuristic is also run inside the
+exact range so its literal count can be set against the proven minimum.
+Peak resident memory is each worker process's own (resource.getrusage).
+Times are wall-clock (time.perf_counter) with the process CPU time beside
+ours; CBC runs in a child process of the worker, so its CPU time shows only
+in the wall-clock figure.  The machine may be shared: compare ratios.
+
+Run:  /tmp/venv/bin/python benchmarks/minimise.py          (about 4 minutes)
+"""
+
+from __future__ import annotations
+
+import json
+import random
+import statistics
+import subprocess
+import sys
+import time
+
+SIZES = (6, 8, 9, 10, 12, 14, 16)
+FUNCTIONS = {6: 5, 8: 5, 9: 5, 10: 5, 12: 3, 14: 3, 16: 3}
+SOPFORM_FUNCTIONS = {6: 5, 8: 5, 9: 5, 10: 2}
+SOPFORM_TIMEOUT_S = 120
+
+
+def random_function(n: int, seed: int) -> tuple[list[int], list[int]]:
+    """On-set and don't-care minterms of a seeded random function of n inputs."""
+    rng = random.Random(seed)
+    on, dc = [], []
+    for i in range(1 << n):
+        u = rng.random()
+        if u < 0.4:
+            on.append(i)
+        elif u < 0.5:
+            dc.append(i)
+    return on, dc
+
+
+def _literals(expr) -> int:
+    import sympy
+
+    count, stack = 0, [expr]
+    while stack:
+        node = stack.pop()
+        if isinstance(node, sympy.Symbol):
+            count += 1
+        else:
+            stack.extend(node.args)
+    return count
+
+
+def worker(kind: str, n: int, seed: int) -> dict:
+    """One measurement in this (fresh) process; imports happen before the clock starts."""
+    import resource
+
+    on, dc = random_function(n, seed)
+    names = tuple(f"x{k}" for k in range(n))
+    if kind == "sopform":
+        import sympy
+        from sympy.logic import SOPform
+
+        start, cpu = time.perf_counter(), time.process_time()
+        expr = SOPform(sympy.symbols(names), on, dc)
+        seconds, cpu = time.perf_counter() - start, time.process_time() - cpu
+        literals = _literals(expr)
+        exact = None
+    else:
+        from planner.logic import minimise, table_from_minterms
+
+        table = table_from_minterms(names, on, dc)
+        start, cpu = time.perf_counter(), time.process_time()
+        cover = minimise(table, exact_limit=0) if kind == "heuristic" else minimise(table)
+        seconds, cpu = time.perf_counter() - start, time.process_time() - cpu
+        literals, exact = cover.literals, cover.exact
+    peak_mib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    return {"seconds": seconds, "cpu": cpu, "literals": literals, "exact": exact, "peak_mib": peak_mib}
+
+
+def measure(kind: str, n: int, seed: int, timeout_s: float | None = None) -> dict | None:
+    """Run :func:`worker` in a subprocess; None if it exceeds ``timeout_s``."""
+    try:
+        done = subprocess.run([sys.executable, __file__, "--worker", kind, str(n), str(seed)],
+                              capture_output=True, text=True, timeout=timeout_s, check=True)
+    except subprocess.TimeoutExpired:
+        return None
+    return json.loads(done.stdout)
+
+
+def main() -> None:
+    from tabulate import tabulate
+
+    rows = []
+    started = time.perf_counter()
+    for n in SIZES:
+        seeds = [1000 * n + i for i in range(FUNCTIONS[n])]
+        ours = [measure("ours", n, s) for s in seeds]
+        heur = [measure("heuristic", n, s) for s in seeds] if n <= 10 else None
+        ref = []
+        for s in seeds[: SOPFORM_FUNCTIONS.get(n, 0)]:
+            print(f"  SOPform, {n} inputs, seed {s} ...", file=sys.stderr, flush=True)
+            ref.append(measure("sopform", n, s, timeout_s=SOPFORM_TIMEOUT_S))
+        t_ours = statistics.median(r["seconds"] for r in ours)
+        lits = sum(r["literals"] for r in ours)
+        row = {
+            "inputs": n,
+            "functions": len(seeds),
+            "method": "exact" if n <= 10 else "heuristic",
+            "proven": sum(bool(r["exact"]) for r in ours),
+            "ours median s": f"{t_ours:.3f}",
+            "ours max s": f"{max(r['seconds'] for r in ours):.3f}",
+            "ours median CPU s": f"{statistics.median(r['cpu'] for r in ours):.3f}",
+            "ours literals": lits,
+            "peak MiB": f"{max(r['peak_mib'] for r in ours):.0f}",
+            "heuristic/exact literals": (f"{sum(r['literals'] for r in heur) / lits:.3f}" if heur else "-"),
+        }
+        finished = [(o, r) for o, r in zip(ours, ref) if r is not None]
+        if finished:
+            t_ref = statistics.median(r["seconds"] for _, r in finished)
+            t_ours_same = statistics.median(o["seconds"] for o, _ in finished)
+            ref_lits = sum(r["literals"] for _, r in finished)
+            our_lits = sum(o["literals"] for o, _ in finished)
+            row.update({
+                "SOPform functions": len(finished),
+                "SOPform median s": f"{t_ref:.3f}",
+                "speed-up (median)": f"{t_ref / t_ours_same:.0f}x",
+                "literals ours/SOPform": f"{our_lits}/{ref_lits} = {our_lits / ref_lits:.3f}",
+                "never more literals": all(o["literals"] <= r["literals"] for o, r in finished),
+            })
+        elif ref:
+            row["SOPform functions"] = f"timed out (> {SOPFORM_TIMEOUT_S} s)"
+        else:
+            row["SOPform functions"] = "skipped (about a minute at 10 inputs, far more above)"
+        rows.append(row)
+        print(f"{n} inputs done ({time.perf_counter() - started:.0f} s so far)", file=sys.stderr, flush=True)
+    keys = []
+    for row in rows:
+        keys += [k for k in row if k not in keys]
+    print(tabulate([[row.get(k, "") for k in keys] for row in rows], headers=keys))
+    print(f"\nwall time {time.perf_counter() - started:.0f} s; Python {sys.version.split()[0]}")
+
+
+if __name__ == "__main__":
+    if len(sys.argv) == 5 and sys.argv[1] == "--worker":
+        print(json.dumps(worker(sys.argv[2], int(sys.argv[3]), int(sys.argv[4]))))
+    else:
+        main()
