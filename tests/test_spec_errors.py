@@ -58,6 +58,8 @@ DESIGN_MISTAKES = [
      "'z', which is not an input"),
     ("register next-state name taken", "design: d\ninputs: [a]\nregisters:\n  q: {next: a}\noutputs:\n  q_next: a\n",
      6, "taken by the next state"),
+    ("block too wide", "design: d\ninputs: [" + ", ".join(f"x{i}" for i in range(17)) + "]\noutputs:\n  y: "
+     + " & ".join(f"x{i}" for i in range(17)) + "\n", 4, "split it into named signals"),
     ("no inputs", "design: d\ninputs: []\noutputs:\n  y: 1\n", 2, "inputs is empty"),
     ("alias bomb", "design: d\ninputs: [a]\n" + "".join(
         f"x{i}: &x{i} [" + ", ".join([f"*x{i - 1}"] * 10 if i else ["1"] * 10) + "]\n" for i in range(7))

@@ -13,6 +13,9 @@ from .yamlfile import Mapping, YamlFile, read_yaml
 
 #: Most inputs a minterm list may range over (2**20 assignments).
 MAX_MINTERM_INPUTS = 20
+#: Most names one block (a signal, an output or a next state) may use, counting the
+#: signals it uses as one name each: the range of the two-level minimiser's heuristic.
+MAX_BLOCK_INPUTS = 16
 
 # The plan names its own nets n1, n2, ...; user names must not collide with them.
 _RESERVED_NET = re.compile(r"n[0-9]+")
@@ -257,7 +260,11 @@ def _expression_value(file: YamlFile, mapping: Mapping, key: str, value, what: s
 
 
 def _check_references(file: YamlFile, line: int, what: str, expr, known: set, outputs: set) -> None:
-    for name in sorted(expression_names(expr)):
+    names = expression_names(expr)
+    if len(names) > MAX_BLOCK_INPUTS:
+        raise file.error(line, f"{what} uses {len(names)} inputs and signals; one block may use at most "
+                               f"{MAX_BLOCK_INPUTS}: split it into named signals")
+    for name in sorted(names):
         if name in known:
             continue
         if name in outputs:
