@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import cached_property
 
-from planner.catalogue.models import CUTOFF_AMPS, plate_current_amps
+from planner.catalogue.models import cutoff_grid_volts
 from planner.catalogue.types import TubeType
 
 from .circuit import ScreenFeed, SectionState, has_screen, section_amps
@@ -195,9 +195,8 @@ class TubeContext:
         Plate at the highest supply, screen at its highest cut-off voltage,
         the other control grid (dual-control types) at its highest high
         level: all make cut-off deeper. Cut-off is where the plate current
-        falls to ``CUTOFF_AMPS`` (the catalogue's definition). Bisection to
-        1 mV over [-(plate + screen) - 100 V, 0]; raises ValueError if the
-        section is below the threshold even at 0 V.
+        falls to the catalogue's ``CUTOFF_AMPS`` (``cutoff_grid_volts``, a
+        bisection to 1 mV). KeyError for a role the type does not have.
         """
         return self._cutoffs[role]
 
@@ -212,26 +211,9 @@ class TubeContext:
         return out
 
     def _cutoff(self, role: str) -> float:
-        if role == "grid3" and not self.dual:
-            raise ValueError(f"{self.name} has no second control grid")
-        vp, vs, vh = self.box.vb(+1), self.screen_cutoff_volts, self.grid_high_max_volts
-        other = vh if self.dual else 0.0
-
-        def current(v: float) -> float:
-            g1, g3 = (other, v) if role == "grid3" else (v, other)
-            return plate_current_amps(self.tube, plate_volts=vp, grid_volts=g1, grid3_volts=g3, screen_volts=vs)
-
-        hi = 0.0
-        if current(hi) <= CUTOFF_AMPS:
-            raise ValueError(f"{self.name}: below cut-off current even at 0 V grid")
-        lo = -(vp + (vs or 0.0)) - 100.0
-        while hi - lo > 1e-3:
-            mid = 0.5 * (lo + hi)
-            if current(mid) > CUTOFF_AMPS:
-                hi = mid
-            else:
-                lo = mid
-        return 0.5 * (lo + hi)
+        other = self.grid_high_max_volts if self.dual else 0.0
+        return cutoff_grid_volts(self.tube, plate_volts=self.box.vb(+1), screen_volts=self.screen_cutoff_volts,
+                                 grid3=role == "grid3", other_grid_volts=other)
 
     def has_role(self, role: str) -> bool:
         """True when the grid in ``role`` exists and can be cut off."""

@@ -58,7 +58,6 @@ class Envelope:
     light: Load
     heavy_low: Load
     nominal: Load
-    heavy_receiver: Receiver
 
     @property
     def heavy_amps(self) -> float:
@@ -80,7 +79,7 @@ def make_envelope(pairs: list[tuple[TubeContext, Receiver]], high_volts: float, 
     heavy_low = [(load_amps(heavy_load(c, r), low_volts), -i) for i, (c, r) in enumerate(pairs)]
     c, r = pairs[-max(heavy)[1]]
     return Envelope(high_volts, low_volts, heavy_load(c, r), light_load(*pairs[min(light)[1]]),
-                    heavy_load(*pairs[-max(heavy_low)[1]]), corner_load(c, r, 0, 0, 0), r)
+                    heavy_load(*pairs[-max(heavy_low)[1]]), corner_load(c, r, 0, 0, 0))
 
 
 class _Option:

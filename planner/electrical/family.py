@@ -18,16 +18,18 @@ How the levels are chosen. Candidate levels are fractions of the nominal
 plate supply: high_min from 35 % to 85 %, follower_low_max from 6 % to 36 %
 (at least 15 % below high_min), and the follower allowance
 follower_low_max - low_max from 0 to 6 % (0 when no type can be a
-follower). Each candidate is scored by, in order: the sum, over the tube
-types with a driver that passes and over the followers that pass, of the
-fan-out (a type's best means; each counted up to the rules' fan-out goal,
-so that a type passing only with a fan-out of one does not outweigh better
-fan-out for the rest); whether some follower passes (without one a net
-cannot drive more loads than its driver's fan-out); the least driver
-fan-out; the least receiver margin over its requirement. A coarse grid of
-(high, low) without followers comes first; then the neighbours of its best
-point at half the step, with each follower allowance. Cost: about 65
-evaluations, each designing every receiver, driver and follower once.
+follower). Each candidate is scored by, in order: how many tube types have
+a driver that passes with a fan-out of at least two (one counting half), so
+that the family serves as much of the stock as it can; whether some
+follower passes with a fan-out of at least two (without one a net cannot
+drive more loads than its driver's fan-out); the sum, over the tube types
+with a driver that passes and over the followers that pass, of the fan-out
+(a type's best means; each counted up to the rules' fan-out goal); the
+least driver fan-out; the least receiver margin over its requirement. A
+coarse grid of (high, low) without followers comes first; then the
+neighbours of its best point at half the step, with each follower
+allowance. Cost: about 65 evaluations, each designing every receiver,
+driver and follower once.
 """
 
 from __future__ import annotations
@@ -38,7 +40,7 @@ from dataclasses import dataclass
 from planner.catalogue.types import FrozenMap, TubeType
 
 from .context import TubeContext
-from .drivers import Envelope, design_driver, make_envelope, precheck
+from .drivers import design_driver, make_envelope, precheck
 from .followers import design_follower
 from .parts import Family, Follower, Receiver, Shortfall
 from .receivers import design_receiver
@@ -159,7 +161,9 @@ def _score(rules: DesignRules, goal: int, receivers, drivers, followers) -> tupl
     useful = sum(best_per_tube.values()) + sum(min(f.fanout_limit, goal) for f in followers.values())
     fan = min(min(d.fanout_limit, goal) for d in drivers.values())
     margin = min(min(r.margin_high_volts, r.margin_low_volts - rules.margin_volts) for r in receivers.values())
-    return (useful, 1 if followers else 0, fan, round(margin, 1))
+    types = sum(min(f, 2) for f in best_per_tube.values())
+    helps = any(f.fanout_limit >= 2 for f in followers.values())
+    return (types, 1 if helps else 0, useful, fan, round(margin, 1))
 
 
 def _grid(vb: float, highs, lows, follower_steps) -> list[Levels]:
@@ -234,11 +238,3 @@ def design_family(rails: Rails, tubes: Sequence[tuple[TubeType, float]], rules: 
                   drivers=FrozenMap(best.drivers), receivers=FrozenMap(best.receivers),
                   followers=FrozenMap(best.followers), rejected=FrozenMap(best.rejected))
 
-
-def envelope_of(family: Family, tubes: Sequence[tuple[TubeType, float]], low_volts: float) -> Envelope:
-    """The family's receivers as an envelope of loads at (high_min, ``low_volts``) (for checks and tests)."""
-    wear = {t.name: w for t, w in tubes}
-    types = {t.name: t for t, _ in tubes}
-    ctx = {n: TubeContext(types[n], wear[n], family.rails, family.rules) for n in sorted(types)}
-    pairs = [(ctx[k[0]], r) for k, r in sorted(family.receivers.items())]
-    return make_envelope(pairs, family.high_min_volts, low_volts)
