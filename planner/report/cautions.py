@@ -9,7 +9,7 @@ from __future__ import annotations
 #: (heading, text) pairs, in the order every report shows them.
 CAUTIONS: tuple[tuple[str, str], ...] = (
     ("High voltage can kill",
-     "The plate supply of this build runs at hundreds of volts DC. That is enough to stop a heart. "
+     "Tube plate supplies run at one to several hundred volts DC, enough to stop a heart. "
      "Never work on the circuit with the supply on; keep one hand away from the chassis when you "
      "measure; use insulated probes rated for the voltage."),
     ("Stored charge",
