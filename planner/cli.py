@@ -12,8 +12,6 @@ import json
 import sys
 from pathlib import Path
 
-from planner.spec import InputError
-
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT = 0, 1, 2, 3
 
 #: The bundled demo, planned by ``tubeplan plan`` with no arguments.
@@ -66,12 +64,25 @@ def _add_plan(subparsers) -> None:
                     f"plans the bundled demo into ./{DEMO_OUT}.")
     parser.add_argument("design", nargs="?", help="design file (YAML); default: the bundled demo")
     parser.add_argument("--stock", help="stock file (YAML); default: the demo's stock")
-    parser.add_argument("--out", help=f"output directory; default: ./{DEMO_OUT} for the demo")
+    parser.add_argument("--out", help=f"output directory; default: ./{DEMO_OUT}")
+    parser.add_argument("--time-limit", type=float, metavar="SECONDS",
+                        help="budget of the integer solves (default 60 s); past it the best plan found "
+                             "is kept and its optimality gap reported")
+    parser.add_argument("--solver", choices=("cbc", "highs"), default="cbc",
+                        help="integer-programming solver (default cbc, bundled with pulp; highs needs highspy)")
+    parser.add_argument("--objective", choices=("weighted", "lexicographic"),
+                        help="override the stock file's objective mode")
+    parser.add_argument("--gates", choices=("aoi", "nand", "nor"),
+                        help="stage shapes allowed: any AND-OR-INVERT (default), NAND-only or NOR-only")
+    parser.add_argument("--flatten", type=int, metavar="N",
+                        help="flatten named signals into blocks of at most N inputs and minimise them again")
+    parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
     parser.set_defaults(run=_run_plan)
 
 
 def _run_plan(args) -> int:
     from planner.pipeline import plan_files
+    from planner.spec import InputError
 
     if args.design is None:
         design, stock = DEMO_DESIGN, Path(args.stock) if args.stock else DEMO_STOCK
@@ -79,8 +90,12 @@ def _run_plan(args) -> int:
         if not args.stock:
             raise InputError(args.design, 0, "plan needs a stock file: add --stock STOCK.yaml")
         design, stock = Path(args.design), Path(args.stock)
+    from planner.mapping import DEFAULT_TIME_LIMIT_S, MappingOptions
+
     out = Path(args.out) if args.out else DEMO_OUT
-    result = plan_files(design, stock, out, args)
+    options = MappingOptions(time_limit_s=args.time_limit or DEFAULT_TIME_LIMIT_S, solver=args.solver,
+                             mode=args.objective, synthesis_mode=args.gates, flatten_limit=args.flatten)
+    result = plan_files(design, stock, out, options, quiet=args.quiet)
     print(result.summary)
     print()
     print(CAUTION)
@@ -135,6 +150,7 @@ def _add_stage(subparsers) -> None:
 def _run_stage(args) -> int:
     from planner.catalogue import builtin_catalogue
     from planner.electrical import DesignRules, NoTemplate, Rails, design_template, format_template
+    from planner.spec import InputError
 
     where = "<command line>"
     try:
@@ -174,7 +190,7 @@ def _add_logic(subparsers) -> None:
 
 def _run_logic(args) -> int:
     from planner.logic import MAX_TABLE_INPUTS, expr_forms, format_forms, forms_document, used_inputs
-    from planner.spec import load_design
+    from planner.spec import InputError, load_design
 
     design = load_design(args.design)
     rows = []
@@ -215,6 +231,17 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
+    try:
+        return _main(argv)
+    except KeyboardInterrupt:  # also while the libraries are still being imported
+        print("tubeplan: interrupted; nothing was written", file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+def _main(argv) -> int:
+    # Imported here, not at the top, so that an interrupt during start-up is caught by main().
+    from planner.spec import InputError
+
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "run", None):
@@ -225,9 +252,6 @@ def main(argv=None) -> int:
     except InputError as problem:
         print(problem, file=sys.stderr)
         return EXIT_INPUT
-    except KeyboardInterrupt:
-        print("tubeplan: interrupted; nothing was written", file=sys.stderr)
-        return EXIT_INTERNAL
     except BrokenPipeError:
         return EXIT_OK
     except Exception as problem:  # the last line of defence: one line, a hint, no traceback

@@ -5,12 +5,13 @@ This module only composes the layers; each step's work lives in its package.
 
 from __future__ import annotations
 
+import dataclasses
 import sys
 from dataclasses import dataclass
 from pathlib import Path
 
 from planner.mapping import MappingOptions, Shortage, plan_design
-from planner.report import plan_summary, write_plan
+from planner.report import check_target, plan_summary, write_plan
 from planner.spec import load_design, load_stock
 
 
@@ -37,9 +38,10 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     progress = None if quiet else _progress
     design = load_design(design_path)
     stock = load_stock(stock_path)
+    check_target(Path(out_dir))  # refuse a foreign --out before the planning work, not after
     options = options or MappingOptions()
-    if progress:
-        options = options.with_progress(progress)
+    if progress and options.progress is None:
+        options = dataclasses.replace(options, progress=progress)
     try:
         plan = plan_design(design, stock, options)
     except Shortage as shortage:
