@@ -5,15 +5,15 @@ Seeded random functions (each assignment on with probability 0.4, don't-care
 literal count for the minimum SOP of f (exact up to 10 inputs, the
 expand / irredundant / reduce heuristic above), beside sympy SOPform's, each
 run in its own subprocess (SOPform with a 120 s timeout).  SOPform runs on
-every function up to 9 inputs and on the first two at 10 (it takes about a
-minute there); above 10 it is skipped.  The heuristic is also run inside the
+every function up to 9 inputs and on the first two at 10 (20-60 s each
+there); above 10 it is skipped.  The heuristic is also run inside the
 exact range so its literal count can be set against the proven minimum.
 Peak resident memory is each worker process's own (resource.getrusage).
 Times are wall-clock (time.perf_counter) with the process CPU time beside
 ours; CBC runs in a child process of the worker, so its CPU time shows only
 in the wall-clock figure.  The machine may be shared: compare ratios.
 
-Run:  /tmp/venv/bin/python benchmarks/minimise.py          (about 4 minutes)
+Run:  /tmp/venv/bin/python benchmarks/minimise.py          (2-4 minutes)
 """
 
 from __future__ import annotations
@@ -58,7 +58,11 @@ def _literals(expr) -> int:
 
 
 def worker(kind: str, n: int, seed: int) -> dict:
-    """One measurement in this (fresh) process; imports happen before the clock starts."""
+    """One measurement in this (fresh) process.
+
+    Imports and one small warm-up call (for ours, one that runs CBC) happen
+    before the clock starts, so first-call costs of either side are not timed.
+    """
     import resource
 
     on, dc = random_function(n, seed)
@@ -67,6 +71,7 @@ def worker(kind: str, n: int, seed: int) -> dict:
         import sympy
         from sympy.logic import SOPform
 
+        SOPform(sympy.symbols("a b c"), [0, 1, 2, 5, 6, 7])  # warm-up, not timed
         start, cpu = time.perf_counter(), time.process_time()
         expr = SOPform(sympy.symbols(names), on, dc)
         seconds, cpu = time.perf_counter() - start, time.process_time() - cpu
@@ -76,6 +81,7 @@ def worker(kind: str, n: int, seed: int) -> dict:
         from planner.logic import minimise, table_from_minterms
 
         table = table_from_minterms(names, on, dc)
+        minimise(table_from_minterms(("a", "b", "c"), [0, 1, 2, 5, 6, 7]))  # warm-up (one CBC call)
         start, cpu = time.perf_counter(), time.process_time()
         cover = minimise(table, exact_limit=0) if kind == "heuristic" else minimise(table)
         seconds, cpu = time.perf_counter() - start, time.process_time() - cpu
@@ -114,9 +120,9 @@ def main() -> None:
             "functions": len(seeds),
             "method": "exact" if n <= 10 else "heuristic",
             "proven": sum(bool(r["exact"]) for r in ours),
-            "ours median s": f"{t_ours:.3f}",
-            "ours max s": f"{max(r['seconds'] for r in ours):.3f}",
-            "ours median CPU s": f"{statistics.median(r['cpu'] for r in ours):.3f}",
+            "ours median s": f"{t_ours:.4f}",
+            "ours max s": f"{max(r['seconds'] for r in ours):.4f}",
+            "ours median CPU s": f"{statistics.median(r['cpu'] for r in ours):.4f}",
             "ours literals": lits,
             "peak MiB": f"{max(r['peak_mib'] for r in ours):.0f}",
             "heuristic/exact literals": (f"{sum(r['literals'] for r in heur) / lits:.3f}" if heur else "-"),
@@ -137,13 +143,13 @@ def main() -> None:
         elif ref:
             row["SOPform functions"] = f"timed out (> {SOPFORM_TIMEOUT_S} s)"
         else:
-            row["SOPform functions"] = "skipped (about a minute at 10 inputs, far more above)"
+            row["SOPform functions"] = "skipped (its time grows about tenfold per input)"
         rows.append(row)
         print(f"{n} inputs done ({time.perf_counter() - started:.0f} s so far)", file=sys.stderr, flush=True)
     keys = []
     for row in rows:
         keys += [k for k in row if k not in keys]
-    print(tabulate([[row.get(k, "") for k in keys] for row in rows], headers=keys))
+    print(tabulate([[row.get(k, "") for k in keys] for row in rows], headers=keys, disable_numparse=True))
     print(f"\nwall time {time.perf_counter() - started:.0f} s; Python {sys.version.split()[0]}")
 
 

@@ -113,3 +113,15 @@ def test_tables_text_and_equivalence_agree_with_sympy(f, g):
         assert text_value == bool(f.subs(point))
     # Reference: sympy's satisfiable on the miter.
     assert equivalent(f, g, names) == (sympy.satisfiable(sympy.Xor(f, g)) is False)
+
+
+def test_time_limit_keeps_a_correct_cover():
+    # With no time for the improvement passes, the first irredundant prime cover
+    # is returned: still correct on the care set, not claimed minimum.
+    from logic_helpers import random_table
+
+    table = random_table(12, seed=7)
+    quick = minimise(table, time_limit_s=0.0)
+    assert quick.bits() & table.care == table.on and not quick.exact
+    full = minimise(table)
+    assert full.literals <= quick.literals
