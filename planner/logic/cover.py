@@ -31,10 +31,6 @@ class Cube:
     def literals(self) -> int:
         return self.mask.bit_count()
 
-    def contains(self, other: "Cube") -> bool:
-        """True when every assignment of ``other`` is inside this cube."""
-        return self.mask & other.mask == self.mask and other.value & self.mask == self.value
-
     def sort_key(self, n: int) -> tuple[int, ...]:
         """Per input in name order: 0 positive literal, 1 negative literal, 2 absent."""
         key = []

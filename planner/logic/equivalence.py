@@ -6,7 +6,7 @@ from typing import Iterable
 
 import sympy
 from sympy.assumptions.cnf import EncodedCNF
-from sympy.logic.boolalg import And, BooleanFalse, BooleanTrue, Not, Or, Xor
+from sympy.logic.boolalg import And, BooleanFalse, BooleanTrue, Not, Or
 from sympy.logic.inference import satisfiable
 
 from .table import Space, _core_form, assignment, evaluate, symbol_names

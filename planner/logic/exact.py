@@ -30,7 +30,7 @@ def _reduce(rows: int, cols: int, col_rows: list[int], row_cols: dict[int, int],
     essential.  A row whose columns include all columns of another row is
     dropped (covering the other covers it).  A column whose rows lie inside
     another column's, with no fewer literals, is dropped.  What is left is the
-    cyclic core (McCluskey 1956; the reductions of Petrick-style covering).
+    cyclic core (the prime implicant chart reductions of McCluskey 1956).
     Cost: per pass, one big-integer AND per (row, column) incidence.
     """
     chosen: list[int] = []
@@ -152,7 +152,7 @@ def minimum_cover(table: TruthTable, primes: tuple[Cube, ...], *,
         for r in iter_bits(rs):
             row_cols[r] = row_cols.get(r, 0) | 1 << c
     rows = table.on
-    uncovered = rows & ~sum_bits(col_rows)
+    uncovered = rows & ~_union(col_rows)
     if uncovered:
         raise ValueError(f"the primes given leave assignments {list(iter_bits(uncovered))[:8]} uncovered")
     rows, cols, chosen = _reduce(rows, cols, col_rows, row_cols, lits)
@@ -164,7 +164,7 @@ def minimum_cover(table: TruthTable, primes: tuple[Cube, ...], *,
     return CoverSolution(tuple(primes[c] for c in sorted(chosen)), proven, core_rows, core_cols)
 
 
-def sum_bits(bitsets: list[int]) -> int:
+def _union(bitsets: list[int]) -> int:
     """Union of bitsets."""
     out = 0
     for b in bitsets:

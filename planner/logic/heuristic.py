@@ -198,7 +198,7 @@ def _last_gasp(space: Space, terms: list[_Term], on: int, dc: int, off: int) -> 
     return _irredundant(terms + fresh, on, dc, prefer=len(terms))
 
 
-def _is_essential(space: Space, t: _Term, on: int, off_mirrors: list[int]) -> bool:
+def _is_essential(t: _Term, on: int, off_mirrors: list[int]) -> bool:
     """A prime is essential iff some on-set assignment in it has every neighbour
     across one of its literals in the off-set: then no other implicant reaches it.
     Cost: one AND per literal."""
@@ -236,7 +236,7 @@ def heuristic_cover(table: TruthTable, *, time_limit_s: float | None = None) -> 
     terms = _expand(space, terms, on, off)
     terms = _irredundant(terms, on, dc)
     off_mirrors = [space.flip(off, p) for p in range(table.n)]
-    essential = [t for t in terms if _is_essential(space, t, on, off_mirrors)]
+    essential = [t for t in terms if _is_essential(t, on, off_mirrors)]
     ess_bits = 0
     for t in essential:
         ess_bits |= t.bits
