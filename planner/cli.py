@@ -92,6 +92,11 @@ def _run_plan(args) -> int:
         design, stock = Path(args.design), Path(args.stock)
     from planner.mapping import DEFAULT_TIME_LIMIT_S, MappingOptions
 
+    from planner.spec import MAX_BLOCK_INPUTS
+
+    if args.flatten is not None and not 1 <= args.flatten <= MAX_BLOCK_INPUTS:
+        raise InputError("<command line>", 0, f"--flatten must be from 1 to {MAX_BLOCK_INPUTS} inputs, "
+                                              f"got {args.flatten}")
     out = Path(args.out) if args.out else DEMO_OUT
     options = MappingOptions(time_limit_s=args.time_limit or DEFAULT_TIME_LIMIT_S, solver=args.solver,
                              mode=args.objective, synthesis_mode=args.gates, flatten_limit=args.flatten)
@@ -189,21 +194,21 @@ def _add_logic(subparsers) -> None:
 
 
 def _run_logic(args) -> int:
-    from planner.logic import MAX_TABLE_INPUTS, expr_forms, format_forms, forms_document, used_inputs
+    from planner.logic import MAX_TABLE_INPUTS, design_support, design_table, format_forms, forms, forms_document
     from planner.spec import InputError, load_design
 
-    design = load_design(args.design)
+    design = load_design(args.design).combinational()
     rows = []
     for output in design.outputs:
-        expr, dont_care = design.flatten(output.expr), design.flatten(output.dont_care)
-        n = len(used_inputs(design.input_names, expr, dont_care))
-        if n > MAX_TABLE_INPUTS:
+        names = design_support(design, output.expr, output.dont_care)
+        if len(names) > MAX_TABLE_INPUTS:
             raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
-                             f"output {output.name!r} depends on {n} inputs; tubeplan logic "
+                             f"output {output.name!r} depends on {len(names)} inputs; tubeplan logic "
                              f"minimises outputs of at most {MAX_TABLE_INPUTS} inputs")
-        if n > 10:
-            print(f"tubeplan logic: minimising {output.name} over {n} inputs ...", file=sys.stderr, flush=True)
-        rows.append((output.name, expr_forms(expr, design.input_names, dont_care)))
+        if len(names) > 10:
+            print(f"tubeplan logic: minimising {output.name} over {len(names)} inputs ...", file=sys.stderr,
+                  flush=True)
+        rows.append((output.name, forms(design_table(design, output.expr, output.dont_care, names))))
     if args.json:
         _print_json(forms_document(rows))
     else:

@@ -6,7 +6,7 @@ from collections import Counter
 
 from tabulate import tabulate
 
-from planner.logic import MAX_TABLE_INPUTS, table_from_expr
+from planner.logic import MAX_TABLE_INPUTS, design_support, design_table
 from planner.spec import Design, Stock
 
 
@@ -25,14 +25,11 @@ def design_summary(design: Design) -> str:
         lines.append(f"signals ({len(design.signals)}): {', '.join(design.signal_names)}")
     rows = []
     for output in design.outputs:
-        flat = design.flatten(output.expr)
-        flat_dc = design.flatten(output.dont_care)
-        used = sorted(flat.free_symbols | flat_dc.free_symbols, key=lambda s: design.input_names.index(s.name))
-        names = tuple(symbol.name for symbol in used)
+        names = design_support(design, output.expr, output.dont_care)
         if len(names) > MAX_TABLE_INPUTS:
             rows.append([output.name, f"{len(names)} inputs", "too many to count", ""])
             continue
-        table = table_from_expr(flat, names, flat_dc)
+        table = design_table(design, output.expr, output.dont_care, names)
         care = bin(table.care).count("1")
         rows.append([output.name, ", ".join(names) or "(constant)", f"{care} of {1 << len(names)}",
                      bin(table.on).count("1")])

@@ -7,6 +7,7 @@ from dataclasses import dataclass, field
 
 import sympy
 
+from .errors import InputError
 from .expressions import expression_names, is_valid_name, parse_expression
 from .fields import check_keys, describe, expect_list, expect_mapping, get_bool, get_text, line_of
 from .yamlfile import Mapping, YamlFile, read_yaml
@@ -112,18 +113,91 @@ class Design:
     def signal_names(self) -> tuple[str, ...]:
         return tuple(spec.name for spec in self.signals)
 
-    def flatten(self, expr: sympy.Basic) -> sympy.Basic:
+    def reached_names(self, *exprs: sympy.Basic) -> set[str]:
+        """Every input and signal name that ``exprs`` use, directly or through signals.
+
+        >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
+        ...            (SignalSpec("s", parse_expression("a & b")),))
+        >>> sorted(d.reached_names(parse_expression("s | ~a")))
+        ['a', 'b', 's']
+        """
+        reached: set[str] = set()
+        for expr in exprs:
+            reached |= expression_names(expr)
+        for signal in reversed(self.signals):  # topological order, so one backward pass suffices
+            if signal.name in reached:
+                reached |= expression_names(signal.expr)
+        return reached
+
+    def flattened_shape(self, expr: sympy.Basic) -> tuple[int, int]:
+        """(nodes, depth) of ``expr`` once its signals are written out, without writing them out.
+
+        Cost: linear in the size of the design's expressions (shared parts counted once
+        per use, computed once).
+
+        >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
+        ...            (SignalSpec("s", parse_expression("a & b")),))
+        >>> d.flattened_shape(parse_expression("s | ~s"))
+        (8, 3)
+        """
+        shapes: dict[str, tuple[int, int]] = {}
+        for signal in self.signals:
+            shapes[signal.name] = _tree_shape(signal.expr, shapes)
+        return _tree_shape(expr, shapes)
+
+    def flatten(self, expr: sympy.Basic, *, line: int = 0) -> sympy.Basic:
         """``expr`` with every named signal replaced by its definition (inputs only).
+
+        Refuses (InputError at ``line``) an expression that would grow past
+        MAX_FLATTENED_NODES or MAX_FLATTENED_DEPTH when written out: reusing a
+        signal twice in each of a chain of signals doubles the size at every
+        link, and writing such a block out could take longer than any build.
 
         >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
         ...            (SignalSpec("s", parse_expression("a & b")),))
         >>> d.flatten(parse_expression("s | ~a"))
         ~a | (a & b)
         """
+        nodes, depth = self.flattened_shape(expr)
+        if nodes > MAX_FLATTENED_NODES or depth > MAX_FLATTENED_DEPTH:
+            raise InputError(self.path, line,
+                             f"this expression grows to {nodes} names and operators, nested {depth} deep, when "
+                             f"its named signals are written out; the limits are {MAX_FLATTENED_NODES} and "
+                             f"{MAX_FLATTENED_DEPTH}: keep it under 20 inputs so it can be checked by truth "
+                             "table, or use each signal fewer times")
+        needed = self.reached_names(expr)
         flat: dict = {}
         for signal in self.signals:
-            flat[sympy.Symbol(signal.name)] = signal.expr.xreplace(flat)
+            if signal.name in needed:
+                flat[sympy.Symbol(signal.name)] = signal.expr.xreplace(flat)
         return expr.xreplace(flat)
+
+
+#: Largest expression (names plus operators) that ``Design.flatten`` writes out.
+MAX_FLATTENED_NODES = 20_000
+#: Deepest operator nesting that ``Design.flatten`` writes out.
+MAX_FLATTENED_DEPTH = 150
+
+
+def _tree_shape(expr: sympy.Basic, leaves: dict[str, tuple[int, int]]) -> tuple[int, int]:
+    """(nodes, depth) of ``expr`` as a tree, where a symbol named in ``leaves`` stands for that shape."""
+    memo: dict[int, tuple[int, int]] = {}
+    stack = [(expr, False)]
+    while stack:
+        node, ready = stack.pop()
+        if id(node) in memo:
+            continue
+        if isinstance(node, sympy.Symbol):
+            memo[id(node)] = leaves.get(node.name, (1, 0))
+        elif not node.args:
+            memo[id(node)] = (1, 0)
+        elif ready:
+            shapes = [memo[id(arg)] for arg in node.args]
+            memo[id(node)] = (1 + sum(n for n, _ in shapes), 1 + max(d for _, d in shapes))
+        else:
+            stack.append((node, True))
+            stack.extend((arg, False) for arg in node.args)
+    return memo[id(expr)]
 
 
 def load_design(path) -> Design:

@@ -6,7 +6,7 @@ from typing import Mapping
 
 import sympy
 
-from planner.logic import EXHAUSTIVE_LIMIT, counterexample, table_from_expr
+from planner.logic import EXHAUSTIVE_LIMIT, counterexample, design_table
 
 from .network import Network
 
@@ -113,7 +113,7 @@ def prove(network: Network, design) -> None:
     if len(names) <= EXHAUSTIVE_LIMIT:
         values = simulate(network)
         for out in design.outputs:
-            table = table_from_expr(design.flatten(out.expr), names, design.flatten(out.dont_care))
+            table = design_table(design, out.expr, out.dont_care, names)
             wrong = (values[network.outputs[out.name]] ^ table.on) & table.care
             if wrong:
                 index = (wrong & -wrong).bit_length() - 1
@@ -125,8 +125,9 @@ def prove(network: Network, design) -> None:
         return
     exprs = network_exprs(network)
     for out in design.outputs:
-        spec = design.flatten(out.expr)
-        care = sympy.Not(design.flatten(out.dont_care))
+        line = design.lines.get("outputs", {}).get(out.name, 0)
+        spec = design.flatten(out.expr, line=line)
+        care = sympy.Not(design.flatten(out.dont_care, line=line))
         got = exprs[network.outputs[out.name]]
         witness = counterexample(got, spec, names, care=care)
         if witness is not None:

@@ -32,7 +32,7 @@ from typing import Callable, Mapping
 import sympy
 
 from planner.logic import EXHAUSTIVE_LIMIT, Cover, TruthTable, minimise, minimise_complement, table_from_expr
-from planner.logic import used_inputs
+from planner.logic import design_support, design_table, used_inputs
 
 from .builder import Builder
 from .nand_exact import EXACT_MAX_GATES, EXACT_MAX_VARIABLES, nand_circuit
@@ -141,23 +141,21 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
     specs += [(o.name, "output", o.expr, o.dont_care) for o in design.outputs]
     blocks = []
     for name, kind, expr, dc in specs:
-        if options.flatten_limit is not None:
-            flat, flat_dc = design.flatten(expr), design.flatten(dc)
-            if len(used_inputs(names, flat, flat_dc)) <= options.flatten_limit:
-                expr, dc = flat, flat_dc
-        variables = used_inputs(order, expr, dc)
-        table = table_from_expr(expr, variables, dc)
+        support = design_support(design, expr, dc)
+        if options.flatten_limit is not None and len(support) <= options.flatten_limit:
+            table = design_table(design, expr, dc, support)
+        else:
+            table = table_from_expr(expr, used_inputs(order, expr, dc), dc)
+        variables = table.names
         if exhaustive and signal_set & set(variables):
             unreachable = table.full & ~_reachable(variables, bits, full)
             table = TruthTable(variables, table.on & ~unreachable, table.dc | unreachable)
         flat = None
         if exhaustive:
-            flat_expr, flat_dc = design.flatten(expr), design.flatten(dc)
             if kind == "signal":
-                bits[name] = table_from_expr(flat_expr, names).on
-            support = used_inputs(names, flat_expr, flat_dc)
+                bits[name] = design_table(design, expr, names=names).on
             if options.fanin >= 2 and len(support) <= EXACT_MAX_VARIABLES:
-                flat = table_from_expr(flat_expr, support, flat_dc)
+                flat = design_table(design, expr, dc, support)
         blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
     return blocks
 

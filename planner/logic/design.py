@@ -1,0 +1,42 @@
+"""Truth tables of a design's expressions with its named signals evaluated, never written out."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+
+import sympy
+
+from .table import Space, TruthTable, evaluate
+
+
+def design_support(design, *exprs: sympy.Basic) -> tuple[str, ...]:
+    """The design inputs that ``exprs`` reach, directly or through named signals, in input order.
+
+    Cost: linear in the size of the design's expressions.
+    """
+    reached = design.reached_names(*exprs)
+    return tuple(name for name in design.input_names if name in reached)
+
+
+def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic = sympy.false,
+                 names: Iterable[str] | None = None) -> TruthTable:
+    """Truth table of ``expr`` (don't-cares ``dont_care``) over the design inputs ``names``.
+
+    Each named signal is evaluated once, bit-parallel, from the tables of the
+    inputs and earlier signals, so the cost is linear in the size of the design's
+    expressions times 2**len(names) / word size, however often signals are reused
+    (substituting them as text can grow exponentially). ``names`` defaults to
+    :func:`design_support` of the two expressions.
+    """
+    reached = design.reached_names(expr, dont_care)
+    if names is None:
+        names = tuple(name for name in design.input_names if name in reached)
+    names = tuple(names)
+    space = Space(len(names))
+    bits = {name: space.one[len(names) - 1 - k] for k, name in enumerate(names)}
+    for signal in design.signals:
+        if signal.name in reached:
+            bits[signal.name] = evaluate(signal.expr, bits, space.full)
+    on = evaluate(expr, bits, space.full)
+    dc = evaluate(dont_care, bits, space.full)
+    return TruthTable(names, on & (space.full ^ dc), dc)
