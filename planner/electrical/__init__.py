@@ -11,11 +11,16 @@ Public API:
   raising ``NoTemplate``
 - ``format_template(template) -> str`` (the ``tubeplan stage`` text)
 - ``brent_root(f, lo, hi)`` (the 1-D solver used throughout)
+- registers (docs/registers.md): ``design_bistable(family, tube, wear, types) -> Bistable``
+  (or ``Shortfall``), ``flip_edges``, ``is_dual_triode``, ``RESET_PULLUP_OHMS``
+- timing: ``Wave``, ``Edge``, ``InverterTiming``, ``inverter_edge``, ``follower_edge``,
+  ``WIRING_PF``, ``DIODE_PF``
 
 See docs/electrical.md for the circuits, the worst-case method and the
 mixing rule of a family.
 """
 
+from .bistable import RESET_PULLUP_OHMS, Bistable, design_bistable, flip_edges, is_dual_triode
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
 from .listing import format_template
@@ -23,8 +28,11 @@ from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Te
 from .roots import brent_root
 from .rules import DesignRules, Rails
 from .template import design_template
+from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, follower_edge, inverter_edge
 
 __all__ = [
+    "DIODE_PF", "RESET_PULLUP_OHMS", "WIRING_PF", "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable",
+    "flip_edges", "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
     "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",

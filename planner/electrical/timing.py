@@ -1,0 +1,350 @@
+"""Switching-time estimates of one stage: from its input's edge to its output's midpoint crossing.
+
+A stage's delay is the time from its input crossing the family's midpoint
+(halfway between the high and low levels) to its output crossing it. Each
+edge is carried as a :class:`Wave` (a ramp or an exponential between two
+levels), so a stage is timed against the edge its driver really makes (the
+input's slope, as in static timing analysis), not against a step. Three
+parts, each a closed form:
+
+* **Grid.** The driven grid sits behind its divider (R1 from the driving
+  node, R2 to the bias supply) and its capacitance (input capacitance, the
+  grid-plate capacitance, the wiring allowance, any diodes on it): a
+  first-order lag of the divider's open-circuit tap with time constant
+  ``(R1 || R2) * C_grid``. The stage switches when the grid passes its
+  *threshold*, the grid voltage at which the stage's own plate (DC, with its
+  loads) sits at the midpoint. A speed-up capacitor C1 across R1 adds the
+  share ``C1 / (C1 + C_grid)`` of the driving node's movement at once.
+* **Miller plateau.** While the plate swings, the grid stays near its
+  threshold and must deliver the grid-plate charge ``C_gp * dV_plate``
+  through the divider's source resistance, at ``(V_tap - V_threshold) /
+  (R1 || R2)``: the plate moves as a ramp (the charge-control picture of a
+  switching amplifier; J. Millman and H. Taub, "Pulse and Digital Circuits",
+  McGraw-Hill 1956, on the switching of tube stages, from memory).
+* **Plate node.** A rising output (the branch cut off) cannot rise faster than
+  its node capacitance (the sections' output capacitance, the wiring
+  allowance, what its loads put on it) charges through the plate load against
+  the loads' dividers: the slower of that exponential and the plateau ramp. A
+  falling output (the conducting section sinks far more than the plate load
+  delivers) follows the plateau ramp, lagging by one time constant of the node
+  against ``RL || r_p || loads``.
+
+The tube currents are the catalogue's models at the given wear.
+``tests/test_timing_ngspice.py`` compares a chain of three inverters with an
+ngspice transient run of the same circuit.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from planner.catalogue.models import plate_current_amps
+from planner.catalogue.types import TubeType
+
+from .circuit import (Load, ScreenFeed, SectionState, follower_cathode_volts, load_state, section_amps,
+                      solve_plate, thevenin)
+from .roots import NoBracket, brent_root
+
+#: Wiring allowance per node: sockets, point-to-point wires and resistor bodies add about
+#: 10 pF to a node of a chassis-built circuit (common practice).
+WIRING_PF = 10.0
+#: Capacitance of a small silicon signal diode at 0 V, about 4 pF (from memory, 1N4148-class
+#: data sheets); taken for every steering, reset and AND-gate diode.
+DIODE_PF = 4.0
+
+
+@dataclass(frozen=True)
+class Wave:
+    """An edge as a stage's input sees it: from one level to another, shaped.
+
+    ``shape``: "ramp" (linear, ``seconds`` from start to end; 0 is a step) or
+    "exponential" (time constant ``seconds``). Time 0 is the edge's start.
+    """
+
+    from_volts: float
+    to_volts: float
+    shape: str = "ramp"
+    seconds: float = 0.0
+
+    def fraction(self, t: float) -> float:
+        """How far the edge has gone at time ``t`` (0 to 1)."""
+        if t <= 0:
+            return 0.0
+        if self.shape == "exponential":
+            return -math.expm1(-t / self.seconds)
+        return 1.0 if t >= self.seconds else t / self.seconds
+
+    def crossing_seconds(self, volts: float) -> float:
+        """When the edge passes ``volts`` (between its levels)."""
+        share = (volts - self.from_volts) / (self.to_volts - self.from_volts)
+        if not 0 <= share < 1:
+            raise ValueError(f"an edge from {self.from_volts:.1f} V to {self.to_volts:.1f} V never passes {volts:.1f} V")
+        if self.shape == "exponential":
+            return -self.seconds * math.log1p(-share)
+        return share * self.seconds
+
+    def rc_response(self, t: float, tau: float) -> float:
+        """Response at ``t`` of a first-order lag of time constant ``tau`` to this edge's fraction (0 to 1).
+
+        Closed forms: a ramp of duration T gives (t - tau (1 - e^(-t/tau))) / T while it lasts, then
+        relaxes towards 1; an exponential of time constant T gives
+        1 - (tau e^(-t/tau) - T e^(-t/T)) / (tau - T).
+        """
+        if t <= 0:
+            return 0.0
+        T = self.seconds
+        if self.shape == "exponential":
+            if abs(T - tau) <= 1e-9 * tau:
+                return 1.0 - (1.0 + t / tau) * math.exp(-t / tau)
+            return 1.0 - (tau * math.exp(-t / tau) - T * math.exp(-t / T)) / (tau - T)
+        if T <= 0:
+            return -math.expm1(-t / tau)
+        if t <= T:
+            return (t + tau * math.expm1(-t / tau)) / T
+        at_end = (T + tau * math.expm1(-T / tau)) / T
+        return 1.0 - (1.0 - at_end) * math.exp(-(t - T) / tau)
+
+    def end_seconds(self) -> float:
+        """A time by which the edge is (practically) over: its ramp, or ten time constants."""
+        return 10.0 * self.seconds if self.shape == "exponential" else self.seconds
+
+
+@dataclass(frozen=True)
+class Edge:
+    """One output edge of a stage.
+
+    ``seconds``: from the input's midpoint crossing to the output's (may be
+    negative when a stage switches before its input is halfway);
+    ``grid_seconds``: from the input's start to the switching grid passing its
+    threshold; ``output``: the output edge, timed from its own start, for the
+    stage it drives (its start is ``grid_seconds`` after the input's start).
+    """
+
+    rising: bool
+    seconds: float
+    grid_seconds: float
+    output: Wave
+
+
+@dataclass(frozen=True)
+class InverterTiming:
+    """An inverting stage as timing sees it, with concrete (already chosen) values.
+
+    ``role``: the switching grid, "grid" (g1) or "grid3"; ``other_grid_volts``:
+    where the other control grid of a dual-control section sits (held high,
+    about 0 V).  ``divider``: the switching grid's divider as a concrete load
+    (for a diode-AND input, the divider from the gate node).  ``loads``: the
+    stage's own loads as (count, Load).  ``plate_farads``: the stage's node
+    capacitance; ``grid_farads``: the switching grid's capacitance to ground
+    without its grid-plate part (input capacitance, wiring, diodes);
+    ``speedup_farads``: a capacitor across the divider's upper resistor (0:
+    none).
+    """
+
+    tube: TubeType
+    wear: float
+    supply_volts: float
+    plate_load_ohms: float
+    divider: Load
+    loads: tuple[tuple[int, Load], ...]
+    plate_farads: float
+    grid_farads: float
+    feed: ScreenFeed | None = None
+    role: str = "grid"
+    other_grid_volts: float = 0.0
+    speedup_farads: float = 0.0
+
+    def section(self, grid_volts: float) -> SectionState:
+        """The switching section with its switching grid at ``grid_volts``."""
+        if self.role == "grid3":
+            return SectionState(self.tube, self.other_grid_volts, grid_volts, self.wear, self.feed)
+        return SectionState(self.tube, grid_volts, self.other_grid_volts, self.wear, self.feed)
+
+    def plate_volts(self, grid_volts: float) -> float:
+        """DC plate-node voltage with the switching grid at ``grid_volts`` (Brent, ``solve_plate``)."""
+        return solve_plate(self.supply_volts, self.plate_load_ohms, ((1, self.section(grid_volts)),), self.loads)
+
+
+def threshold_grid_volts(stage: InverterTiming, mid_volts: float) -> float:
+    """The switching grid's voltage at which the stage's plate sits at ``mid_volts`` (DC).
+
+    The plate voltage falls as the grid rises, so Brent's method on
+    [deep cut-off, 0 V] finds the one crossing (about 15 plate solves).
+    Raises ValueError when the plate cannot reach ``mid_volts`` (the stage
+    cannot switch at these levels).
+    """
+    deep = -(stage.supply_volts + abs(stage.divider.bias_volts)) - 50.0
+    try:
+        return brent_root(lambda g: stage.plate_volts(g) - mid_volts, deep, 0.0, xtol=1e-4)
+    except NoBracket:
+        raise ValueError(f"a {stage.tube.name} stage cannot take its plate through {mid_volts:.1f} V") from None
+
+
+def _plate_conductance(stage: InverterTiming) -> tuple[float, float]:
+    """Conductance of the plate node with the section cut off, and its open-circuit voltage.
+
+    Plain dividers are taken unclamped (R1 + R2 to the bias supply), as they are
+    below the high level; diode inputs draw nothing from a rising node.
+    """
+    g = 1.0 / stage.plate_load_ohms
+    current = stage.supply_volts / stage.plate_load_ohms
+    for n, load in stage.loads:
+        if load.diode_drop_volts is not None:
+            continue
+        g += n / (load.upper_ohms + load.lower_ohms)
+        current += n * load.bias_volts / (load.upper_ohms + load.lower_ohms)
+    return g, current / g
+
+
+def _plate_resistance(stage: InverterTiming, plate_volts: float, grid_volts: float) -> float:
+    """Incremental plate resistance dV/dI of the section at a point (central difference, 10 mV)."""
+    s = stage.section(grid_volts)
+    h = 0.01
+    di = (section_amps(s, stage.supply_volts, plate_volts + h)[0]
+          - section_amps(s, stage.supply_volts, plate_volts - h)[0]) / (2 * h)
+    return 1.0 / di if di > 0 else math.inf
+
+
+def _first_crossing(f, t_max: float, samples: int = 512) -> float:
+    """The first time in (0, t_max] at which ``f`` changes sign from its value at 0 (a scan, then Brent)."""
+    f0 = f(0.0)
+    if f0 == 0:
+        return 0.0
+    prev = 0.0
+    for k in range(1, samples + 1):
+        t = t_max * k / samples
+        if (f(t) > 0) != (f0 > 0):
+            return brent_root(f, prev, t, xtol=t_max * 1e-7)
+        prev = t
+    raise ValueError("the grid never passes its threshold")
+
+
+def grid_crossing_seconds(stage: InverterTiming, drive: Wave, threshold_volts: float) -> float:
+    """When the switching grid passes ``threshold_volts`` after the driving node starts ``drive``.
+
+    The grid obeys ``tau dV/dt = tap(t) - V`` (plus ``a tau d(input)/dt``
+    with a speed-up capacitor, ``a = C1 / (C1 + C_grid)``), ``tap`` being the
+    divider's open-circuit voltage as the driving node moves: a first-order
+    lag of the drive, in closed form (:meth:`Wave.rc_response`). A grid held
+    at its clamp (a high input) starts to fall only once the tap passes below
+    it, so the drive is taken from that moment. The first crossing is found by
+    a scan and Brent's method.
+
+    >>> from planner.catalogue import builtin_catalogue
+    >>> t = builtin_catalogue().get("12AU7")
+    >>> div = Load(820e3, 820e3, -90.0, t)
+    >>> st = InverterTiming(t, 1.0, 170.0, 160e3, div, ((1, div),), 12e-12, 12e-12)
+    >>> # a step from 12 V to 140 V: the grid rises from -39 V towards +25 V, tau = 410 kOhm x 13.5 pF;
+    >>> # it passes -5 V after tau ln(64 / 30)
+    >>> round(grid_crossing_seconds(st, Wave(12.0, 140.0), -5.0) * 1e6, 2)
+    4.19
+    """
+    div = stage.divider
+    g0 = load_state(div, drive.from_volts).grid_volts
+    tap_from, r_th = thevenin(div, drive.from_volts)
+    tap_to, _ = thevenin(div, drive.to_volts)
+    c_grid = stage.grid_farads + (stage.tube.c_gp_pf or 0.0) * 1e-12
+    c1 = stage.speedup_farads
+    tau = r_th * (c1 + c_grid)
+    a = c1 / (c1 + c_grid)
+    offset, wave = 0.0, drive
+    if tap_from > g0 + 1e-6 and tap_to < tap_from:  # clamped: wait until the tap falls to the grid
+        k = div.lower_ohms / (div.upper_ohms + div.lower_ohms)
+        level = (g0 - div.bias_volts * (1 - k)) / k
+        offset = drive.crossing_seconds(level)
+        rest = drive.seconds if drive.shape == "exponential" else drive.seconds - offset
+        wave = Wave(level, drive.to_volts, drive.shape, rest)
+    d_in = wave.to_volts - wave.from_volts
+
+    def grid(t: float) -> float:
+        r = wave.rc_response(t, tau)
+        return g0 + (tap_to - g0) * r + a * d_in * (wave.fraction(t) - r) - threshold_volts
+
+    if (tap_to - threshold_volts) * (g0 - threshold_volts) > 0:
+        raise ValueError(f"the grid heads for {tap_to:.1f} V and never passes {threshold_volts:.1f} V")
+    return offset + _first_crossing(grid, wave.end_seconds() + 20.0 * tau)
+
+
+def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
+    """The output edge of an inverting stage whose driving node makes the edge ``drive``.
+
+    The switching grid passes its threshold (:func:`grid_crossing_seconds`);
+    then the plate swings. A falling output follows its grid through the
+    Miller plateau: the grid, held near its threshold, delivers the
+    grid-plate charge of the plate's swing through the divider's source
+    resistance, a linear ramp, lagging by one time constant of the node
+    against ``RL || r_p || loads``. A rising output is the slower of that
+    ramp and the RC charge of its node through the plate load (an
+    exponential edge). Cost: one threshold search (about 15 plate solves), a
+    grid scan of 512 closed-form points and a few plate solves.
+
+    >>> from planner.catalogue import builtin_catalogue
+    >>> t = builtin_catalogue().get("12AU7")
+    >>> div = Load(820e3, 820e3, -90.0, t)
+    >>> st = InverterTiming(t, 1.0, 170.0, 160e3, div, ((1, div),), 12e-12, 12e-12)
+    >>> e = inverter_edge(st, Wave(140.0, 12.0), 70.0)
+    >>> e.rising, e.output.shape, 1e-6 < e.seconds < 5e-6
+    (True, 'exponential', True)
+    """
+    tube, div = stage.tube, stage.divider
+    vt = threshold_grid_volts(stage, mid_volts)
+    t_x = grid_crossing_seconds(stage, drive, vt)
+    g0 = load_state(div, drive.from_volts).grid_volts
+    p0 = stage.plate_volts(g0)
+    p1 = stage.plate_volts(load_state(div, drive.to_volts).grid_volts)
+    tap_to, r_th = thevenin(div, drive.to_volts)
+    c_gp = (tube.c_gp_pf or 0.0) * 1e-12
+    drive_amps = abs(tap_to - vt) / r_th
+    plateau_full = c_gp * abs(p1 - p0) / drive_amps
+    plateau_mid = c_gp * abs(mid_volts - p0) / drive_amps
+    c_node = stage.plate_farads + c_gp
+    g_node, _ = _plate_conductance(stage)
+    t_in = drive.crossing_seconds(mid_volts)
+    rising = p1 > p0
+    if rising:
+        tau = c_node / g_node
+        t_rc = tau * math.log((p1 - p0) / (p1 - mid_volts))
+        if t_rc >= plateau_mid:
+            return Edge(True, t_x + t_rc - t_in, t_x, Wave(p0, p1, "exponential", tau))
+        return Edge(True, t_x + plateau_mid - t_in, t_x, Wave(p0, p1, "ramp", plateau_full))
+    lag = c_node / (g_node + 1.0 / _plate_resistance(stage, mid_volts, vt))
+    return Edge(False, t_x + plateau_mid + lag - t_in, t_x, Wave(p0, p1, "ramp", plateau_full))
+
+
+def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load_ohms: float, bias_volts: float,
+                  loads: tuple[tuple[int, Load], ...], cathode_farads: float, stopper_ohms: float, drive: Wave,
+                  mid_volts: float) -> Edge:
+    """The output edge of a cathode follower whose grid's node makes the edge ``drive``.
+
+    The cathode copies its grid. Rising, the conducting section drives it and
+    it lags by one time constant of its capacitance against
+    ``1 / (gm + 1/Rk + loads)``; falling, it cannot fall faster than its
+    capacitance discharges through Rk and the loads towards the bias supply
+    (an exponential edge from the high level), so it crosses the midpoint at
+    the later of its grid's crossing and that RC edge's. A grid stopper adds
+    its time constant with the grid's capacitance. Cost: two cathode solves.
+    """
+    c_grid = ((tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0)) * 1e-12
+    t_stop = stopper_ohms * c_grid
+    g_k = 1.0 / cathode_load_ohms + sum(n / (ld.upper_ohms + ld.lower_ohms) for n, ld in loads
+                                        if ld.diode_drop_volts is None)
+    k0 = follower_cathode_volts(tube, wear, supply_volts, drive.from_volts, cathode_load_ohms, bias_volts, loads)
+    k1 = follower_cathode_volts(tube, wear, supply_volts, drive.to_volts, cathode_load_ohms, bias_volts, loads)
+    t_in = drive.crossing_seconds(mid_volts)
+    if k1 > k0:
+        h = 0.01
+        gm = wear * (plate_current_amps(tube, plate_volts=supply_volts - k1, grid_volts=drive.to_volts - k1 + h)
+                     - plate_current_amps(tube, plate_volts=supply_volts - k1, grid_volts=drive.to_volts - k1 - h)
+                     ) / (2 * h)
+        lag = t_stop + cathode_farads / (gm + g_k)
+        return Edge(True, lag, lag, Wave(k0, k1, drive.shape, drive.seconds))
+    tau = cathode_farads / g_k
+    t_rc = tau * math.log((k0 - bias_volts) / (mid_volts - bias_volts))
+    if t_rc > t_in:
+        return Edge(False, t_stop + t_rc - t_in, t_stop, Wave(k0, k1, "exponential", tau))
+    return Edge(False, t_stop, t_stop, Wave(k0, k1, drive.shape, drive.seconds))
+
+
+__all__ = ["DIODE_PF", "WIRING_PF", "Edge", "InverterTiming", "Wave", "follower_edge", "grid_crossing_seconds",
+           "inverter_edge", "threshold_grid_volts"]
