@@ -6,10 +6,10 @@ from typing import Iterable
 
 import sympy
 from sympy.assumptions.cnf import EncodedCNF
-from sympy.logic.boolalg import And, BooleanFalse, BooleanTrue, Not, Or
+from sympy.logic.boolalg import And, Not, Or
 from sympy.logic.inference import satisfiable
 
-from .table import Space, _core_form, assignment, evaluate, symbol_names
+from .table import Space, assignment, evaluate, fold, symbol_names
 
 EXHAUSTIVE_LIMIT = 20
 """Up to this many inputs equivalence is decided by full truth tables."""
@@ -50,46 +50,18 @@ class _Tseitin:
         return len(self.symbols)
 
     def encode(self, expr: sympy.Basic) -> int:
-        """The literal equal to ``expr``; iterative post-order, memo by node identity."""
-        memo: dict[int, int] = {}
-        rewritten: dict[int, sympy.Basic] = {}
-        stack = [expr]
-        while stack:
-            node = stack[-1]
-            key = id(node)
-            if key in memo:
-                stack.pop()
-                continue
-            if isinstance(node, sympy.Symbol):
-                memo[key] = self.index[node.name]
-                stack.pop()
-                continue
-            if isinstance(node, (BooleanTrue, BooleanFalse)):
-                memo[key] = self.true if isinstance(node, BooleanTrue) else -self.true
-                stack.pop()
-                continue
-            if key not in rewritten:
-                core = _core_form(node)
-                rewritten[key] = node if core is None else core
-            core = rewritten[key]
-            args = core.args if core is node else (core,)
-            pending = [a for a in args if id(a) not in memo]
-            if pending:
-                stack.extend(pending)
-                continue
-            stack.pop()
-            lits = [memo[id(a)] for a in args]
-            if core is not node:
-                memo[key] = lits[0]
-            elif isinstance(node, Not):
-                memo[key] = -lits[0]
-            elif isinstance(node, And):
-                memo[key] = self._and(lits)
-            elif isinstance(node, Or):
-                memo[key] = -self._and([-x for x in lits])
-            else:
-                memo[key] = self._xor(lits)
-        return memo[id(expr)]
+        """The literal equal to ``expr`` (a :func:`fold`: iterative, memo by node identity)."""
+        return fold(expr, self.index.__getitem__, self.true, -self.true, self._gate)
+
+    def _gate(self, node: sympy.Basic, lits: list[int]) -> int:
+        """The literal of one And/Or/Not/Xor node over its arguments' literals."""
+        if isinstance(node, Not):
+            return -lits[0]
+        if isinstance(node, And):
+            return self._and(lits)
+        if isinstance(node, Or):
+            return -self._and([-x for x in lits])
+        return self._xor(lits)
 
     def _and(self, lits: list[int]) -> int:
         if -self.true in lits:

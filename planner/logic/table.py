@@ -10,12 +10,14 @@ positions.  Whole tables are combined with single integer operations (``&``,
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Iterable, Mapping
+from typing import Callable, Iterable, Mapping, TypeVar
 
 import sympy
 from sympy.logic.boolalg import (
     And, BooleanFalse, BooleanTrue, Equivalent, ITE, Implies, Nand, Nor, Not, Or, Xnor, Xor,
 )
+
+T = TypeVar("T")
 
 MAX_TABLE_INPUTS = 24
 """Largest input count for which a full table is built (2**24 bits = 2 MiB)."""
@@ -153,18 +155,24 @@ def _core_form(node: sympy.Basic) -> sympy.Basic | None:
     raise TypeError(f"not a boolean expression sympy can hand to the logic layer: {node!r}")
 
 
-def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
-    """Bit-parallel value of ``expr``: each symbol name maps to its table.
+def fold(expr: sympy.Basic, symbol: Callable[[str], T], true: T, false: T,
+         combine: Callable[[sympy.Basic, list[T]], T]) -> T:
+    """Bottom-up value of ``expr``: ``symbol(name)`` at a symbol, ``true`` and
+    ``false`` at the constants, ``combine(node, argument values)`` at each
+    And/Or/Not/Xor node.
 
-    Iterative post-order walk with a memo keyed by node identity, so shared
-    subexpressions are evaluated once and nesting depth is unlimited.  Cost:
-    one big-integer operation per argument of every distinct node.
+    Other connectives are rewritten one level by :func:`_core_form` and take the
+    value of their rewriting.  Iterative post-order walk with a memo keyed by
+    node identity, so shared subexpressions are combined once and nesting depth
+    is unlimited.  Cost: one ``combine`` call per distinct node.
 
     >>> a, b = sympy.symbols("a b")
-    >>> bin(evaluate(a & ~b, {"a": 0b1100, "b": 0b1010}, 0b1111))
-    '0b100'
+    >>> def show(node, args):
+    ...     return f"{type(node).__name__}({', '.join(args)})"
+    >>> fold(sympy.Nand(a, b), str, "1", "0", show)
+    'Not(And(a, b))'
     """
-    memo: dict[int, int] = {}
+    memo: dict[int, T] = {}
     rewritten: dict[int, sympy.Basic] = {}  # keeps rewritten nodes alive while their ids are in use
     stack = [expr]
     while stack:
@@ -174,18 +182,15 @@ def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
             stack.pop()
             continue
         if isinstance(node, sympy.Symbol):
-            if node.name not in variables:
-                raise ValueError(f"the expression uses {node.name!r}, which is not among the inputs "
-                                 f"{tuple(variables)}")
-            memo[key] = variables[node.name]
+            memo[key] = symbol(node.name)
             stack.pop()
             continue
         if isinstance(node, BooleanTrue):
-            memo[key] = full
+            memo[key] = true
             stack.pop()
             continue
         if isinstance(node, BooleanFalse):
-            memo[key] = 0
+            memo[key] = false
             stack.pop()
             continue
         if not isinstance(node, sympy.Basic):
@@ -200,27 +205,46 @@ def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
             stack.extend(pending)
             continue
         stack.pop()
-        values = [memo[id(a)] for a in args]
-        if core is not node:
-            memo[key] = values[0]
-        elif isinstance(node, And):
+        memo[key] = memo[id(core)] if core is not node else combine(node, [memo[id(a)] for a in args])
+    return memo[id(expr)]
+
+
+def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
+    """Bit-parallel value of ``expr``: each symbol name maps to its table.
+
+    A :func:`fold`, so shared subexpressions are evaluated once and nesting
+    depth is unlimited.  Cost: one big-integer operation per argument of every
+    distinct node.
+
+    >>> a, b = sympy.symbols("a b")
+    >>> bin(evaluate(a & ~b, {"a": 0b1100, "b": 0b1010}, 0b1111))
+    '0b100'
+    """
+    def symbol(name: str) -> int:
+        if name not in variables:
+            raise ValueError(f"the expression uses {name!r}, which is not among the inputs "
+                             f"{tuple(variables)}")
+        return variables[name]
+
+    def combine(node: sympy.Basic, values: list[int]) -> int:
+        if isinstance(node, And):
             v = full
             for x in values:
                 v &= x
-            memo[key] = v
-        elif isinstance(node, Or):
+            return v
+        if isinstance(node, Or):
             v = 0
             for x in values:
                 v |= x
-            memo[key] = v
-        elif isinstance(node, Xor):
+            return v
+        if isinstance(node, Xor):
             v = 0
             for x in values:
                 v ^= x
-            memo[key] = v
-        else:  # Not
-            memo[key] = full ^ values[0]
-    return memo[id(expr)]
+            return v
+        return full ^ values[0]  # Not
+
+    return fold(expr, symbol, full, 0, combine)
 
 
 def symbol_names(expr: sympy.Basic) -> frozenset[str]:
