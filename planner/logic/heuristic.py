@@ -121,6 +121,24 @@ def _irredundant(terms: list[_Term], on: int, dc: int, prefer: int | None = None
     return kept
 
 
+def _smallest_cube(space: Space, t: _Term, need: int) -> tuple[int, int, int]:
+    """``(mask, value, bits)`` of the smallest cube inside ``t`` holding every
+    assignment of ``need`` (a non-empty subset of ``t.bits``): each free input
+    of ``t`` on which all of ``need`` agrees becomes a literal.
+    Cost: at most two ANDs per free input.
+    """
+    mask, value, bits = t.mask, t.value, t.bits
+    for p in iter_bits(((1 << space.n) - 1) ^ t.mask):
+        if not need & space.zero[p]:
+            mask |= 1 << p
+            value |= 1 << p
+            bits &= space.one[p]
+        elif not need & space.one[p]:
+            mask |= 1 << p
+            bits &= space.zero[p]
+    return mask, value, bits
+
+
 def _reduce(space: Space, terms: list[_Term], on: int, dc: int) -> list[_Term]:
     """REDUCE: shrink each cube to the smallest cube holding the on-set part only it covers.
 
@@ -134,22 +152,13 @@ def _reduce(space: Space, terms: list[_Term], on: int, dc: int) -> list[_Term]:
         suffix[i] = suffix[i + 1] | order[i].bits
     done_union = dc
     out = []
-    all_inputs = (1 << space.n) - 1
     for i, t in enumerate(order):
         others = done_union | suffix[i + 1]
         need = t.bits & on
         need ^= need & others
         if not need:
             continue
-        mask, value, bits = t.mask, t.value, t.bits
-        for p in iter_bits(all_inputs ^ t.mask):
-            if not need & space.zero[p]:
-                mask |= 1 << p
-                value |= 1 << p
-                bits &= space.one[p]
-            elif not need & space.one[p]:
-                mask |= 1 << p
-                bits &= space.zero[p]
+        mask, value, bits = _smallest_cube(space, t, need)
         out.append(t if mask == t.mask else _Term(mask, value, bits))
         done_union |= bits
     return out
@@ -167,7 +176,6 @@ def _last_gasp(space: Space, terms: list[_Term], on: int, dc: int, off: int) -> 
         prefix[i + 1] = prefix[i] | terms[i].bits
     for i in range(k - 1, -1, -1):
         suffix[i] = suffix[i + 1] | terms[i].bits
-    all_inputs = (1 << space.n) - 1
     reduced = []
     for i, t in enumerate(terms):
         others = prefix[i] | suffix[i + 1] | dc
@@ -175,15 +183,7 @@ def _last_gasp(space: Space, terms: list[_Term], on: int, dc: int, off: int) -> 
         need ^= need & others
         if not need:
             continue
-        mask, value, bits = t.mask, t.value, t.bits
-        for p in iter_bits(all_inputs ^ t.mask):
-            if not need & space.zero[p]:
-                mask |= 1 << p
-                value |= 1 << p
-                bits &= space.one[p]
-            elif not need & space.one[p]:
-                mask |= 1 << p
-                bits &= space.zero[p]
+        mask, value, _ = _smallest_cube(space, t, need)
         if mask != t.mask:
             reduced.append(_Term(mask, value, need))
     if len(reduced) < 2:
