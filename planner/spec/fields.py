@@ -39,6 +39,13 @@ def expect_list(file: YamlFile, value, line: int, what: str) -> Sequence:
     return value
 
 
+def _absent(file: YamlFile, mapping: Mapping, key: str, what: str, default=_MISSING):
+    """The value of an absent ``key``: ``default``, or an InputError when it is required."""
+    if default is _MISSING:
+        raise file.error(mapping.line, f"{what} is missing the required key {key!r}")
+    return default
+
+
 def check_keys(file: YamlFile, mapping: Mapping, allowed: tuple[str, ...], what: str,
                required: tuple[str, ...] = ()) -> None:
     """Refuse unknown keys (suggesting the nearest allowed one) and missing required keys."""
@@ -50,7 +57,7 @@ def check_keys(file: YamlFile, mapping: Mapping, allowed: tuple[str, ...], what:
                              f"unknown key {key!r} in {what}{hint} Expected one of: {', '.join(allowed)}")
     for key in required:
         if key not in mapping:
-            raise file.error(mapping.line, f"{what} is missing the required key {key!r}")
+            _absent(file, mapping, key, what)
 
 
 def get_number(file: YamlFile, mapping: Mapping, key: str, what: str, *, default=_MISSING,
@@ -58,9 +65,7 @@ def get_number(file: YamlFile, mapping: Mapping, key: str, what: str, *, default
                positive: bool = False, negative: bool = False) -> float:
     """A finite number (int or float, never a boolean) within the stated bounds."""
     if key not in mapping:
-        if default is _MISSING:
-            raise file.error(mapping.line, f"{what} is missing the required key {key!r}")
-        return default
+        return _absent(file, mapping, key, what, default)
     value = mapping[key]
     line = line_of(mapping, key)
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
@@ -80,9 +85,7 @@ def get_int(file: YamlFile, mapping: Mapping, key: str, what: str, *, default=_M
             minimum: int | None = None) -> int:
     """A whole number (never a boolean) of at least ``minimum``."""
     if key not in mapping:
-        if default is _MISSING:
-            raise file.error(mapping.line, f"{what} is missing the required key {key!r}")
-        return default
+        return _absent(file, mapping, key, what, default)
     value = mapping[key]
     line = line_of(mapping, key)
     if isinstance(value, bool) or not isinstance(value, int):
@@ -105,9 +108,7 @@ def get_text(file: YamlFile, mapping: Mapping, key: str, what: str, *, default=_
              choices: tuple[str, ...] | None = None) -> str:
     """Non-empty text, optionally one of ``choices``."""
     if key not in mapping:
-        if default is _MISSING:
-            raise file.error(mapping.line, f"{what} is missing the required key {key!r}")
-        return default
+        return _absent(file, mapping, key, what, default)
     value = mapping[key]
     line = line_of(mapping, key)
     if not isinstance(value, str) or not value.strip():
