@@ -12,7 +12,8 @@ Public API:
 - ``format_template(template) -> str`` (the ``tubeplan stage`` text)
 - ``brent_root(f, lo, hi)`` (the 1-D solver used throughout)
 - registers (docs/registers.md): ``design_bistable(family, tube, wear, types) -> Bistable``
-  (or ``Shortfall``), ``flip_edges``, ``is_dual_triode``, ``RESET_PULLUP_OHMS``
+  (or ``Shortfall``), ``design_bistables`` (several types on one clock), ``flip_edges``,
+  ``is_dual_triode``, ``RESET_PULLUP_OHMS``
 - timing: ``Wave``, ``Edge``, ``InverterTiming``, ``inverter_edge``, ``follower_edge``,
   ``WIRING_PF``, ``DIODE_PF``
 
@@ -20,7 +21,8 @@ See docs/electrical.md for the circuits, the worst-case method and the
 mixing rule of a family.
 """
 
-from .bistable import RESET_PULLUP_OHMS, Bistable, design_bistable, flip_edges, is_dual_triode
+from .bistable import (CAPACITOR_TOLERANCE, CLOCK_TOLERANCE, HOLD_FACTOR, RESET_PULLUP_OHMS, Bistable, design_bistable,
+                       design_bistables, flip_edges, is_dual_triode)
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
 from .listing import format_template
@@ -31,8 +33,8 @@ from .template import design_template
 from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, follower_edge, inverter_edge
 
 __all__ = [
-    "DIODE_PF", "RESET_PULLUP_OHMS", "WIRING_PF", "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable",
-    "flip_edges", "follower_edge", "inverter_edge", "is_dual_triode",
+    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF", "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable",
+    "design_bistables", "flip_edges", "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
     "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",

@@ -196,11 +196,13 @@ def flip_edges(tube: TubeType, wear: float, supply_volts: float, plate_load_ohms
             Edge(False, t_rise + down.seconds, t_rise + down.grid_seconds, down.output))
 
 
-def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[str, TubeType]
-                    ) -> Bistable | Shortfall:
+def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[str, TubeType],
+                    swing_volts: float | None = None) -> Bistable | Shortfall:
     """The register of ``tube`` in ``family`` (worn to ``wear``), or why it cannot be built.
 
-    ``types``: the family's tube types by name (for the loads it may meet).
+    ``types``: the family's tube types by name (for the loads it may meet);
+    ``swing_volts``: the clock's nominal swing when it is already chosen (else
+    the register's own best).
 
     The plate loads and dividers are the family's driver and receiver of the
     type. The steering capacitor is the E12 value from 10 pF to 1 nF with the
@@ -259,7 +261,7 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     best = None
     for cs in STEERING_PF:
         result = _steering(cs, node_x, grid_max, grid_static, miller_charge, high, low, g_on, margin, drop_hi,
-                           cutoff, heavy_amps, kick_ohms, r_grid, tap_max, flip, box)
+                           cutoff, heavy_amps, kick_ohms, r_grid, tap_max, flip, box, swing_volts)
         if result is not None and (best is None or result[0] < best[0]):
             best = result + (cs,)
     if best is None:
@@ -307,7 +309,7 @@ def _design_flip_seconds(family: Family, types, rec, ctx: TubeContext, driver, f
 
 
 def _steering(cs, node_x, grid_max, grid_min, miller_charge, high, low, g_on, margin, drop_hi, cutoff, heavy_amps,
-              kick_ohms, r_grid, tap_max, flip, box):
+              kick_ohms, r_grid, tap_max, flip, box, fixed_swing=None):
     """Worst-case steering figures for one capacitor value, or None when no clock swing works.
 
     Returns (setup s, recovery s, nominal swing, lowest and highest swing the
@@ -346,8 +348,10 @@ def _steering(cs, node_x, grid_max, grid_min, miller_charge, high, low, g_on, ma
     lo, hi = swing_min / (1 - tol), swing_max / (1 + tol)
     if lo >= hi:
         return None
-    swing = float(round(0.5 * (lo + hi)))
+    swing = float(round(0.5 * (lo + hi))) if fixed_swing is None else fixed_swing
     if not lo <= swing <= hi:
+        if fixed_swing is not None:
+            return None
         swing = 0.5 * (lo + hi)
     spare = min(k_min * (swing * (1 - tol) - swing_min), k_max * (swing_max - swing * (1 + tol)))
     if spare <= 0:
@@ -361,5 +365,35 @@ def _steering(cs, node_x, grid_max, grid_min, miller_charge, high, low, g_on, ma
     return (setup, recovery, swing, swing_min, swing_max, rs, reached, hold)
 
 
+def design_bistables(family: Family, tubes, types: Mapping[str, TubeType]) -> tuple[float | None, dict]:
+    """Bistables for ``tubes`` ((TubeType, wear) pairs) that share one clock: (its nominal swing, name -> result).
+
+    Every type's own best swing is a candidate; the one that the most types
+    can be designed at wins (then the shortest worst setup time, then the
+    lower swing). A result is a ``Bistable`` or the ``Shortfall`` of that
+    type (at the chosen swing, or its own when it has none). Cost: one free
+    design per type, then one per type and candidate swing.
+    """
+    tubes = sorted(tubes, key=lambda pair: pair[0].name)
+    free = {t.name: design_bistable(family, t, wear, types) for t, wear in tubes}
+    swings = sorted({b.clock_swing_volts for b in free.values() if isinstance(b, Bistable)})
+    best = None
+    for swing in swings:
+        designed = {t.name: design_bistable(family, t, wear, types, swing) for t, wear in tubes
+                    if isinstance(free[t.name], Bistable)}
+        good = [b for b in designed.values() if isinstance(b, Bistable)]
+        key = (-len(good), max(b.setup_seconds for b in good), swing)
+        if best is None or key < best[0]:
+            best = (key, swing, designed)
+    if best is None:
+        return None, free
+    _, swing, designed = best
+    out = dict(free)
+    for name, result in designed.items():
+        out[name] = result if isinstance(result, Bistable) else Shortfall(
+            "clock swing", 0.0, "V", f"the {name} bistable cannot work from the {swing:g} V clock the others share")
+    return swing, out
+
+
 __all__ = ["CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "Bistable",
-           "design_bistable", "flip_edges", "is_dual_triode"]
+           "design_bistable", "design_bistables", "flip_edges", "is_dual_triode"]

@@ -7,10 +7,10 @@ stage (then branch, then diode) that uses them.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from .layout import Job, pack, pack_diodes
-from .model import Counts, Problem, TubeKind, Way
+from .model import Counts, Problem, RegisterWay, TubeKind, Way
 
 
 @dataclass(frozen=True)
@@ -35,6 +35,7 @@ class Placement:
     ways: dict
     sockets: tuple[Socket, ...]
     at: dict
+    registers: dict = field(default_factory=dict)
 
 
 def choose_ways(problem: Problem, counts: Counts) -> dict[str, Way]:
@@ -45,6 +46,21 @@ def choose_ways(problem: Problem, counts: Counts) -> dict[str, Way]:
         for stage, w in zip(cls.stages, picks):
             chosen[stage] = cls.ways[w]
     return chosen
+
+
+def choose_register_ways(problem: Problem, counts: Counts) -> dict[str, RegisterWay]:
+    """Register name -> way: each class's registers, in order, take its ways as the counts say."""
+    chosen = {}
+    for cls, row in zip(problem.registers, counts.register_ways):
+        picks = [w for w, n in enumerate(row) for _ in range(n)]
+        for name, w in zip(cls.registers, picks):
+            chosen[name] = cls.ways[w]
+    return chosen
+
+
+def register_job_id(name: str) -> str:
+    """The job (and parts') stage id of register ``name``: ``reg:NAME``."""
+    return f"reg:{name}"
 
 
 def _jobs(network, ways: dict[str, Way]) -> tuple[dict[str, list[Job]], list[Job]]:
@@ -64,20 +80,32 @@ def _jobs(network, ways: dict[str, Way]) -> tuple[dict[str, list[Job]], list[Job
     return by_tube, diodes
 
 
-def place(network, problem: Problem, counts: Counts) -> Placement:
+def place(network, problem: Problem, counts: Counts, register_order: tuple[str, ...] = ()) -> Placement:
     """Sockets for the counts of ``problem`` on ``network``.
 
-    Sections are packed per type by :func:`planner.mapping.layout.pack`;
+    Each register's bistable takes a whole envelope of its way's type (both
+    sections), numbered after the stages' envelopes in ``register_order``; the other sections are
+    packed per type by :func:`planner.mapping.layout.pack`;
     vacuum diodes fill the diode types in name order, up to each type's
     count in the solution.  Heater ways are dealt to a type's envelopes in
     designator order, as many of each as the solution has.
     """
     ways = choose_ways(problem, counts)
+    chosen = choose_register_ways(problem, counts)
+    registers = {name: chosen[name] for name in sorted(chosen, key=lambda n: (register_order + (n,)).index(n))}
     by_tube, diode_jobs = _jobs(network, ways)
     boxes: list[tuple[TubeKind, list]] = []
+    kinds = {kind.tube: kind for kind in problem.kinds}
+    held = {kind.tube: 0 for kind in problem.kinds}
+    for order, name in enumerate(registers, len(network.stages)):
+        way = registers[name]
+        held[way.tube] += 1
+        job = register_job_id(name)
+        boxes.append((kinds[way.tube], [(0, Job(order, job, None, "bistable")),
+                                        (1, Job(order, job, None, "bistable", 1))]))
     for t, kind in enumerate(problem.kinds):
         if by_tube.get(kind.tube):
-            boxes.extend((kind, box) for box in pack(kind, by_tube[kind.tube], counts.envelopes[t]))
+            boxes.extend((kind, box) for box in pack(kind, by_tube[kind.tube], counts.envelopes[t] - held[kind.tube]))
     if problem.vacuum_diodes and diode_jobs:
         left = list(diode_jobs)
         for t, kind in enumerate(problem.kinds):
@@ -106,4 +134,4 @@ def place(network, problem: Problem, counts: Counts) -> Placement:
         sockets.append(Socket(ref, kind.tube, heater, tuple(sorted(box, key=lambda sj: sj[0]))))
         for position, job in box:
             at[(job.stage, job.branch, job.part)] = (ref, position)
-    return Placement(ways, tuple(sockets), at)
+    return Placement(ways, tuple(sockets), at, registers)

@@ -2,12 +2,15 @@
 
 from __future__ import annotations
 
-from .assemble import Placement
+from planner.electrical import CAPACITOR_TOLERANCE, RESET_PULLUP_OHMS
+
+from .assemble import Placement, register_job_id
 from .model import Counts, Problem
 from .parts import NetlistBuilder, gate_node, grid_node
-from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Envelope, Part, PlacedBranch, PlacedStage, Plan, SectionUse,
-                   Solution, StockUse, WindingLoad)
+from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Clock, Envelope, Part, PlacedBranch, PlacedRegister,
+                   PlacedStage, Plan, SectionUse, Solution, StockUse, WindingLoad)
 from .problem import branch_realisation
+from .registers import COMPLEMENT, RegisterSetting, register_loads, register_parts, reset_pullup
 
 
 def _sections(tube, kind_is_diode: bool):
@@ -15,13 +18,16 @@ def _sections(tube, kind_is_diode: bool):
 
 
 def build_plan(design, network, family, stock, problem: Problem, counts: Counts, placement: Placement,
-               solution: Solution, rules) -> Plan:
-    """The plan: stages placed, envelopes with heaters, the parts netlist, budgets and stock use.
+               solution: Solution, rules, setting: RegisterSetting | None = None) -> Plan:
+    """The plan: stages placed, registers built, envelopes with heaters, the parts netlist, budgets, stock use.
 
     Parts are made stage by stage in network order (plate load, then per
     branch its screen feed and each input's divider, diode and grid return;
-    a follower's cathode load), so designators R1, R2, ... follow the
-    network; tube envelopes V1, V2, ... come from the placement.
+    a follower's cathode load), then register by register in design order
+    (:func:`planner.mapping.registers.register_parts`) and the reset line's
+    pull-up, so designators R1, R2, ... follow the network; tube envelopes
+    V1, V2, ... come from the placement. ``design`` is the design as given
+    (its outputs are the plan's; next states are the registers').
     """
     kinds = {k.tube: k for k in problem.kinds}
     sockets = {s.ref: s for s in placement.sockets}
@@ -87,6 +93,7 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
                                   None, None, None, driver.plate_load_ohms,
                                   None, loads[stage.output], driver.fanout_limit, driver.supply_ma_worst,
                                   driver.supply_ma_typical, way.bias_ma, template=way.template))
+    registers = _registers(design, network, stock, placement, net, uses, setting) if design.registers else ()
     envelopes = []
     for socket in placement.sockets:
         tube = stock.catalogue.get(socket.tube)
@@ -112,16 +119,50 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
         used_count[socket.tube] = used_count.get(socket.tube, 0) + 1
     stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce)
                       for e in stock.tubes)
+    names = [o.name for o in design.outputs]
+    clock = _clock(setting, registers) if registers else None
     return Plan(design.name, tuple((i.name, i.complement) for i in design.inputs),
-                tuple(sorted(network.outputs.items(), key=lambda kv: _order(design, kv[0]))),
-                tuple(sorted(network.forms.items(), key=lambda kv: _order(design, kv[0]))),
+                tuple(sorted(((k, v) for k, v in network.outputs.items() if k in names), key=lambda kv: names.index(kv[0]))),
+                tuple(sorted(((k, v) for k, v in network.forms.items() if k in names), key=lambda kv: names.index(kv[0]))),
                 tuple(placed), tuple(envelopes), tuple(parts), budget, stock_use, solution,
                 stock.plate.volts, stock.bias.volts, family.high_min_volts, family.low_max_volts,
-                family.follower_low_max_volts)
+                family.follower_low_max_volts, registers, clock)
 
 
-def _order(design, output: str) -> int:
-    return [o.name for o in design.outputs].index(output)
+def _registers(design, network, stock, placement: Placement, net: NetlistBuilder, uses: dict,
+               setting: RegisterSetting) -> tuple[PlacedRegister, ...]:
+    """Every register's parts and section uses, in design order, then the reset line's pull-up."""
+    loads = register_loads(design, network)
+    placed = []
+    for reg in design.registers:
+        way = placement.registers[reg.name]
+        bistable = setting.bistables[way.tube]
+        tube = stock.catalogue.get(way.tube)
+        job = register_job_id(reg.name)
+        ref, _ = placement.at[(job, None, 0)]
+        nets = {"next": network.outputs[reg.next_output],
+                "next_complement": network.outputs[COMPLEMENT + reg.next_output]}
+        register_parts(net, uses, reg, bistable, tube, ref, job, nets, setting.clock, setting.reset)
+        placed.append(PlacedRegister(
+            reg.name, reg.name, COMPLEMENT + reg.name, nets["next"], nets["next_complement"], reg.reset, way.tube, ref,
+            network.forms.get(reg.next_output, ""), bistable.plate_load_ohms, bistable.upper_ohms,
+            bistable.lower_ohms, bistable.commutating_pf * 1e-12, bistable.steering_pf * 1e-12,
+            bistable.steering_ohms, loads[reg.name], bistable.fanout_limit, bistable.supply_ma_worst,
+            bistable.supply_ma_typical, bistable.bias_ma_worst, setup_seconds=bistable.setup_seconds))
+    reset_pullup(net, setting.reset)
+    return tuple(placed)
+
+
+def _clock(setting: RegisterSetting, registers) -> Clock:
+    """The clock every register shares: the common swing, its window and what it drives."""
+    used = [setting.bistables[r.tube] for r in registers]
+    low = max(b.clock_swing_min_volts for b in used)
+    high = min(b.clock_swing_max_volts for b in used)
+    # The clock's fall must be short beside the steering time constant (it then loses under 1 % of its step).
+    fall = min(0.02 * b.steering_ohms * b.steering_pf * 1e-12 * (1 - CAPACITOR_TOLERANCE) for b in used)
+    load = sum(2 * b.steering_pf * 1e-12 * (1 + CAPACITOR_TOLERANCE) for b in used)
+    return Clock(setting.clock, setting.reset, setting.swing_volts, low, high, used[0].clock_tolerance, fall, load,
+                 RESET_PULLUP_OHMS)
 
 
 def _use(net, uses, ref, tube, section, means, stage_id, nets) -> None:
@@ -162,7 +203,7 @@ def _budget(stock, problem: Problem, placement: Placement, envelopes) -> Budget:
     for env in envelopes:
         amps[env.winding] += env.heater_amps
         watts += env.heater_volts * env.heater_amps
-    ways = placement.ways.values()
+    ways = list(placement.ways.values()) + list(placement.registers.values())
     supplies = problem.supplies
     plate = supplies.fixed_plate_ma + sum(w.plate_ma for w in ways)
     typical = supplies.fixed_plate_ma_typical + sum(w.plate_ma_typical for w in ways)

@@ -14,9 +14,13 @@ Variables (all integers):
 * ``h[t, k]``: envelopes of type ``t`` heated the ``k``-th way (a winding whose
   volts equal the heater's, wired parallel or series); ``sum_k h[t, k] = n[t]``.
 
-Constraints: section packing by Hall's condition (below), winding amps, plate
-and bias supply milliamperes, and diode sections for diode-AND branches when the
-stock allows vacuum diodes only.
+* ``y[r, w]``: registers of class ``r`` built the ``w``-th way (a bistable on a
+  dual-triode type, taking a whole envelope); ``sum_w y[r, w] = count(r)``.
+
+Constraints: section packing by Hall's condition (below) in the envelopes the
+bistables leave, winding amps, plate and bias supply milliamperes (registers'
+included), and diode sections for diode-AND branches when the stock allows
+vacuum diodes only.
 
 Packing.  Sections of a type differ in what they can do (a pentode section of a
 triode-pentode cannot gate on g3).  Demands ``d[k]`` of each kind ("single",
@@ -115,6 +119,29 @@ class StageClass:
 
 
 @dataclass(frozen=True)
+class RegisterWay:
+    """One way to build a register: a bistable taking a whole envelope of ``tube`` (both its sections)."""
+
+    tube: str
+    plate_ma: float
+    plate_ma_typical: float
+    bias_ma: float
+    fanout_limit: int
+
+
+@dataclass(frozen=True)
+class RegisterClass:
+    """Interchangeable registers: ``registers`` (names, in design order) each built one of ``ways``."""
+
+    registers: tuple[str, ...]
+    ways: tuple[RegisterWay, ...]
+
+    @property
+    def count(self) -> int:
+        return len(self.registers)
+
+
+@dataclass(frozen=True)
 class Supplies:
     """Limits of the rails and windings; ``fixed_*``: currents no choice changes."""
 
@@ -145,6 +172,7 @@ class Problem:
     supplies: Supplies
     weights: Weights
     vacuum_diodes: bool = False
+    registers: tuple[RegisterClass, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -177,6 +205,7 @@ class Counts:
     status: str
     seconds: float
     terms: tuple[tuple[str, float], ...]
+    register_ways: tuple[tuple[int, ...], ...] = ()
 
 
 class Infeasible(Exception):
@@ -215,6 +244,14 @@ class _Model:
                   for t, kind in enumerate(kinds)]
         for c, cls in enumerate(classes):
             self.lp += pulp.lpSum(self.x[c]) == cls.count, f"class_{c}"
+        # Registers: y[r, w] bistables of class r on way w, each a whole envelope of its type.
+        self.y = [[_integer(self.lp, f"y_{r}_{w}", 0, reg.count) for w in range(len(reg.ways))]
+                  for r, reg in enumerate(problem.registers)]
+        bistables = [[] for _ in kinds]
+        for r, reg in enumerate(problem.registers):
+            self.lp += pulp.lpSum(self.y[r]) == reg.count, f"registers_{r}"
+            for w, way in enumerate(reg.ways):
+                bistables[index[way.tube]].append(self.y[r][w])
         demand = [{k: [] for k in KINDS} for _ in kinds]
         plate, bias, diodes = [], [], []
         for c, cls in enumerate(classes):
@@ -224,11 +261,15 @@ class _Model:
                     demand[index[way.tube]][kind].append(sections * self.x[c][w])
                 plate.append(way.plate_ma * self.x[c][w])
                 bias.append(way.bias_ma * self.x[c][w])
+        for r, reg in enumerate(problem.registers):
+            for w, way in enumerate(reg.ways):
+                plate.append(way.plate_ma * self.y[r][w])
+                bias.append(way.bias_ma * self.y[r][w])
         for t, kind in enumerate(kinds):
             if slack:
                 self.lp += self.n[t] <= max(kind.usable, 0) + self.buy[t], f"stock_{t}"
             self.lp += pulp.lpSum(self.h[t]) == self.n[t], f"heated_{t}"
-            self._packing(t, kind, demand[t])
+            self._packing(t, kind, demand[t], pulp.lpSum(bistables[t]) if bistables[t] else None)
         if problem.vacuum_diodes and any(way.diodes for cls in classes for way in cls.ways):
             self.lp += pulp.lpSum(kind.diode_sections * self.n[t] for t, kind in enumerate(kinds)
                                   if kind.diode_sections) >= pulp.lpSum(diodes), "diodes"
@@ -264,11 +305,14 @@ class _Model:
         limits.update(plate=supplies.plate_max_ma, bias=supplies.bias_max_ma)
         return [(var, limits[what]) for what, var in self.over.items()]
 
-    def _packing(self, t: int, kind: TubeKind, demand: dict) -> None:
+    def _packing(self, t: int, kind: TubeKind, demand: dict, bistables) -> None:
+        """Hall's conditions for the stage sections, in the envelopes the bistables leave."""
         present = [k for k in KINDS if demand[k]]
+        if bistables is not None:
+            self.lp += bistables <= self.n[t], f"bistables_{t}"
         if not present:
             return
-        n = self.n[t]
+        n = self.n[t] if bistables is None else self.n[t] - bistables
         followers = pulp.lpSum(demand["follower"])
         grounded = [k for k in present if k != "follower"]
         if kind.shared_cathode and "follower" in present:
@@ -323,7 +367,7 @@ class _Model:
                       tuple(tuple(val(v) for v in row) for row in self.h),
                       tuple(val(v) for v in self.buy),
                       tuple((what, float(var.value() or 0)) for what, var in sorted(self.over.items())),
-                      tuple(levels), status, seconds, terms)
+                      tuple(levels), status, seconds, terms, tuple(tuple(val(v) for v in row) for row in self.y))
 
 
 def _criteria(weights: Weights) -> tuple[str, ...]:

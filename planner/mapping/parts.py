@@ -92,15 +92,17 @@ class NetlistBuilder:
                                watts_rating=rating, dissipation_watts=watts, tolerance=self.tol))
         return ref
 
-    def capacitor(self, a: str, b: str, farads: float, role: str, stage: str) -> str:
+    def capacitor(self, a: str, b: str, farads: float, role: str, stage: str,
+                  volts_rating: float | None = None) -> str:
         ref = self.ref("C")
         self.parts.append(Part(ref, "capacitor", farads_text(farads), (("1", a), ("2", b)), role, stage,
-                               farads=farads))
+                               farads=farads, volts_rating=volts_rating))
         return ref
 
-    def diode(self, anode: str, cathode: str, role: str, stage: str) -> str:
+    def diode(self, anode: str, cathode: str, role: str, stage: str, volts_rating: float | None = None) -> str:
         ref = self.ref("D")
-        self.parts.append(Part(ref, "diode", "silicon signal diode", (("A", anode), ("K", cathode)), role, stage))
+        self.parts.append(Part(ref, "diode", "silicon signal diode", (("A", anode), ("K", cathode)), role, stage,
+                               volts_rating=volts_rating))
         return ref
 
     def pin(self, socket: str, pin: int, net: str) -> None:

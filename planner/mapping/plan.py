@@ -102,7 +102,8 @@ class Part:
     label (a tube's pin number as text, "1"/"2" for two-terminal parts, or
     "A"/"K" for a diode's anode and cathode) with its net.
     ``value`` is the part's value as text ("47k", "6AL5", "1N4148"-class
-    wording is avoided: "silicon signal diode").
+    wording is avoided: "silicon signal diode"). ``volts_rating``: the
+    voltage a diode (reverse) or capacitor must stand, where the plan sets one.
     """
 
     ref: str
@@ -117,6 +118,7 @@ class Part:
     dissipation_watts: float | None = None
     tolerance: float | None = None
     tube: str | None = None
+    volts_rating: float | None = None
 
 
 @dataclass(frozen=True)
@@ -177,12 +179,121 @@ class Solution:
 
 
 @dataclass(frozen=True)
+class PlacedRegister:
+    """A register as built: a bistable on envelope ``envelope`` (both sections), its nets and values.
+
+    Nets: ``output`` (q, the plate of section 2) and ``complement`` (~q,
+    section 1); ``next`` and ``next_complement`` carry the next state and its
+    complement (the steering's level inputs); ``form`` is the minimised next
+    state. ``reset`` (0 or 1) is the state the reset line sets. Values: plate
+    loads, cross-coupling dividers, commutating and steering capacitors,
+    steering resistors (see docs/registers.md). Timing from the clock's
+    falling edge: ``clock_to_q_seconds`` (the later output's midpoint
+    crossing, with this plan's loads); ``setup_seconds`` the next state must be
+    settled before the edge.
+    """
+
+    name: str
+    output: str
+    complement: str
+    next: str
+    next_complement: str
+    reset: int
+    tube: str
+    envelope: str
+    form: str
+    plate_load_ohms: float
+    upper_ohms: float
+    lower_ohms: float
+    commutating_farads: float
+    steering_farads: float
+    steering_ohms: float
+    fanout: int
+    fanout_limit: int
+    supply_ma_worst: float
+    supply_ma_typical: float
+    bias_ma_worst: float
+    clock_to_q_seconds: float = 0.0
+    setup_seconds: float = 0.0
+
+
+@dataclass(frozen=True)
+class Clock:
+    """What the plan's registers need from the clock and the reset line.
+
+    The clock net ``net`` takes a falling step of ``swing_volts`` (the
+    steering works for any step from ``swing_min_volts`` to
+    ``swing_max_volts``; keep within +-``tolerance`` of the nominal), falling
+    within ``fall_seconds_max``, into ``load_farads``. Its DC level does not
+    matter (the steering capacitors block it). ``reset_net`` rests at B+
+    through ``reset_pullup_ohms``; a momentary contact from it to BIAS sets
+    every register to its reset state.
+    """
+
+    net: str
+    reset_net: str
+    swing_volts: float
+    swing_min_volts: float
+    swing_max_volts: float
+    tolerance: float
+    fall_seconds_max: float
+    load_farads: float
+    reset_pullup_ohms: float
+
+
+@dataclass(frozen=True)
+class StageTiming:
+    """One stage's worst delays (its input's midpoint crossing to its output's) for each output edge."""
+
+    id: str
+    output: str
+    rise_seconds: float
+    fall_seconds: float
+
+
+@dataclass(frozen=True)
+class Timing:
+    """The plan's timing estimate (docs/registers.md).
+
+    ``path``: the nets of the critical path from ``start`` ("register q0",
+    "input a") to ``end`` ("register q1", "output y"); ``path_seconds`` its
+    delay to the end's midpoint crossing (from the clock's falling edge when
+    it starts at a register, else from the input's change), the end's setup
+    time included when it ends at a register. With registers:
+    ``clock_to_q_seconds``, ``setup_seconds`` (worst over the registers),
+    ``high_seconds_min`` / ``low_seconds_min`` the shortest clock phases,
+    ``min_period_seconds`` and ``max_clock_hz`` = 1 / (period x (1 +
+    ``margin``)). ``output_seconds``: the latest design output's midpoint
+    crossing. ``wiring_pf``: the wiring allowance per node; ``corner``: the
+    conditions the delays are estimated for.
+    """
+
+    stages: tuple[StageTiming, ...]
+    path: tuple[str, ...]
+    path_seconds: float
+    start: str
+    end: str
+    output_seconds: float
+    wiring_pf: float
+    margin: float
+    corner: str
+    clock_to_q_seconds: float | None = None
+    setup_seconds: float | None = None
+    high_seconds_min: float | None = None
+    low_seconds_min: float | None = None
+    min_period_seconds: float | None = None
+    max_clock_hz: float | None = None
+
+
+@dataclass(frozen=True)
 class Plan:
     """Everything ``tubeplan plan`` decided; the report layer only formats it.
 
     Family levels at every plate node, worst case: ``high_volts`` or more for
     a high, ``low_volts`` or less for a low from an inverting stage,
-    ``follower_low_volts`` or less from a follower.
+    ``follower_low_volts`` or less from a follower. ``registers`` and
+    ``clock``: the clocked registers (none for a combinational design);
+    ``timing``: the delay estimate and, with registers, the highest safe clock.
     """
 
     design: str
@@ -200,3 +311,6 @@ class Plan:
     high_volts: float
     low_volts: float
     follower_low_volts: float | None = None
+    registers: tuple[PlacedRegister, ...] = ()
+    clock: Clock | None = None
+    timing: Timing | None = None

@@ -5,7 +5,8 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass, replace
 
-from planner.electrical import DesignRules, Rails, design_family
+from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, design_bistables, design_family
+from planner.electrical import is_dual_triode
 from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
 
 from .assemble import place
@@ -14,6 +15,8 @@ from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
 from .options import MappingOptions
 from .plan import Plan, Solution
 from .problem import DIODE_FANIN, build_problem
+from .registers import RegisterSetting, clock_nets, register_classes, register_view
+from .timing import plan_timing
 
 _DIODE_RULES = {"solid-state": "solid-state", "vacuum-only": "vacuum", "none": "none"}
 
@@ -114,13 +117,43 @@ def _fanout_limits(family, names):
     return limit
 
 
-def _candidates(design, stock, family, rules, options, weights) -> list[_Candidate]:
+def _register_setting(design, stock, family, tubes) -> RegisterSetting:
+    """The bistable of every stocked dual triode that can hold a register, on one shared clock.
+
+    Raises :class:`Shortage` when the stock has no such type or no solid-state diodes for the steering.
+    """
+    if stock.diodes != "solid-state":
+        raise Shortage(f"the design's registers need solid-state steering diodes, and the stock's diodes are "
+                       f"{stock.diodes!r}; set diodes: solid-state",
+                       unbuildable=("registers need solid-state steering diodes",))
+    duals = [(t, w) for t, w in tubes if is_dual_triode(t)]
+    if not duals:
+        raise Shortage("the design's registers need a dual triode (two triode sections in one envelope), and the "
+                       "stock has none", unbuildable=("no dual triode for the registers",))
+    swing, results = design_bistables(family, duals, {t.name: t for t, _ in tubes})
+    usable = {name: b for name, b in results.items() if isinstance(b, Bistable)}
+    if not usable:
+        reasons = "; ".join(f"{name}: {why.message}" for name, why in sorted(results.items()))
+        raise Shortage(f"no stocked dual triode can hold a register: {reasons}", unbuildable=(reasons,))
+    clock, reset = clock_nets(design)
+    return RegisterSetting(usable, clock, reset, swing)
+
+
+def _reset_ma(stock, rules: DesignRules) -> float:
+    """The most the reset line takes from B+ (and gives the bias supply) while a reset contact is closed."""
+    span = (stock.plate.volts - stock.bias.volts) * (1 + rules.supply_tolerance)
+    return span / (RESET_PULLUP_OHMS * (1 - rules.resistor_tolerance)) * 1e3
+
+
+def _candidates(design, stock, family, rules, options, weights, setting=None) -> list[_Candidate]:
+    """Every stage-layer network the stock allows for ``design`` (its registers' view), proven, with its problem."""
+    view = register_view(design)
     names = tuple(t.tube for t in stock.tubes)
     limit = _fanout_limits(family, names)
     found, seen = [], set()
     variants, fanin = _synthesis_variants(stock, family, rules, options)
     for label, synth in variants:
-        network = synthesise(design, synth).network
+        network = synthesise(view, synth).network
         try:
             network = insert_followers(network, limit)
         except ValueError as problem:
@@ -130,11 +163,18 @@ def _candidates(design, stock, family, rules, options, weights) -> list[_Candida
         if key in seen:
             continue
         seen.add(key)
-        prove(network, design)
+        prove(network, view)  # outputs, next states and their complements, before any plan is made
+        registers, stuck_registers = ((), [])
+        reset_ma = 0.0
+        if setting is not None:
+            registers, stuck_registers = register_classes(design, network, setting.bistables, stock.tubes)
+            reset_ma = _reset_ma(stock, rules)
         # Every network may use every template the stock allows (diode ANDs included).
-        problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin)
+        problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin, registers=registers,
+                                      fixed_plate_ma=reset_ma, fixed_bias_ma=reset_ma)
         loads = network.load_counts()
         stuck = [f"stage {s.id} ({s.view}, {loads[s.output]} loads)" for s in network.stages if not ways[s.id]]
+        stuck += stuck_registers
         reason = ""
         if stuck:
             reason = "no stocked type has a template for " + ", ".join(stuck[:5]) + (
@@ -156,13 +196,17 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     """The cheapest plan for ``design`` within ``stock`` and its supplies, proven; or :class:`Shortage`.
 
     Steps: the logic family for the stocked types (each at its condition, or
-    the rules' wear); the stage networks the stock allows (see
-    :func:`_synthesis_variants`), each with followers wherever no stocked
-    template can drive a net's loads, each proven against the design; the
+    the rules' wear); with registers, a bistable for each stocked dual triode
+    on one shared clock and the logic between the registers
+    (:func:`planner.mapping.registers.register_view`); the stage networks the
+    stock allows (see :func:`_synthesis_variants`), each with followers
+    wherever no stocked template can drive a net's loads, each proven against
+    the design (next states and their complements included); the
     aggregated integer program for each (:mod:`planner.mapping.model`); the
     best plan over all of them.  When none fits, the purchase and overloads
     that would make one fit (the fewest envelopes bought over all networks)
-    are raised as :class:`Shortage`.  Deterministic for equal inputs.
+    are raised as :class:`Shortage`.  The plan carries its timing estimate
+    (:func:`planner.mapping.timing.plan_timing`).  Deterministic for equal inputs.
     """
     start = time.monotonic()
     deadline = start + options.time_limit_s
@@ -174,7 +218,8 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
     family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
     weights = _weights(stock, options)
-    candidates = _candidates(design, stock, family, rules, options, weights)
+    setting = _register_setting(design, stock, family, tubes) if design.registers else None
+    candidates = _candidates(design, stock, family, rules, options, weights, setting)
     best = None
     for cand in candidates:
         if cand.problem is None:
@@ -191,13 +236,17 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     if best is None:
         raise _shortage(candidates, family, stock, options, deadline)
     cand, counts = best
-    placement = place(cand.network, cand.problem, counts)
+    placement = place(cand.network, cand.problem, counts, tuple(r.name for r in design.registers))
     last = counts.levels[-1]
     solution = Solution(options.solver, counts.status, last.value, last.lp_bound, last.gap,
                         time.monotonic() - start, weights.mode,
                         tuple((lv.criterion, lv.value, lv.lp_bound, lv.gap) for lv in counts.levels),
                         counts.terms, cand.label)
-    return build_plan(design, cand.network, family, stock, cand.problem, counts, placement, solution, rules)
+    plan = build_plan(design, cand.network, family, stock, cand.problem, counts, placement, solution, rules, setting)
+    options.say("mapping: estimating the timing")
+    timing, flips = plan_timing(plan, cand.network, placement, family, stock, rules, setting)
+    registers = tuple(replace(r, clock_to_q_seconds=flips[r.name]) for r in plan.registers)
+    return replace(plan, timing=timing, registers=registers)
 
 
 def _section_word(tube) -> str:
@@ -280,6 +329,9 @@ def _sections_used(problem: Problem, counts: Counts) -> dict[str, int]:
         for way, n in zip(cls.ways, row):
             used[way.tube] += n * sum(s for _k, s in way.demand)
             diodes += n * way.diodes
+    for cls, row in zip(problem.registers, counts.register_ways):
+        for way, n in zip(cls.ways, row):
+            used[way.tube] += 2 * n
     for kind in problem.kinds:
         if kind.diode_sections:
             used[kind.tube] = max(used[kind.tube], diodes)

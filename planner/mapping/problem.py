@@ -158,11 +158,15 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
     return tuple(ways)
 
 
-def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int) -> tuple[Problem, dict]:
+def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int, registers: tuple = (),
+                  fixed_plate_ma: float = 0.0, fixed_bias_ma: float = 0.0) -> tuple[Problem, dict]:
     """The aggregated problem of ``network`` and the ways of every stage (stage id -> ways).
 
     Classes are formed from stages with equal tuples of ways, in order of
-    their first stage.  Cost: one pass over the stages and their branches.
+    their first stage.  ``registers``: the register classes
+    (:func:`planner.mapping.registers.register_classes`); ``fixed_*``:
+    supply currents no choice changes (the reset line's).  Cost: one pass
+    over the stages and their branches.
     """
     kinds = tube_kinds(stock, family)
     loads = network.load_counts()
@@ -175,5 +179,5 @@ def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int)
         by_ways.setdefault(ways, []).append(stage.id)
     classes = tuple(StageClass((i,), tuple(ids), ways) for i, (ways, ids) in enumerate(by_ways.items()))
     supplies = Supplies(stock.plate.max_ma, stock.bias.max_ma,
-                        tuple((w.id, w.volts, w.max_amps) for w in stock.windings))
-    return Problem(kinds, classes, supplies, weights, stock.diodes == "vacuum-only"), ways_of
+                        tuple((w.id, w.volts, w.max_amps) for w in stock.windings), fixed_plate_ma, 0.0, fixed_bias_ma)
+    return Problem(kinds, classes, supplies, weights, stock.diodes == "vacuum-only", tuple(registers)), ways_of

@@ -1,0 +1,288 @@
+"""The plan's timing: every stage's delay, the critical path and, with registers, the highest safe clock.
+
+Static timing analysis (the arrival-time propagation of R. B. Hitchcock,
+"Timing verification and the timing analysis program", 19th Design
+Automation Conference, 1982; from memory). Every net carries, per edge
+(rising, falling), the latest time it crosses the family's midpoint and the
+shape of that edge (:class:`planner.electrical.Wave`); each stage, in
+topological order, turns its inputs' edges into its output's
+(:func:`planner.electrical.inverter_edge`, :func:`planner.electrical.follower_edge`).
+An inverting stage is negative unate (a falling input can only raise its
+output), a follower positive unate. Paths start at the primary inputs (their
+edges from the family's worst-case levels, as steps, at time 0: inputs change
+with the clock) and at the registers' outputs (the flip after the clock's
+falling edge, :func:`planner.electrical.flip_edges`); they end at the design
+outputs and at the registers' level inputs, where the next state must have
+settled ``setup_seconds`` before the next falling edge.
+
+The corner (:data:`CORNER`): nominal resistors and supplies, each tube type at
+its stock condition (its current is what a worn tube slows), the catalogue's
+capacitances and :data:`planner.electrical.WIRING_PF` of wiring on every node.
+Node capacitance: the sections' output capacitance on the node; a follower's
+grid (input and grid-plate capacitance) and a diode input's diode on it; a
+load's grid behind a plain divider adds nothing at the node (its capacitance
+acts behind R1, in the load's own delay), behind a speed-up capacitor C1 it
+adds C1 in series with the grid.
+
+The clock: its period must cover the slowest register-to-register path
+(clock to output, the logic, the setup time) and twice the longer of the
+shortest high phase (the steering nodes recover from the rising edge) and the
+shortest low phase (the steering pulse must last ``HOLD_FACTOR`` flips before
+the rising edge ends it), for a clock of even duty. The highest safe clock
+leaves :data:`MARGIN` on top of that period.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from planner.electrical import (DIODE_PF, HOLD_FACTOR, WIRING_PF, InverterTiming, Wave, flip_edges, follower_edge,
+                                inverter_edge)
+from planner.electrical.circuit import Load, ScreenFeed
+from planner.electrical.rules import DIODE_DROP_VOLTS
+
+from .assemble import Placement
+from .plan import Plan, StageTiming, Timing
+from .problem import branch_realisation
+from .registers import COMPLEMENT
+
+#: The period is taken this much longer than the estimate: the estimate agrees with ngspice within
+#: 25 % (tests/test_timing_ngspice.py), tube spread beyond the model's and wiring beyond the
+#: allowance come on top (common practice: derate a first build generously).
+MARGIN = 0.5
+
+CORNER = (f"nominal resistors and supplies, each tube type at its stock condition, the catalogue's "
+          f"capacitances and {WIRING_PF:g} pF of wiring per node (common practice)")
+
+RISE, FALL = "rise", "fall"
+
+
+@dataclass(frozen=True)
+class _Arrival:
+    """When a net's edge crosses the midpoint, its shape, and where the path came from."""
+
+    seconds: float
+    wave: Wave
+    prev: tuple[str, str] | None
+    origin: str
+
+
+class _Nets:
+    """Loads and capacitance of every net of the placed network."""
+
+    def __init__(self, plan: Plan, network, placement: Placement, family, stock, rules):
+        self.family, self.stock, self.rules = family, stock, rules
+        self.vc = stock.bias.volts
+        drop_lo, drop_hi = DIODE_DROP_VOLTS.get(family.rules.diodes, (0.0, 0.0))
+        self.drop = 0.5 * (drop_lo + drop_hi)
+        self.loads: dict[str, list[Load]] = {}
+        self.farads: dict[str, float] = {}
+        heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
+        self.heavy = Load(heavy.upper_ohms, heavy.lower_ohms, self.vc, self.tube(heavy.tube))
+        for stage in network.stages:
+            way = placement.ways[stage.id]
+            tube = self.tube(way.tube)
+            if stage.kind == "follower":
+                self._add(stage.input, None, (tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0))
+                self._add(stage.output, None, tube.c_out_pf or 0.0)
+                continue
+            for branch in stage.branches:
+                self._add(stage.output, None, tube.c_out_pf or 0.0)
+                for position, net in enumerate(branch.inputs):
+                    role = input_role(way.template, len(branch.inputs), position)
+                    rec = family.receivers[(way.tube, role)]
+                    if role == "diode":
+                        self._add(net, self.receiver_load(rec, tube), DIODE_PF)
+                        continue
+                    c1 = rec.speedup_pf or 0.0
+                    grid = (tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0) + WIRING_PF
+                    self._add(net, self.receiver_load(rec, tube), c1 * grid / (c1 + grid) if c1 else 0.0)
+        for _name, net in plan.outputs:
+            self._add(net, self.heavy, 0.0)
+
+    def tube(self, name: str):
+        return self.stock.catalogue.get(name)
+
+    def wear(self, name: str) -> float:
+        entry = next((t for t in self.stock.tubes if t.tube == name), None)
+        return entry.condition if entry is not None and entry.condition is not None else self.rules.wear
+
+    def receiver_load(self, rec, tube) -> Load:
+        """A receiver as a concrete load at nominal values (a diode input with its gate node)."""
+        if rec.grid_role != "diode":
+            return Load(rec.upper_ohms, rec.lower_ohms, self.vc, tube)
+        return Load(rec.upper_ohms, rec.lower_ohms, self.vc, tube, self.drop, rec.pullup_ohms, self.stock.plate.volts)
+
+    def _add(self, net: str, load: Load | None, pf: float) -> None:
+        self.farads[net] = self.farads.get(net, WIRING_PF * 1e-12) + pf * 1e-12
+        self.loads.setdefault(net, [])
+        if load is not None:
+            self.loads[net].append(load)
+
+    def load_pairs(self, net: str, extra: tuple[Load, ...] = ()) -> tuple[tuple[int, Load], ...]:
+        return tuple((1, ld) for ld in tuple(self.loads.get(net, ())) + extra)
+
+    def node_farads(self, net: str) -> float:
+        return self.farads.get(net, WIRING_PF * 1e-12)
+
+
+def input_role(template: str, width: int, position: int) -> str:
+    """The receiver role of input ``position`` of a ``width``-input branch built with ``template``.
+
+    >>> input_role("dual", 2, 1), input_role("dual", 1, 0), input_role("diode", 3, 2)
+    ('grid3', 'grid', 'diode')
+    """
+    return branch_realisation(template, width).roles[min(position, len(branch_realisation(template, width).roles) - 1)]
+
+
+def _gate_wave(nets: _Nets, rec, width: int, drive: Wave, mid: float) -> Wave:
+    """The diode-AND gate node's edge when one input makes ``drive``: it follows a falling input one
+    drop above; a rising one only as fast as the pull-up charges the node (wiring and the diodes)."""
+    d = nets.drop
+    if drive.to_volts < drive.from_volts:
+        return Wave(drive.from_volts + d, drive.to_volts + d, drive.shape, drive.seconds)
+    vb, top = nets.stock.plate.volts, rec.upper_ohms + rec.lower_ohms
+    opened = (vb / rec.pullup_ohms + nets.vc / top) / (1 / rec.pullup_ohms + 1 / top)
+    tau = (WIRING_PF + width * DIODE_PF) * 1e-12 / (1 / rec.pullup_ohms + 1 / top)
+    follows = Wave(drive.from_volts + d, drive.to_volts + d, drive.shape, drive.seconds)
+    charged = Wave(drive.from_volts + d, min(drive.to_volts + d, opened), "exponential", tau)
+    return follows if follows.crossing_seconds(mid) >= charged.crossing_seconds(mid) else charged
+
+
+def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, drive: Wave, mid: float):
+    """The output edge of ``stage`` when input ``position`` of ``branch`` makes ``drive``, timed from
+    that input's midpoint crossing."""
+    tube = nets.tube(way.tube)
+    role = input_role(way.template, len(branch.inputs), position)
+    rec = nets.family.receivers[(way.tube, role)]
+    feed = None if driver.screen_series_ohms is None else ScreenFeed(driver.screen_series_ohms,
+                                                                     driver.screen_shunt_ohms)
+    model = InverterTiming(tube, nets.wear(way.tube), nets.stock.plate.volts, driver.plate_load_ohms,
+                           Load(rec.upper_ohms, rec.lower_ohms, nets.vc, tube), nets.load_pairs(stage.output),
+                           nets.node_farads(stage.output), ((tube.c_in_pf or 0.0) + WIRING_PF) * 1e-12, feed,
+                           "grid3" if role == "grid3" else "grid", 0.0, (rec.speedup_pf or 0.0) * 1e-12)
+    wave, shift = drive, 0.0
+    if role == "diode":
+        wave = _gate_wave(nets, rec, len(branch.inputs), drive, mid)
+        shift = wave.crossing_seconds(mid) - drive.crossing_seconds(mid)
+    edge = inverter_edge(model, wave, mid)
+    return edge.seconds + shift, edge.output
+
+
+def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules, setting
+                ) -> tuple[Timing, dict[str, float]]:
+    """The timing of a built plan (module docstring), and each register's clock-to-output time.
+
+    Cost: two edges per stage input (each a threshold search and a grid scan,
+    about 2 ms) and two flips per register.
+    """
+    nets = _Nets(plan, network, placement, family, stock, rules)
+    high, low, accept = family.high_min_volts, family.low_max_volts, family.follower_low_max_volts
+    mid = 0.5 * (high + low)
+    arrivals: dict[tuple[str, str], _Arrival] = {}
+    for net in network.primary_nets:
+        origin = f"input {net.lstrip(COMPLEMENT)}"
+        arrivals[(net, RISE)] = _Arrival(0.0, Wave(accept, high), None, origin)
+        arrivals[(net, FALL)] = _Arrival(0.0, Wave(high, accept), None, origin)
+    flips = _register_flips(plan, nets, setting, mid, arrivals)
+    stage_rows = []
+    for stage in network.stages:
+        way = placement.ways[stage.id]
+        out: dict[str, _Arrival] = {}
+        worst = {RISE: 0.0, FALL: 0.0}
+        if stage.kind == "follower":
+            follower = family.followers[way.tube]
+            tube = nets.tube(way.tube)
+            for e in (RISE, FALL):
+                src = arrivals[(stage.input, e)]
+                edge = follower_edge(tube, nets.wear(way.tube), stock.plate.volts, follower.cathode_load_ohms, nets.vc,
+                                     nets.load_pairs(stage.output), nets.node_farads(stage.output),
+                                     follower.grid_stopper_ohms, src.wave, mid)
+                out[e] = _Arrival(src.seconds + edge.seconds, edge.output, (stage.input, e), src.origin)
+                worst[e] = edge.seconds
+        else:
+            driver = family.drivers[(way.tube, way.template)]
+            for branch in stage.branches:
+                for position, net in enumerate(branch.inputs):
+                    for e_in, e_out in ((FALL, RISE), (RISE, FALL)):
+                        src = arrivals[(net, e_in)]
+                        delay, wave = _inverter_delay(nets, stage, way, driver, branch, position, src.wave, mid)
+                        worst[e_out] = max(worst[e_out], delay)
+                        if e_out not in out or src.seconds + delay > out[e_out].seconds:
+                            out[e_out] = _Arrival(src.seconds + delay, wave, (net, e_in), src.origin)
+        for e, arrival in out.items():
+            arrivals[(stage.output, e)] = arrival
+        stage_rows.append(StageTiming(stage.id, stage.output, worst[RISE], worst[FALL]))
+    return _summary(plan, arrivals, tuple(stage_rows), flips, setting, mid), flips
+
+
+def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict) -> dict[str, float]:
+    """Arrivals of every register's outputs after the clock's falling edge; register -> clock to q."""
+    out = {}
+    for reg in plan.registers:
+        b = setting.bistables[reg.tube]
+        tube = nets.tube(reg.tube)
+        own = Load(b.upper_ohms, b.lower_ohms, nets.vc, tube)
+        grid = b.grid_node_pf
+        c_series = b.commutating_pf * grid / (b.commutating_pf + grid)
+        base = ((tube.c_out_pf or 0.0) + c_series) * 1e-12
+        latest = 0.0
+        for rising, falling in ((reg.output, reg.complement), (reg.complement, reg.output)):
+            up, down = flip_edges(tube, nets.wear(reg.tube), nets.stock.plate.volts, b.plate_load_ohms, own,
+                                  b.commutating_pf * 1e-12, grid * 1e-12, nets.load_pairs(rising, (own,)),
+                                  nets.load_pairs(falling, (own,)),
+                                  base + nets.node_farads(rising) + (tube.c_gp_pf or 0.0) * 1e-12,
+                                  base + nets.node_farads(falling), mid)
+            origin = f"register {reg.name}"
+            arrivals[(rising, RISE)] = _Arrival(up.seconds, up.output, None, origin)
+            arrivals[(falling, FALL)] = _Arrival(down.seconds, down.output, None, origin)
+            latest = max(latest, up.seconds, down.seconds)
+        out[reg.name] = latest
+    return out
+
+
+def _settle(wave: Wave, mid: float) -> float:
+    """How long an edge takes from its midpoint crossing to its end (ten time constants, for an exponential)."""
+    return wave.end_seconds() - wave.crossing_seconds(mid)
+
+
+def _path(arrivals: dict, key: tuple[str, str]) -> tuple[str, ...]:
+    nets = []
+    while key is not None:
+        nets.append(key[0])
+        key = arrivals[key].prev
+    return tuple(reversed(nets))
+
+
+def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: float) -> Timing:
+    ends = []  # (seconds, (net, edge), end label)
+    outputs = 0.0
+    for name, net in plan.outputs:
+        for e in (RISE, FALL):
+            if (net, e) in arrivals:
+                seconds = arrivals[(net, e)].seconds
+                outputs = max(outputs, seconds)
+                ends.append((seconds, (net, e), f"output {name}"))
+    wiring, corner = WIRING_PF, CORNER
+    if not plan.registers:
+        seconds, key, label = max(ends, key=lambda x: (x[0], x[2]), default=(0.0, None, ""))
+        path = _path(arrivals, key) if key else ()
+        start = arrivals[key].origin if key else ""
+        return Timing(stages, path, seconds, start, label, outputs, wiring, MARGIN, corner)
+    reg_ends = []
+    for reg in plan.registers:
+        b = setting.bistables[reg.tube]
+        for net in (reg.next, reg.next_complement):
+            for e in (RISE, FALL):
+                a = arrivals[(net, e)]
+                reg_ends.append((a.seconds + _settle(a.wave, mid) + b.setup_seconds, (net, e), f"register {reg.name}"))
+    seconds, key, label = max(reg_ends, key=lambda x: (x[0], x[2]))
+    high_min = max(setting.bistables[r.tube].recovery_seconds for r in plan.registers)
+    low_min = HOLD_FACTOR * max(flips.values())
+    period = max(seconds, 2 * max(high_min, low_min))
+    return Timing(stages, _path(arrivals, key), seconds, arrivals[key].origin, label, outputs, wiring, MARGIN, corner,
+                  max(flips.values()), max(setting.bistables[r.tube].setup_seconds for r in plan.registers),
+                  high_min, low_min, period, 1.0 / (period * (1 + MARGIN)))
+
+
+__all__ = ["CORNER", "MARGIN", "input_role", "plan_timing"]
