@@ -96,6 +96,14 @@ def _expand(space: Space, terms: list[_Term], on: int, off: int) -> list[_Term]:
     return out
 
 
+def _suffix_unions(terms: list[_Term]) -> list[int]:
+    """``u[i]`` = union of the bits of ``terms[i:]`` (``u[len(terms)] = 0``); one OR per term."""
+    u = [0] * (len(terms) + 1)
+    for i in range(len(terms) - 1, -1, -1):
+        u[i] = u[i + 1] | terms[i].bits
+    return u
+
+
 def _irredundant(terms: list[_Term], on: int, dc: int, prefer: int | None = None) -> list[_Term]:
     """IRREDUNDANT: drop cubes covered by the others, most literals tried first.
 
@@ -107,9 +115,7 @@ def _irredundant(terms: list[_Term], on: int, dc: int, prefer: int | None = None
         order = sorted(terms, key=lambda t: (-t.mask.bit_count(), t.mask, t.value))
     else:
         order = sorted(terms[:prefer], key=lambda t: (-t.mask.bit_count(), t.mask, t.value)) + terms[prefer:]
-    suffix = [0] * (len(order) + 1)
-    for i in range(len(order) - 1, -1, -1):
-        suffix[i] = suffix[i + 1] | order[i].bits
+    suffix = _suffix_unions(order)
     kept_union = dc
     kept = []
     for i, t in enumerate(order):
@@ -147,9 +153,7 @@ def _reduce(space: Space, terms: list[_Term], on: int, dc: int) -> list[_Term]:
     Cost: O(number of cubes * n) big-integer operations.
     """
     order = sorted(terms, key=lambda t: (t.mask.bit_count(), t.mask, t.value))
-    suffix = [0] * (len(order) + 1)
-    for i in range(len(order) - 1, -1, -1):
-        suffix[i] = suffix[i + 1] | order[i].bits
+    suffix = _suffix_unions(order)
     done_union = dc
     out = []
     for i, t in enumerate(order):
@@ -171,11 +175,9 @@ def _last_gasp(space: Space, terms: list[_Term], on: int, dc: int, off: int) -> 
     """
     k = len(terms)
     prefix = [0] * (k + 1)
-    suffix = [0] * (k + 1)
     for i in range(k):
         prefix[i + 1] = prefix[i] | terms[i].bits
-    for i in range(k - 1, -1, -1):
-        suffix[i] = suffix[i + 1] | terms[i].bits
+    suffix = _suffix_unions(terms)
     reduced = []
     for i, t in enumerate(terms):
         others = prefix[i] | suffix[i + 1] | dc
