@@ -355,3 +355,16 @@ def test_followers_are_placed_and_wired(tmp_path):
         assert cathode_loads and cathode_loads[0].pins == (("1", stage.output), ("2", "BIAS"))
         stoppers = [p for p in plan.parts if p.role == "grid stopper" and p.stage == stage.id]
         assert stoppers[0].pins == (("1", stage.input), ("2", f"{stage.output}.g1"))
+
+
+def test_one_input_branches_get_no_needless_diodes(tmp_path):
+    """Solid-state diodes cost nothing in the objective; a one-input branch must still not get one."""
+    from planner.cli import DEMO_DESIGN, DEMO_STOCK
+    from planner.mapping import MappingOptions, plan_design
+    from planner.spec import load_design, load_stock
+
+    plan = plan_design(load_design(DEMO_DESIGN), load_stock(DEMO_STOCK), MappingOptions())
+    for stage in plan.stages:
+        for branch in stage.branches:
+            if len(branch.inputs) == 1 and len(stage.branches) == 1:
+                assert branch.means != "diode", stage
