@@ -276,7 +276,7 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
     problem = cand.problem
     purchase = {k.tube: n for k, n in zip(problem.kinds, counts.purchase) if n}
     overloads = {w: v for w, v in counts.overloads if v > 1e-9}
-    words = []
+    needs = []
     sections_used = _sections_used(problem, counts)
     for kind, bought in zip(problem.kinds, counts.purchase):
         if not bought:
@@ -302,7 +302,9 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
                 n = dict(zip((k.tube for k in problem.kinds), trial.purchase))[other.tube]
                 alts.append(f"{n} x {other.tube}")
         plural = "s" if short != 1 else ""
-        words.append(f"needs {short} more {word} section{plural}: " + " or ".join(alts))
+        needs.append(f"{short} more {word} section{plural}: " + " or ".join(alts))
+    # Every purchase listed is needed together; the alternatives after "or" replace one item.
+    words = ["needs " + "; and ".join(needs)] if needs else []
     for what, amount in sorted(overloads.items()):
         if what == "plate":
             words.append(f"plate supply over by {amount:.1f} mA")
