@@ -221,15 +221,8 @@ def _first_crossing(f, t_max: float, samples: int = 512) -> float:
 
 
 def grid_crossing_seconds(stage: InverterTiming, drive: Wave, threshold_volts: float) -> float:
-    """When the switching grid passes ``threshold_volts`` after the driving node starts ``drive``.
-
-    The grid obeys ``tau dV/dt = tap(t) - V`` (plus ``a tau d(input)/dt``
-    with a speed-up capacitor, ``a = C1 / (C1 + C_grid)``), ``tap`` being the
-    divider's open-circuit voltage as the driving node moves: a first-order
-    lag of the drive, in closed form (:meth:`Wave.rc_response`). A grid held
-    at its clamp (a high input) starts to fall only once the tap passes below
-    it, so the drive is taken from that moment. The first crossing is found by
-    a scan and Brent's method.
+    """When the switching grid passes ``threshold_volts`` after the driving node starts ``drive``
+    (the second figure of :func:`grid_times`).
 
     >>> from planner.catalogue import builtin_catalogue
     >>> t = builtin_catalogue().get("12AU7")
@@ -239,6 +232,20 @@ def grid_crossing_seconds(stage: InverterTiming, drive: Wave, threshold_volts: f
     >>> # it passes -5 V after tau ln(64 / 30)
     >>> round(grid_crossing_seconds(st, Wave(12.0, 140.0), -5.0) * 1e6, 2)
     4.19
+    """
+    return grid_times(stage, drive, threshold_volts)[1]
+
+
+def grid_times(stage: InverterTiming, drive: Wave, threshold_volts: float) -> tuple[float, float]:
+    """(when the switching grid starts to move, when it passes ``threshold_volts``) after ``drive`` starts.
+
+    The grid obeys ``tau dV/dt = tap(t) - V`` (plus ``a tau d(input)/dt``
+    with a speed-up capacitor, ``a = C1 / (C1 + C_grid)``), ``tap`` being the
+    divider's open-circuit voltage as the driving node moves: a first-order
+    lag of the drive, in closed form (:meth:`Wave.rc_response`). A grid held
+    at its clamp (a high input) starts to fall only once the tap passes below
+    it, so the drive is taken from that moment. The first crossing is found by
+    a scan and Brent's method.
     """
     div = stage.divider
     g0 = load_state(div, drive.from_volts).grid_volts
@@ -263,7 +270,7 @@ def grid_crossing_seconds(stage: InverterTiming, drive: Wave, threshold_volts: f
 
     if (tap_to - threshold_volts) * (g0 - threshold_volts) > 0:
         raise ValueError(f"the grid heads for {tap_to:.1f} V and never passes {threshold_volts:.1f} V")
-    return offset + _first_crossing(grid, wave.end_seconds() + 20.0 * tau)
+    return offset, offset + _first_crossing(grid, wave.end_seconds() + 20.0 * tau)
 
 
 def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
@@ -276,7 +283,8 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     resistance, a linear ramp, lagging by one time constant of the node
     against ``RL || r_p || loads``. A rising output is the slower of that
     ramp and the RC charge of its node through the plate load (an
-    exponential edge). Cost: one threshold search (about 15 plate solves), a
+    exponential edge, starting halfway through the grid's travel to its
+    threshold, as the section's current falls along it). Cost: one threshold search (about 15 plate solves), a
     grid scan of 512 closed-form points and a few plate solves.
 
     >>> from planner.catalogue import builtin_catalogue
@@ -289,7 +297,7 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     """
     tube, div = stage.tube, stage.divider
     vt = threshold_grid_volts(stage, mid_volts)
-    t_x = grid_crossing_seconds(stage, drive, vt)
+    t_release, t_x = grid_times(stage, drive, vt)
     g0 = load_state(div, drive.from_volts).grid_volts
     p0 = stage.plate_volts(g0)
     p1 = stage.plate_volts(load_state(div, drive.to_volts).grid_volts)
@@ -306,7 +314,10 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
         tau = c_node / g_node
         t_rc = tau * math.log((p1 - p0) / (p1 - mid_volts))
         if t_rc >= plateau_mid:
-            return Edge(True, t_x + t_rc - t_in, t_x, Wave(p0, p1, "exponential", tau))
+            # The section's current falls while the grid travels to its threshold: the node starts
+            # charging, on average, halfway through that travel.
+            start = 0.5 * (t_release + t_x)
+            return Edge(True, start + t_rc - t_in, t_x, Wave(p0, p1, "exponential", tau))
         return Edge(True, t_x + plateau_mid - t_in, t_x, Wave(p0, p1, "ramp", plateau_full))
     lag = c_node / (g_node + 1.0 / _plate_resistance(stage, mid_volts, vt))
     return Edge(False, t_x + plateau_mid + lag - t_in, t_x, Wave(p0, p1, "ramp", plateau_full))
@@ -347,4 +358,4 @@ def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load
 
 
 __all__ = ["DIODE_PF", "WIRING_PF", "Edge", "InverterTiming", "Wave", "follower_edge", "grid_crossing_seconds",
-           "inverter_edge", "threshold_grid_volts"]
+           "grid_times", "inverter_edge", "threshold_grid_volts"]

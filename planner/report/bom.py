@@ -92,7 +92,7 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
             key = ("resistor", part.ohms or 0.0, part.watts_rating or 0.0, part.tolerance or 0.0, part.value)
             groups[key].append(part.ref)
         elif part.kind in ("diode", "capacitor"):
-            groups[(part.kind, part.farads or 0.0, 0.0, 0.0, part.value)].append(part.ref)
+            groups[(part.kind, part.farads or 0.0, part.volts_rating or 0.0, 0.0, part.value)].append(part.ref)
     order = {group: i for i, group in enumerate(GROUPS)}
     for key in sorted(groups, key=lambda k: (order[k[0]], k[1], k[2], k[3], k[4])):
         kind, _, rating, tolerance, value = key
@@ -101,7 +101,9 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
             text = " ".join(x for x in (f"{value} ohm resistor", _watts(rating or None),
                                         _percent(tolerance or None)) if x)
         elif kind == "capacitor":
-            text = f"{value} capacitor"
+            text = f"{value} capacitor" + (f", rated at least {rating:.0f} V" if rating else "")
+        elif rating > plan.plate_volts - plan.bias_volts:  # register steering: B+ and the clock step
+            text = f"{value}, rated at least {rating:.0f} V reverse"
         else:  # an AND diode may see up to the whole span between the rails in reverse
             text = f"{value}, rated at least {plan.plate_volts - plan.bias_volts:g} V reverse (the B+ to BIAS span)"
         rows.append((kind, len(refs), text, refs, prices.get(kind), None, None))

@@ -2,7 +2,7 @@
 
 The required fields are the contract in DESIGN.md ("The plan document"); the
 extra fields (levels, views, resistor values, the parts netlist, the solver's
-account) are allowed by it. The solver's wall-clock time is left out so that
+account, the registers with their clock, the timing estimate) are allowed by it. The solver's wall-clock time is left out so that
 the same plan always gives the same bytes.
 """
 
@@ -40,13 +40,47 @@ def _stage(stage) -> dict:
 def _part(part) -> dict:
     entry = {"ref": part.ref, "kind": part.kind, "value": part.value, "role": part.role,
              "stage": part.stage, "pins": [{"pin": pin, "net": net} for pin, net in part.pins]}
-    for name in ("ohms", "farads", "watts_rating", "dissipation_watts", "tolerance"):
+    for name in ("ohms", "farads", "watts_rating", "dissipation_watts", "tolerance", "volts_rating"):
         value = getattr(part, name)
         if value is not None:
             entry[name] = _num(value)
     if part.tube is not None:
         entry["tube"] = part.tube
     return entry
+
+
+def _register(reg) -> dict:
+    return {"name": reg.name, "next": reg.next, "next_complement": reg.next_complement, "output": reg.output,
+            "complement": reg.complement, "reset": reg.reset, "envelope": reg.envelope, "tube": reg.tube,
+            "form": reg.form, "fanout": reg.fanout, "fanout_limit": reg.fanout_limit,
+            "plate_load_ohms": _num(reg.plate_load_ohms), "upper_ohms": _num(reg.upper_ohms),
+            "lower_ohms": _num(reg.lower_ohms), "commutating_farads": _num(reg.commutating_farads),
+            "steering_farads": _num(reg.steering_farads), "steering_ohms": _num(reg.steering_ohms),
+            "supply_ma_worst": _num(reg.supply_ma_worst), "supply_ma_typical": _num(reg.supply_ma_typical),
+            "bias_ma_worst": _num(reg.bias_ma_worst), "clock_to_q_seconds": _num(reg.clock_to_q_seconds),
+            "setup_seconds": _num(reg.setup_seconds)}
+
+
+def _clock(clock) -> dict | None:
+    if clock is None:
+        return None
+    return {"net": clock.net, "reset_net": clock.reset_net, "swing_volts": _num(clock.swing_volts),
+            "swing_min_volts": _num(clock.swing_min_volts), "swing_max_volts": _num(clock.swing_max_volts),
+            "tolerance": _num(clock.tolerance), "fall_seconds_max": _num(clock.fall_seconds_max),
+            "load_farads": _num(clock.load_farads), "reset_pullup_ohms": _num(clock.reset_pullup_ohms)}
+
+
+def _timing(t) -> dict | None:
+    if t is None:
+        return None
+    return {"path": list(t.path), "path_seconds": _num(t.path_seconds), "start": t.start, "end": t.end,
+            "output_seconds": _num(t.output_seconds), "clock_to_q_seconds": _num(t.clock_to_q_seconds),
+            "setup_seconds": _num(t.setup_seconds), "high_seconds_min": _num(t.high_seconds_min),
+            "low_seconds_min": _num(t.low_seconds_min), "min_period_seconds": _num(t.min_period_seconds),
+            "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz), "wiring_pf": _num(t.wiring_pf),
+            "corner": t.corner,
+            "stages": [{"id": s.id, "output": s.output, "rise_seconds": _num(s.rise_seconds),
+                        "fall_seconds": _num(s.fall_seconds)} for s in t.stages]}
 
 
 def plan_document(plan: Plan) -> dict:
@@ -66,6 +100,9 @@ def plan_document(plan: Plan) -> dict:
                    "high_volts": _num(plan.high_volts), "low_volts": _num(plan.low_volts),
                    "follower_low_volts": _num(plan.follower_low_volts)},
         "stages": [_stage(stage) for stage in plan.stages],
+        "registers": [_register(reg) for reg in plan.registers],
+        "clock": _clock(plan.clock),
+        "timing": _timing(plan.timing),
         "envelopes": [{"ref": e.ref, "tube": e.tube, "base": e.base, "winding": e.winding,
                        "heater_connection": e.heater_connection, "heater_volts": _num(e.heater_volts),
                        "heater_amps": _num(e.heater_amps),

@@ -11,6 +11,7 @@ from .cautions import CAUTIONS
 from .content import ReportContent
 from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
                      stock_table, wiring_table)
+from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
 
 CSS = """
 :root { --ink: #1d232b; --muted: #5a6470; --line: #d5dae0; --band: #f3f5f7; --accent: #2f5d8a;
@@ -121,8 +122,22 @@ def _figure(value: str, caption: str) -> str:
 
 
 SECTIONS = (("summary", "Summary"), ("stock", "Stock"), ("budgets", "Budgets"), ("stages", "Stages"),
-            ("drawings", "Stage drawings"), ("bom", "Bill of materials"), ("wiring", "Wiring list"),
-            ("safety", "Safety"))
+            ("timing", "Registers and timing"), ("drawings", "Stage drawings"), ("bom", "Bill of materials"),
+            ("wiring", "Wiring list"), ("safety", "Safety"))
+
+
+def _timing_section(plan) -> list[str]:
+    """Registers (with what the clock must do) and the timing estimate."""
+    out = ['<h2 id="timing">Registers and timing</h2>']
+    if plan.registers:
+        out += ["<h3>Registers</h3>", _table(register_table(plan))]
+        out += [f"<p>{escape(text)}</p>" for text in clock_lines(plan)]
+    else:
+        out.append('<p class="note">The design has no registers.</p>')
+    if plan.timing is not None:
+        out += ["<h3>Timing</h3>"] + [f"<p>{escape(text)}</p>" for text in timing_lines(plan)]
+        out.append(_table(stage_timing_table(plan)))
+    return out
 
 
 def report_html(content: ReportContent) -> str:
@@ -172,6 +187,7 @@ def report_html(content: ReportContent) -> str:
            f'{b.resistor_watts:.2f} W of it.</p>',
            '<h3>Resistor dissipation</h3>', *_resistors(b),
            '<h2 id="stages">Stages</h2>', _table(stage_table(plan)),
+           *_timing_section(plan),
            '<h2 id="drawings">Stage drawings</h2>',
            '<p class="note">One drawing per stage template (stages built alike share one), with the resistor '
            'values of the first stage that uses it. B+ is the plate supply, BIAS the negative rail.</p>']

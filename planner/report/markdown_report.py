@@ -9,6 +9,7 @@ from .cautions import CAUTIONS
 from .content import ReportContent
 from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
                      stock_table, wiring_table)
+from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
 
 _BAR = 30
 
@@ -77,7 +78,14 @@ def report_markdown(content: ReportContent) -> str:
             f"{b.resistor_watts:.2f} W of it.", "",
             "### Resistor dissipation", "", markdown_table(resistor_table(b)), "",
             "## Stages", "", markdown_table(stage_table(plan)), "",
-            "Drawings of the stage templates are in report.html.", "",
+            "Drawings of the stage templates are in report.html.", ""]
+    if plan.registers:
+        out += ["## Registers and clock", "", markdown_table(register_table(plan)), ""]
+        out += [line for text in clock_lines(plan) for line in (text, "")]
+    if plan.timing is not None:
+        out += ["## Timing", ""] + [line for text in timing_lines(plan) for line in (text, "")]
+        out += [markdown_table(stage_timing_table(plan)), ""]
+    out += [
             "## Bill of materials", "", markdown_table(bom_table(content.bom)), "",
             "## Wiring list", "", markdown_table(wiring_table(content.wiring)), ""]
     out += _cautions()

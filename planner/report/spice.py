@@ -5,8 +5,11 @@ netlist, tube sections as the catalogue's subcircuits (``spice_subcircuit``,
 the same equations as the Python models), the rails (B+, BIAS, GND = node 0),
 one source per primary input (and its complement, where declared) whose logic
 value is a ``.param in_NAME=0|1`` line, a 0 V source naming each design
-output's node ``out_NAME``, and an ``.op`` analysis. Heater pins are not part
-of the DC logic circuit and are left out.
+output's node ``out_NAME``, and an ``.op`` analysis. With registers, a clock
+source ``V_clk`` idling at the clock's swing (a falling step to 0 V clocks the
+registers) and a ``.nodeset`` putting each bistable in its reset state (a
+bistable has two stable operating points; the node set picks one). Heater pins
+are not part of the DC logic circuit and are left out.
 """
 
 from __future__ import annotations
@@ -43,6 +46,7 @@ class SpiceDeck:
     nodes: tuple[tuple[str, str], ...]
     high_volts: float
     low_volts: float
+    clock_node: str | None = None
 
     def with_inputs(self, values: Mapping[str, int]) -> str:
         """The deck text with each input's ``.param`` line set to ``values[input]`` (0 or 1)."""
@@ -129,6 +133,16 @@ def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
         if complement:
             lines.append(f"V_not_{p} {nodes['~' + name]} 0 "
                          f"{{(1-{p})*logic_high + {p}*logic_low}}")
+    clock_node = None
+    if plan.clock is not None:
+        clock_node = nodes[plan.clock.net]
+        lines += ["", "* clock: idles at its swing; a falling step to 0 V clocks the registers",
+                  f"V_clk {clock_node} 0 {_num(plan.clock.swing_volts)}",
+                  "* registers start in their reset states",
+                  ".nodeset " + " ".join(
+                      f"v({nodes[net]})={_num(plan.high_volts if high else plan.low_volts)}"
+                      for reg in plan.registers
+                      for net, high in ((reg.output, reg.reset == 1), (reg.complement, reg.reset == 0)))]
     lines += ["", "* design outputs"]
     lines += [f"V_{out_nodes[name]} {nodes[net]} {out_nodes[name]} 0" for name, net in sorted(plan.outputs)]
 
@@ -164,7 +178,7 @@ def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
     lines += ["", ".op", ".end", ""]
     return SpiceDeck("\n".join(lines), tuple((n, params[n]) for n, _ in plan.inputs),
                      tuple(sorted(out_nodes.items())), tuple(sorted(nodes.items())),
-                     plan.high_volts, plan.low_volts)
+                     plan.high_volts, plan.low_volts, clock_node)
 
 
 def ngspice_path() -> str | None:

@@ -8,6 +8,7 @@ from planner.mapping import Plan
 
 from .budgets import plan_budgets
 from .designators import ranges
+from .timing_text import clock_lines, register_table, timing_lines
 
 
 def plan_summary(plan: Plan) -> str:
@@ -16,7 +17,9 @@ def plan_summary(plan: Plan) -> str:
     Shows per tube type the envelopes used, left in stock and kept in
     reserve; per heater winding the amps and watts against its rating; the
     plate supply (worst case and typical) and the bias supply in mA; the
-    objective, the LP relaxation bound and the relative gap.
+    registers and what the clock must do; the critical path and, with
+    registers, the highest safe clock; the objective, the LP relaxation bound
+    and the relative gap.
     """
     budgets = plan_budgets(plan)
     tube_rows = [[s.tube, s.used, s.on_hand - s.used, s.reserve, "yes" if s.scarce else ""]
@@ -39,8 +42,12 @@ def plan_summary(plan: Plan) -> str:
              tabulate(supply_rows, headers=["supply", "volts", "load", "available", "power", "heaters"]),
              "",
              f"heat to get rid of: {budgets.heat_watts:.1f} W (heaters {budgets.heater_watts:.1f} W)",
-             f"logic levels: high {plan.high_volts:g} V, low {plan.low_volts:g} V",
-             tabulate([[s.solver, s.status, f"{s.objective:.4g}", f"{s.lp_bound:.4g}", f"{s.gap * 100:.2f} %",
-                        f"{s.seconds:.1f} s"]],
-                      headers=["solver", "status", "objective", "LP bound", "gap", "time"])]
+             f"logic levels: high {plan.high_volts:g} V, low {plan.low_volts:g} V"]
+    if plan.registers:
+        table = register_table(plan)
+        lines += ["", tabulate([list(row) for row in table.rows], headers=list(table.headers))] + clock_lines(plan)
+    if plan.timing is not None:
+        lines += [""] + timing_lines(plan)
+    lines += ["", tabulate([[s.solver, s.status, f"{s.objective:.4g}", f"{s.lp_bound:.4g}", f"{s.gap * 100:.2f} %",
+                             f"{s.seconds:.1f} s"]], headers=["solver", "status", "objective", "LP bound", "gap", "time"])]
     return "\n".join(lines)
