@@ -105,6 +105,13 @@ class Wave:
         at_end = (T + tau * math.expm1(-T / tau)) / T
         return 1.0 - (1.0 - at_end) * math.exp(-(t - T) / tau)
 
+    def slope(self, t: float) -> float:
+        """The edge's rate of change at ``t`` (volts per second)."""
+        span = self.to_volts - self.from_volts
+        if self.shape == "exponential":
+            return span / self.seconds * math.exp(-max(t, 0.0) / self.seconds)
+        return span / self.seconds if 0 <= t < self.seconds else 0.0
+
     def end_seconds(self) -> float:
         """A time by which the edge is (practically) over: its ramp, or ten time constants."""
         return 10.0 * self.seconds if self.shape == "exponential" else self.seconds
@@ -280,7 +287,8 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     then the plate swings. A falling output follows its grid through the
     Miller plateau: the grid, held near its threshold, delivers the
     grid-plate charge of the plate's swing through the divider's source
-    resistance, a linear ramp, lagging by one time constant of the node
+    resistance (and a speed-up capacitor from the still-moving driving
+    node), a linear ramp, lagging by one time constant of the node
     against ``RL || r_p || loads``. A rising output is the slower of that
     ramp and the RC charge of its node through the plate load (an
     exponential edge, starting halfway through the grid's travel to its
@@ -303,7 +311,8 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     p1 = stage.plate_volts(load_state(div, drive.to_volts).grid_volts)
     tap_to, r_th = thevenin(div, drive.to_volts)
     c_gp = (tube.c_gp_pf or 0.0) * 1e-12
-    drive_amps = abs(tap_to - vt) / r_th
+    # The grid-plate charge comes through the divider and, while the driving node still moves, a speed-up capacitor.
+    drive_amps = abs(tap_to - vt) / r_th + stage.speedup_farads * abs(drive.slope(t_x))
     plateau_full = c_gp * abs(p1 - p0) / drive_amps
     plateau_mid = c_gp * abs(mid_volts - p0) / drive_amps
     c_node = stage.plate_farads + c_gp
