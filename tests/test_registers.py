@@ -233,9 +233,9 @@ def _transient(plan, inputs: dict, edges: int, tmp_path) -> list[dict]:
     period = 2 * max(plan.timing.min_period_seconds, 1e-3)
     deck = spice_deck(plan, builtin_catalogue())
     text = deck.with_inputs(inputs)
+    pulse = "PULSE({} 0 {!r} 1u 1u {!r} {!r})"
     text = re.sub(r"(?m)^V_clk (\S+) 0 (\S+)$",
-                  lambda m: f"V_clk {m.group(1)} 0 PULSE({m.group(2)} 0 {period / 2!r} 1u 1u {period / 2!r} {period!r})",
-                  text)
+                  lambda m: f"V_clk {m.group(1)} 0 " + pulse.format(m.group(2), period / 2, period / 2, period), text)
     nodes = dict(deck.nodes)
     control = [".control", f"tran 2u {(edges + 0.6) * period!r}"]
     for k in range(edges + 1):

@@ -33,8 +33,9 @@ from .template import design_template
 from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, follower_edge, inverter_edge
 
 __all__ = [
-    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF", "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable",
-    "design_bistables", "flip_edges", "follower_edge", "inverter_edge", "is_dual_triode",
+    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF",
+    "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
+    "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
     "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",

@@ -79,7 +79,8 @@ class Wave:
         """When the edge passes ``volts`` (between its levels)."""
         share = (volts - self.from_volts) / (self.to_volts - self.from_volts)
         if not 0 <= share < 1:
-            raise ValueError(f"an edge from {self.from_volts:.1f} V to {self.to_volts:.1f} V never passes {volts:.1f} V")
+            raise ValueError(f"an edge from {self.from_volts:.1f} V to {self.to_volts:.1f} V "
+                             f"never passes {volts:.1f} V")
         if self.shape == "exponential":
             return -self.seconds * math.log1p(-share)
         return share * self.seconds

@@ -119,11 +119,11 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
         used_count[socket.tube] = used_count.get(socket.tube, 0) + 1
     stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce)
                       for e in stock.tubes)
-    names = [o.name for o in design.outputs]
+    names = [o.name for o in design.outputs]  # the design's outputs; next states belong to the registers
     clock = _clock(setting, registers) if registers else None
     return Plan(design.name, tuple((i.name, i.complement) for i in design.inputs),
-                tuple(sorted(((k, v) for k, v in network.outputs.items() if k in names), key=lambda kv: names.index(kv[0]))),
-                tuple(sorted(((k, v) for k, v in network.forms.items() if k in names), key=lambda kv: names.index(kv[0]))),
+                tuple((name, network.outputs[name]) for name in names),
+                tuple((name, network.forms[name]) for name in names if name in network.forms),
                 tuple(placed), tuple(envelopes), tuple(parts), budget, stock_use, solution,
                 stock.plate.volts, stock.bias.volts, family.high_min_volts, family.low_max_volts,
                 family.follower_low_max_volts, registers, clock)

@@ -146,5 +146,5 @@ def reset_pullup(net: NetlistBuilder, reset: str) -> None:
     net.resistor(PLATE_RAIL, reset, RESET_PULLUP_OHMS, resistor_rating_watts(watts), watts, "reset pull-up", None)
 
 
-__all__ = ["COMPLEMENT", "RegisterSetting", "clock_nets", "register_classes", "register_loads", "register_parts", "register_view",
-           "reset_pullup"]
+__all__ = ["COMPLEMENT", "RegisterSetting", "clock_nets", "register_classes", "register_loads", "register_parts",
+           "register_view", "reset_pullup"]

@@ -132,7 +132,8 @@ def input_role(template: str, width: int, position: int) -> str:
     >>> input_role("dual", 2, 1), input_role("dual", 1, 0), input_role("diode", 3, 2)
     ('grid3', 'grid', 'diode')
     """
-    return branch_realisation(template, width).roles[min(position, len(branch_realisation(template, width).roles) - 1)]
+    roles = branch_realisation(template, width).roles
+    return roles[min(position, len(roles) - 1)]  # a diode AND's inputs share its one receiver
 
 
 def _gate_wave(nets: _Nets, rec, width: int, drive: Wave, mid: float) -> Wave:

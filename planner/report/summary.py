@@ -48,6 +48,7 @@ def plan_summary(plan: Plan) -> str:
         lines += ["", tabulate([list(row) for row in table.rows], headers=list(table.headers))] + clock_lines(plan)
     if plan.timing is not None:
         lines += [""] + timing_lines(plan)
-    lines += ["", tabulate([[s.solver, s.status, f"{s.objective:.4g}", f"{s.lp_bound:.4g}", f"{s.gap * 100:.2f} %",
-                             f"{s.seconds:.1f} s"]], headers=["solver", "status", "objective", "LP bound", "gap", "time"])]
+    solver = [[s.solver, s.status, f"{s.objective:.4g}", f"{s.lp_bound:.4g}", f"{s.gap * 100:.2f} %",
+               f"{s.seconds:.1f} s"]]
+    lines += ["", tabulate(solver, headers=["solver", "status", "objective", "LP bound", "gap", "time"])]
     return "\n".join(lines)
