@@ -215,6 +215,19 @@ def test_combinational_design_has_a_path_and_no_clock(files, write):
     assert plan.timing.path_seconds > 0 and "Slowest path" in plan_summary(plan)
 
 
+def test_constant_next_states_plan_and_time(files, write):
+    # Invented fixture: registers with constant next states and a constant output.
+    path = write("const.yaml", "design: k\ninputs: [a]\nregisters:\n  q: {next: 1}\n  r: {next: 0, reset: 1}\n"
+                               "outputs:\n  one: a | ~a\n  y: q & a\n")
+    design = load_design(path)
+    plan = plan_design(design, load_stock(files["stock"]))
+    network = plan_network(design, plan)
+    nxt, outs = step(network, design, {"q": 0, "r": 1}, {"a": 1})
+    assert nxt == {"q": 1, "r": 0} and outs == {"one": 1, "y": 0}  # Reference: the design's own expressions.
+    assert plan.timing.path == () and plan.timing.max_clock_hz > 0
+    assert "Every next state is constant" in plan_summary(plan)
+
+
 def test_registers_need_a_dual_triode_and_solid_state_diodes(files, write):
     design = load_design(files["counter"])
     pentodes = write("p.yaml", STOCK.replace("12AU7: {count: 16}", "6AU6: {count: 16}"))

@@ -179,6 +179,7 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
     """
     nets = _Nets(plan, network, placement, family, stock, rules)
     high, low, accept = family.high_min_volts, family.low_max_volts, family.follower_low_max_volts
+    # A stage with no branches (a constant one) makes no edge: nets with no arrival never switch.
     mid = 0.5 * (high + low)
     arrivals: dict[tuple[str, str], _Arrival] = {}
     for net in network.primary_nets:
@@ -195,7 +196,9 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
             follower = family.followers[way.tube]
             tube = nets.tube(way.tube)
             for e in (RISE, FALL):
-                src = arrivals[(stage.input, e)]
+                src = arrivals.get((stage.input, e))
+                if src is None:  # a constant input never makes this edge
+                    continue
                 edge = follower_edge(tube, nets.wear(way.tube), stock.plate.volts, follower.cathode_load_ohms, nets.vc,
                                      nets.load_pairs(stage.output), nets.node_farads(stage.output),
                                      follower.grid_stopper_ohms, src.wave, mid)
@@ -206,7 +209,9 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
             for branch in stage.branches:
                 for position, net in enumerate(branch.inputs):
                     for e_in, e_out in ((FALL, RISE), (RISE, FALL)):
-                        src = arrivals[(net, e_in)]
+                        src = arrivals.get((net, e_in))
+                        if src is None:
+                            continue
                         delay, wave = _inverter_delay(nets, stage, way, driver, branch, position, src.wave, mid)
                         worst[e_out] = max(worst[e_out], delay)
                         if e_out not in out or src.seconds + delay > out[e_out].seconds:
@@ -275,13 +280,16 @@ def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: floa
         b = setting.bistables[reg.tube]
         for net in (reg.next, reg.next_complement):
             for e in (RISE, FALL):
-                a = arrivals[(net, e)]
+                a = arrivals.get((net, e))
+                if a is None:  # a constant next state
+                    continue
                 reg_ends.append((a.seconds + _settle(a.wave, mid) + b.setup_seconds, (net, e), f"register {reg.name}"))
-    seconds, key, label = max(reg_ends, key=lambda x: (x[0], x[2]))
+    seconds, key, label = max(reg_ends, key=lambda x: (x[0], x[2]), default=(0.0, None, ""))
     high_min = max(setting.bistables[r.tube].recovery_seconds for r in plan.registers)
     low_min = HOLD_FACTOR * max(flips.values())
     period = max(seconds, 2 * max(high_min, low_min))
-    return Timing(stages, _path(arrivals, key), seconds, arrivals[key].origin, label, outputs, wiring, MARGIN, corner,
+    start = arrivals[key].origin if key else ""
+    return Timing(stages, _path(arrivals, key) if key else (), seconds, start, label, outputs, wiring, MARGIN, corner,
                   max(flips.values()), max(setting.bistables[r.tube].setup_seconds for r in plan.registers),
                   high_min, low_min, period, 1.0 / (period * (1 + MARGIN)))
 

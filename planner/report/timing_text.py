@@ -70,9 +70,12 @@ def timing_lines(plan: Plan) -> list[str]:
     path = " -> ".join(t.path)
     lines = []
     if plan.registers:
-        lines.append(f"Critical path: {t.start} to {t.end} through {path}: {seconds_text(t.path_seconds)} from the "
-                     f"clock edge (clock to q up to {seconds_text(t.clock_to_q_seconds)}, setup "
-                     f"{seconds_text(t.setup_seconds)} included).")
+        if t.path:
+            lines.append(f"Critical path: {t.start} to {t.end} through {path}: {seconds_text(t.path_seconds)} from "
+                         f"the clock edge (clock to q up to {seconds_text(t.clock_to_q_seconds)}, setup "
+                         f"{seconds_text(t.setup_seconds)} included).")
+        else:
+            lines.append("Every next state is constant: only the registers' own steering limits the clock.")
         lines.append(f"Highest safe clock: {hz_text(t.max_clock_hz)} (shortest period "
                      f"{seconds_text(t.min_period_seconds)}, clock high at least {seconds_text(t.high_seconds_min)} "
                      f"and low at least {seconds_text(t.low_seconds_min)}; the period here has a "
