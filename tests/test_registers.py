@@ -228,6 +228,27 @@ def test_constant_next_states_plan_and_time(files, write):
     assert "Every next state is constant" in plan_summary(plan)
 
 
+def test_followers_carry_a_register_beyond_its_fan_out(files, write):
+    # Invented fixture: one register feeding six outputs, more than a 12AU7 bistable drives.
+    outputs = "".join(f"  y{k}: q & {x}\n" for k, x in enumerate("abcde")) + "  y5: q | e & d\n"
+    path = write("fan.yaml", "design: f\ninputs: [a, b, c, d, e]\nregisters:\n  q: {next: q ^ a}\n"
+                             "outputs:\n" + outputs)
+    design = load_design(path)
+    plan = plan_design(design, load_stock(files["stock"]))
+    reg = plan.registers[0]
+    followers = [s for s in plan.stages if s.kind == "follower" and s.input in (reg.output, reg.complement)]
+    assert followers and reg.fanout <= reg.fanout_limit
+    network = plan_network(design, plan)
+    for q in (0, 1):
+        for bits in range(32):
+            inputs = {x: bits >> k & 1 for k, x in enumerate("abcde")}
+            nxt, outs = step(network, design, {"q": q}, inputs)
+            # Reference: the design's own expressions.
+            assert nxt["q"] == q ^ inputs["a"]
+            assert outs["y5"] == (q | inputs["e"] & inputs["d"])
+            assert all(outs[f"y{k}"] == q & inputs[x] for k, x in enumerate("abcde"))
+
+
 def test_registers_need_a_dual_triode_and_solid_state_diodes(files, write):
     design = load_design(files["counter"])
     pentodes = write("p.yaml", STOCK.replace("12AU7: {count: 16}", "6AU6: {count: 16}"))

@@ -15,7 +15,7 @@ from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
 from .options import MappingOptions
 from .plan import Plan, Solution
 from .problem import DIODE_FANIN, build_problem
-from .registers import RegisterSetting, clock_nets, register_classes, register_view
+from .registers import COMPLEMENT, RegisterSetting, clock_nets, register_classes, register_view
 from .timing import plan_timing
 
 _DIODE_RULES = {"solid-state": "solid-state", "vacuum-only": "vacuum", "none": "none"}
@@ -152,10 +152,15 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
     limit = _fanout_limits(family, names)
     found, seen = [], set()
     variants, fanin = _synthesis_variants(stock, family, rules, options)
+    # A register's outputs carry no more loads than the best stocked bistable drives; followers take the rest.
+    held = {}
+    if setting is not None:
+        most = max(b.fanout_limit for b in setting.bistables.values())
+        held = {net: most for reg in design.registers for net in (reg.name, COMPLEMENT + reg.name)}
     for label, synth in variants:
         network = synthesise(view, synth).network
         try:
-            network = insert_followers(network, limit)
+            network = insert_followers(network, limit, held)
         except ValueError as problem:
             found.append(_Candidate(label, network, None, {}, f"{problem}"))
             continue

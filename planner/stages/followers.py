@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from typing import Callable, Union
+from typing import Callable, Mapping, Union
 
 from .network import Network, Stage, renumber
 from .simulate import ProofError, simulate
@@ -20,12 +20,15 @@ def _records(network: Network) -> dict[str, tuple]:
     return records
 
 
-def insert_followers(network: Network, fanout_limit: FanoutLimit) -> Network:
+def insert_followers(network: Network, fanout_limit: FanoutLimit,
+                     primary_limits: Mapping[str, int] | None = None) -> Network:
     """``network`` with followers added so that no stage drives more loads than its limit.
 
     Loads are counted as in :meth:`Network.load_counts` (every grid or diode
     connection, every design output).  Primary inputs are driven from outside
-    and taken to drive any number of loads.  ``fanout_limit`` is a number for
+    and taken to drive any number of loads, except the nets in
+    ``primary_limits`` (net -> the most loads its driver allows: a register's
+    bistable, say).  ``fanout_limit`` is a number for
     every stage, or a function of the stage (followers included).  Where a net
     has ``T`` loads and its driver allows ``L``, with followers allowing ``F``
     each, ``ceil((T - L) / (F - 1))`` followers are added (the fewest: each
@@ -56,18 +59,20 @@ def insert_followers(network: Network, fanout_limit: FanoutLimit) -> Network:
     outputs = dict(network.outputs)
     rewire: dict[tuple, str] = {}
     added = 0
-    for stage in network.stages:
-        loads = slots[stage.output]
-        own = limit(stage)
+    limited = dict(primary_limits or {})
+    drivers = [(net, limited[net]) for net in network.primary_nets if net in limited and net in slots]
+    drivers += [(stage.output, limit(stage)) for stage in network.stages]
+    for driven, own in drivers:
+        loads = slots[driven]
         if len(loads) <= own:
             continue
-        probe = Stage("F?", "#f?", "follower", input=stage.output)
+        probe = Stage("F?", "#f?", "follower", input=driven)
         each = limit(probe)
         if own < 1 or each < 2:
-            raise ValueError(f"net {stage.output} has {len(loads)} loads; its driver allows {own} and a "
+            raise ValueError(f"net {driven} has {len(loads)} loads; its driver allows {own} and a "
                              f"follower {each}: followers cannot spread the load")
         count = -(-(len(loads) - own) // (each - 1))
-        nodes = [(stage.output, own)]
+        nodes = [(driven, own)]
         free = [own]
         for _ in range(count):
             added += 1
