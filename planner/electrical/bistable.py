@@ -93,6 +93,10 @@ class Bistable:
     rising edge's kick); ``flip_seconds`` the estimated flip with the
     family's worst loading (the plan times its own loads). Diodes must stand
     ``diode_reverse_volts`` and capacitors ``capacitor_volts``.
+    ``bias_ma_worst``: what both dividers return to the bias supply, or, while
+    a reset is held, what a reset diode carries. ``steering_node_pf`` and
+    ``grid_node_pf``: the steering node's and a grid's capacitance (wiring and
+    diodes included; a grid's without its commutating capacitor).
     """
 
     tube: str
@@ -143,8 +147,8 @@ def _nearest_e12(pf: float) -> float:
 def _low_output_ohms(family: Family, types) -> float:
     """The largest incremental resistance of any family inverter's node at its worst low level.
 
-    Each driver's section worn, its grids at 0 V (screen fed as its template
-    says), its plate at the driver's low level: ``RL || r_p`` (central
+    Each driver's section worn to the rules' wear, its grids at 0 V (screen
+    fed as its template says), its plate at the driver's low level: ``RL || r_p`` (central
     difference, 10 mV). A current pushed into a low node moves it this far per
     ampere. Cost: two section solves per driver.
     """
@@ -237,10 +241,9 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     c_in, c_gp = (tube.c_in_pf or 0.0), (tube.c_gp_pf or 0.0)
     grid_static = c_in + c_gp + WIRING_PF + DIODE_PF
     commutating = _nearest_e12(grid_static * rec.lower_ohms / rec.upper_ohms)
-    # Largest grid-node capacitance the pulse must move: the reset diode too, the Miller charge of
-    # the plate's swing over the grid's (to cut-off), and the commutating capacitor as if to ground.
-    # At the instant of the edge the commutating capacitor reaches the other plate, whose node holds
-    # at least its output capacitance, the wiring and the grid-plate capacitance: in series.
+    # Largest grid-node capacitance the pulse must move at the edge: the reset diode too, and the
+    # commutating capacitor in series with the other plate's node (at least its output capacitance,
+    # the wiring and the grid-plate capacitance).
     c_cc = commutating * (1 + CAPACITOR_TOLERANCE)
     plate_node = (tube.c_out_pf or 0.0) + WIRING_PF + c_gp
     grid_max = grid_static + DIODE_PF + c_cc * plate_node / (c_cc + plate_node)
@@ -277,7 +280,7 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     if steering_watts is None:
         return Shortfall("resistor watts", 0.0, "W", f"the {name} steering resistor needs more than a 2 W rating")
     span = box.vb(+1) - box.vc(+1)
-    reset_ma = (box.vb(+1) - box.vc(+1)) / box.r(rec.upper_ohms, -1) * 1e3
+    reset_ma = span / box.r(rec.upper_ohms, -1) * 1e3  # a reset diode carries its divider's current
     return Bistable(
         tube=name, plate_load_ohms=driver.plate_load_ohms, plate_load_watts=driver.plate_load_watts,
         upper_ohms=rec.upper_ohms, lower_ohms=rec.lower_ohms, upper_watts=rec.upper_watts,
