@@ -38,24 +38,24 @@ class Placement:
     registers: dict = field(default_factory=dict)
 
 
-def choose_ways(problem: Problem, counts: Counts) -> dict[str, Way]:
-    """Stage id -> way: each class's stages, in order, take its ways as the counts say."""
+def _deal(classes, rows, members) -> dict:
+    """Member -> way: each class's members, in order, take its ways as the counts in ``rows`` say."""
     chosen = {}
-    for cls, row in zip(problem.classes, counts.ways):
+    for cls, row in zip(classes, rows):
         picks = [w for w, n in enumerate(row) for _ in range(n)]
-        for stage, w in zip(cls.stages, picks):
-            chosen[stage] = cls.ways[w]
+        for member, w in zip(members(cls), picks):
+            chosen[member] = cls.ways[w]
     return chosen
+
+
+def choose_ways(problem: Problem, counts: Counts) -> dict[str, Way]:
+    """Stage id -> way, dealt from the solved counts."""
+    return _deal(problem.classes, counts.ways, lambda cls: cls.stages)
 
 
 def choose_register_ways(problem: Problem, counts: Counts) -> dict[str, RegisterWay]:
-    """Register name -> way: each class's registers, in order, take its ways as the counts say."""
-    chosen = {}
-    for cls, row in zip(problem.registers, counts.register_ways):
-        picks = [w for w, n in enumerate(row) for _ in range(n)]
-        for name, w in zip(cls.registers, picks):
-            chosen[name] = cls.ways[w]
-    return chosen
+    """Register name -> way, dealt from the solved counts."""
+    return _deal(problem.registers, counts.register_ways, lambda cls: cls.registers)
 
 
 def register_job_id(name: str) -> str:
