@@ -5,8 +5,8 @@ Each entry goes through ``tube_type_from_mapping`` like a user's own type.
 memory" marks values recalled from the manufacturers' data but not read
 while writing this file. Model parameters were fitted by
 benchmarks/fit_koren.py to the typical operating points named in
-``sources.model``. The broadcast 7-pin pentagrid converter (6BE6 and its
-kin) is deliberately not in this catalogue.
+``sources.model``. The 7-pin pentagrid converter of broadcast receivers is
+deliberately not in this catalogue.
 """
 
 from __future__ import annotations
