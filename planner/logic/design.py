@@ -14,8 +14,12 @@ def design_support(design, *exprs: sympy.Basic) -> tuple[str, ...]:
 
     Cost: linear in the size of the design's expressions.
     """
-    reached = design.reached_names(*exprs)
-    return tuple(name for name in design.input_names if name in reached)
+    return _inputs_among(design, design.reached_names(*exprs))
+
+
+def _inputs_among(design, names: set[str]) -> tuple[str, ...]:
+    """The design inputs in ``names``, in input order."""
+    return tuple(name for name in design.input_names if name in names)
 
 
 def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic = sympy.false,
@@ -29,9 +33,7 @@ def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic = sympy.false
     :func:`design_support` of the two expressions.
     """
     reached = design.reached_names(expr, dont_care)
-    if names is None:
-        names = tuple(name for name in design.input_names if name in reached)
-    names = tuple(names)
+    names = _inputs_among(design, reached) if names is None else tuple(names)
     space = Space(len(names))
     bits = {name: space.one[len(names) - 1 - k] for k, name in enumerate(names)}
     for signal in design.signals:

@@ -247,7 +247,7 @@ def design_from_yaml(file: YamlFile) -> Design:
                     for output, value in output_map.items())
     registers = tuple(_read_register(file, register_map, register, value, known, set(output_map))
                       for register, value in register_map.items())
-    lines = {"inputs": dict((spec.name, line) for spec, line in zip(inputs, _input_lines(top))),
+    lines = {"inputs": dict((spec.name, line) for spec, line in zip(inputs, top["inputs"].lines)),
              "signals": dict(signal_map.lines), "outputs": dict(output_map.lines)}
     return Design(name, file.path, inputs, signals, outputs, lines, registers)
 
@@ -256,8 +256,7 @@ def _optional_mapping(file: YamlFile, top: Mapping, key: str) -> Mapping:
     """``top[key]`` as a mapping; an empty one with the right line when absent."""
     value = top.get(key)
     if value is None:
-        value = Mapping()
-        value.line, value.lines, value.raw = line_of(top, key), {}, {}
+        value = Mapping.at(line_of(top, key))
     return expect_mapping(file, value, line_of(top, key), key)
 
 
@@ -273,10 +272,6 @@ def _read_register(file: YamlFile, register_map: Mapping, name: str, value, know
     if reset not in (0, 1) or isinstance(reset, bool):
         raise file.error(line_of(entry, "reset"), f"{what} reset must be 0 or 1, found {describe(reset)}")
     return RegisterSpec(name, expr, int(reset))
-
-
-def _input_lines(top: Mapping) -> list[int]:
-    return list(top["inputs"].lines)
 
 
 def _read_inputs(file: YamlFile, top: Mapping) -> tuple[InputSpec, ...]:
@@ -325,7 +320,7 @@ def _check_new_names(file: YamlFile, mapping: Mapping, kind: str, inputs: set, s
 def _expression_value(file: YamlFile, mapping: Mapping, key: str, value, what: str) -> sympy.Basic:
     """Parse the expression given as the value of ``key`` (text or a bare 0 / 1)."""
     line = line_of(mapping, key)
-    if isinstance(value, (str, int)) and not isinstance(value, (Mapping,)):
+    if isinstance(value, (str, int)):
         text = mapping.raw.get(key, value)
         if not isinstance(text, str):
             text = str(text)

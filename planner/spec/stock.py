@@ -201,9 +201,7 @@ def _read_tubes(file: YamlFile, top: Mapping, catalogue: Catalogue) -> tuple[Tub
             raise file.error(line, f"tube type {canonical} is listed twice (first on line {seen[canonical]})")
         seen[canonical] = line
         if isinstance(data, int) and not isinstance(data, bool):
-            data_map = Mapping({"count": data})
-            data_map.line, data_map.lines, data_map.raw = line, {"count": line}, {}
-            data = data_map
+            data = Mapping.at(line, {"count": data})
         entry = expect_mapping(file, data, line, what)
         check_keys(file, entry, ("count", "reserve", "scarce", "condition", "unit_price"), what,
                    required=("count",))

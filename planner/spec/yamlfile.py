@@ -45,6 +45,13 @@ class Mapping(dict):
     lines: dict
     raw: dict
 
+    @classmethod
+    def at(cls, line: int, entries: dict | None = None) -> "Mapping":
+        """A mapping starting on ``line`` whose ``entries`` all stand on that line too."""
+        mapping = cls(entries or {})
+        mapping.line, mapping.lines, mapping.raw = line, {key: line for key in mapping}, {}
+        return mapping
+
 
 class Sequence(list):
     """A YAML list plus the line of the list and of each item."""
@@ -168,9 +175,7 @@ class _Converter:
         self._check_tag(node)
         line = node.start_mark.line + 1
         if isinstance(node, yaml.MappingNode):
-            mapping = Mapping()
-            mapping.line, mapping.lines, mapping.raw = line, {}, {}
-            return mapping
+            return Mapping.at(line)
         if isinstance(node, yaml.SequenceNode):
             sequence = Sequence()
             sequence.line, sequence.lines = line, []
