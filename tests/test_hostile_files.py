@@ -9,7 +9,6 @@ import os
 import signal
 import subprocess
 import sys
-import textwrap
 import time
 from pathlib import Path
 
@@ -57,12 +56,6 @@ def _plan_command(*args):
     return [sys.executable, "-m", "planner.cli", "plan", *map(str, args), "--quiet"]
 
 
-def _write(tmp_path: Path, name: str, text: str) -> Path:
-    path = tmp_path / name
-    path.write_text(textwrap.dedent(text))
-    return path
-
-
 def _snapshot(directory: Path) -> dict[str, bytes]:
     return {p.name: p.read_bytes() for p in sorted(directory.iterdir())}
 
@@ -91,16 +84,16 @@ def test_plans_are_byte_identical_across_hash_seeds(tmp_path):
         assert first[name] == second[name], name
 
 
-def test_killed_while_writing_leaves_the_earlier_plan_intact(tmp_path):
-    design = _write(tmp_path, "design.yaml", SMALL_DESIGN)
-    stock = _write(tmp_path, "stock.yaml", SMALL_STOCK)
+def test_killed_while_writing_leaves_the_earlier_plan_intact(tmp_path, write):
+    design = write("design.yaml", SMALL_DESIGN)
+    stock = write("stock.yaml", SMALL_STOCK)
     out = tmp_path / "plan"
     first = subprocess.run(_plan_command(design, "--stock", stock, "--out", out), capture_output=True, text=True)
     assert first.returncode == 0, first.stderr
     before = _snapshot(out)
     # Change the design so a finished second run would differ, then kill it mid-write.
-    _write(tmp_path, "design.yaml", SMALL_DESIGN.replace("z: ~(a | c)", "z: ~(a | b)"))
-    script = _write(tmp_path, "slow_writer.py", SLOW_WRITER)
+    write("design.yaml", SMALL_DESIGN.replace("z: ~(a | c)", "z: ~(a | b)"))
+    script = write("slow_writer.py", SLOW_WRITER)
     process = subprocess.Popen([sys.executable, str(script), "plan", str(design), "--stock", str(stock),
                                 "--out", str(out), "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE)
     deadline = time.monotonic() + 300
@@ -118,9 +111,9 @@ def test_killed_while_writing_leaves_the_earlier_plan_intact(tmp_path):
 
 
 @pytest.mark.parametrize("delay_s", [0.5, 2.0])
-def test_interrupted_first_run_leaves_no_plan_directory(tmp_path, delay_s):
-    design = _write(tmp_path, "design.yaml", SMALL_DESIGN)
-    stock = _write(tmp_path, "stock.yaml", SMALL_STOCK)
+def test_interrupted_first_run_leaves_no_plan_directory(tmp_path, write, delay_s):
+    design = write("design.yaml", SMALL_DESIGN)
+    stock = write("stock.yaml", SMALL_STOCK)
     out = tmp_path / "plan"
     process = subprocess.Popen(_plan_command(design, "--stock", stock, "--out", out),
                                stdout=subprocess.PIPE, stderr=subprocess.PIPE)
@@ -131,10 +124,10 @@ def test_interrupted_first_run_leaves_no_plan_directory(tmp_path, delay_s):
     _assert_whole_plan_or_nothing(out)
 
 
-def test_out_never_replaces_a_regular_file_or_foreign_directory(tmp_path, run_cli):
-    design = _write(tmp_path, "design.yaml", SMALL_DESIGN)
-    stock = _write(tmp_path, "stock.yaml", SMALL_STOCK)
-    precious = _write(tmp_path, "notes.txt", "my notes\n")
+def test_out_never_replaces_a_regular_file_or_foreign_directory(tmp_path, write, run_cli):
+    design = write("design.yaml", SMALL_DESIGN)
+    stock = write("stock.yaml", SMALL_STOCK)
+    precious = write("notes.txt", "my notes\n")
     status, _, err = run_cli("plan", design, "--stock", stock, "--out", precious, "--quiet")
     assert status == 2 and "not a plan directory" in err
     assert precious.read_text() == "my notes\n"
@@ -146,15 +139,15 @@ def test_out_never_replaces_a_regular_file_or_foreign_directory(tmp_path, run_cl
     assert _snapshot(foreign) == {"cat.jpg": b"\xff\xd8"}
 
 
-def test_exit_statuses(tmp_path, run_cli, monkeypatch):
+def test_exit_statuses(tmp_path, write, run_cli, monkeypatch):
     """0 planned, 2 bad input, 3 short, 1 internal error with one line and a hint (docs/limits.md)."""
-    design = _write(tmp_path, "design.yaml", SMALL_DESIGN)
-    stock = _write(tmp_path, "stock.yaml", SMALL_STOCK)
+    design = write("design.yaml", SMALL_DESIGN)
+    stock = write("stock.yaml", SMALL_STOCK)
     status, out, _ = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "ok", "--quiet")
     assert status == 0 and "can kill" in out
-    status, _, err = run_cli("plan", design, "--stock", _write(tmp_path, "bad.yaml", "supplies: 3\n"), "--quiet")
+    status, _, err = run_cli("plan", design, "--stock", write("bad.yaml", "supplies: 3\n"), "--quiet")
     assert status == 2 and err.startswith(str(tmp_path / "bad.yaml") + ":1:")
-    short = _write(tmp_path, "short.yaml", SMALL_STOCK.replace("12AT7: {count: 6}", "12AT7: {count: 0}")
+    short = write("short.yaml", SMALL_STOCK.replace("12AT7: {count: 6}", "12AT7: {count: 0}")
                    .replace("6AU6: {count: 4}", "6AU6: {count: 1}"))
     status, out, _ = run_cli("plan", design, "--stock", short, "--out", tmp_path / "short", "--quiet")
     assert status == 3 and "needs" in out
