@@ -101,7 +101,9 @@ def _solve_ilp(rows: int, cols: int, col_rows: list[int], row_cols: dict[int, in
     with warnings.catch_warnings():
         # pulp 3.3 flags its bundled CBC for removal in 4.0; the bundled binary is what we use.
         warnings.filterwarnings("ignore", category=DeprecationWarning, message=".*PULP_CBC_CMD")
-        solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=time_limit_s, threads=1)
+        # No ``threads`` option: CBC's ``-threads 1`` starts its parallel search with one worker that
+        # sometimes waits on the main thread for 10 s (benchmarks/solver_stalls.py); serial CBC never does.
+        solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=time_limit_s)
     prob.solve(solver)
     picked = [c for c in columns if (x[c].value() or 0) > 0.5]
     covered = 0
