@@ -194,13 +194,13 @@ def _add_logic(subparsers) -> None:
 
 
 def _run_logic(args) -> int:
-    from planner.logic import MAX_TABLE_INPUTS, design_support, design_table, format_forms, forms, forms_document
+    from planner.logic import MAX_TABLE_INPUTS, format_forms, forms, forms_document, output_support, output_table
     from planner.spec import InputError, load_design
 
     design = load_design(args.design).combinational()
     rows = []
     for output in design.outputs:
-        names = design_support(design, output.expr, output.dont_care)
+        names = output_support(design, output)
         if len(names) > MAX_TABLE_INPUTS:
             raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
                              f"output {output.name!r} depends on {len(names)} inputs; tubeplan logic "
@@ -208,7 +208,7 @@ def _run_logic(args) -> int:
         if len(names) > 10:
             print(f"tubeplan logic: minimising {output.name} over {len(names)} inputs ...", file=sys.stderr,
                   flush=True)
-        rows.append((output.name, forms(design_table(design, output.expr, output.dont_care, names))))
+        rows.append((output.name, forms(output_table(design, output, names))))
     if args.json:
         _print_json(forms_document(rows))
     else:

@@ -32,7 +32,7 @@ from typing import Callable, Mapping
 import sympy
 
 from planner.logic import EXHAUSTIVE_LIMIT, Cover, TruthTable, minimise, minimise_complement, table_from_expr
-from planner.logic import design_support, design_table, used_inputs
+from planner.logic import design_support, design_table, output_support, output_table, used_inputs
 
 from .builder import Builder
 from .nand_exact import EXACT_MAX_GATES, EXACT_MAX_VARIABLES, nand_circuit
@@ -137,15 +137,21 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
     full = 0
     if exhaustive:
         bits, full = input_patterns(names)
-    specs = [(s.name, "signal", s.expr, sympy.false) for s in design.signals]
-    specs += [(o.name, "output", o.expr, o.dont_care) for o in design.outputs]
+    specs = [(s.name, "signal", s.expr, sympy.false, None) for s in design.signals]
+    specs += [(o.name, "output", None, None, o) for o in design.outputs]
     blocks = []
-    for name, kind, expr, dc in specs:
-        support = design_support(design, expr, dc)
-        if options.flatten_limit is not None and len(support) <= options.flatten_limit:
-            table = design_table(design, expr, dc, support)
+    for name, kind, expr, dc, output in specs:
+        if output is not None and output.minterms is not None:  # read as a table, never an expression
+            support = output_support(design, output)
+            table = output_table(design, output, support)
         else:
-            table = table_from_expr(expr, used_inputs(order, expr, dc), dc)
+            if output is not None:
+                expr, dc = output.expr, output.dont_care
+            support = design_support(design, expr, dc)
+            if options.flatten_limit is not None and len(support) <= options.flatten_limit:
+                table = design_table(design, expr, dc, support)
+            else:
+                table = table_from_expr(expr, used_inputs(order, expr, dc), dc)
         variables = table.names
         if exhaustive and signal_set & set(variables):
             unreachable = table.full & ~_reachable(variables, bits, full)
@@ -155,7 +161,7 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
             if kind == "signal":
                 bits[name] = design_table(design, expr, names=names).on
             if options.fanin >= 2 and len(support) <= EXACT_MAX_VARIABLES:
-                flat = design_table(design, expr, dc, support)
+                flat = table if expr is None else design_table(design, expr, dc, support)
         blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
     return blocks
 
