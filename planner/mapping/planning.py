@@ -5,7 +5,7 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass, replace
 
-from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, design_bistables, design_family
+from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, cached_family, design_bistables
 from planner.electrical import is_dual_triode
 from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
 
@@ -221,7 +221,7 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     if not tubes:
         raise Shortage("the stock has no tube type with an amplifying section (triode, pentode or multigrid)")
     options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
-    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
+    family = cached_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
     weights = _weights(stock, options)
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)
