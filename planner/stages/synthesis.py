@@ -35,7 +35,9 @@ from planner.logic import EXHAUSTIVE_LIMIT, Cover, TruthTable, minimise, minimis
 from planner.logic import design_support, design_table, output_support, output_table, used_inputs
 
 from .builder import Builder
-from .nand_exact import EXACT_MAX_GATES, EXACT_MAX_VARIABLES, nand_circuit
+from .nand_exact import (EXACT_MAX_GATES, EXACT_MAX_STATES, EXACT_MAX_VARIABLES, SHARING_MAX_STATES,
+                         cached_nand_circuit)
+from .nand_table import best_completion
 from .network import SECTIONS_PER_BRANCH, Network
 from .options import SynthesisOptions
 from .simulate import input_patterns, prove
@@ -166,6 +168,11 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
     return blocks
 
 
+def _table_node(i: int, starts: int) -> int:
+    """A table circuit's node index among ``starts`` start nets: inputs keep theirs, gates follow the starts."""
+    return i if i < 3 else starts + i - 3
+
+
 def _form(block: _Block, polarity: bool, exact: bool) -> str:
     """The expression of f that the chosen build follows."""
     if not block.inverted.cubes:
@@ -280,7 +287,7 @@ class _Assembly:
             funcs = [values[x] for x in nets]
         key = (tuple(funcs), target, care, bound)
         if key not in self.cache:
-            self.cache[key] = nand_circuit(funcs, target, care, full, bound)
+            self.cache[key] = self._table_or_search(names, nets, funcs, target, care, full, bound)
         gates = self.cache[key]
         if gates is None:
             return None
@@ -289,6 +296,33 @@ class _Assembly:
         for i, j in gates:
             nets.append(self.builder.complement(nets[i]) if i == j else self.builder.stage([[nets[i], nets[j]]]))
         return nets[-1]
+
+    def _table_or_search(self, names: tuple[str, ...], nets: list[str], funcs: list[int], target: int,
+                         care: int, full: int, bound: int) -> list[tuple[int, int]] | None:
+        """Gates over ``nets`` (as :func:`nand_circuit` returns them) for ``target`` within ``bound``.
+
+        Three variables: the stored minimum circuit from the plain inputs
+        (:func:`nand_table.best_completion`); a search runs only when other nets
+        (complements, other blocks' nets) might share gates, and only for a circuit
+        smaller than the table's, within :data:`SHARING_MAX_STATES`. Searches are
+        memoised by their start functions, so network variants never repeat one
+        (:func:`cached_nand_circuit`).
+        """
+        if any((f ^ target) & care == 0 for f in funcs):
+            return []
+        stored = None
+        if len(names) == 3 and nets[:3] == list(names):
+            found = best_completion(target, care)
+            if found is not None:
+                stored = [(_table_node(i, len(nets)), _table_node(j, len(nets))) for i, j in found]
+        if stored is not None and (len(nets) == 3 or len(stored) == 1):
+            return stored if len(stored) <= bound else None
+        limit = bound if stored is None else min(bound, len(stored) - 1)
+        states = EXACT_MAX_STATES if stored is None else SHARING_MAX_STATES
+        searched = cached_nand_circuit(tuple(funcs), target, care, full, limit, states) if limit >= 1 else None
+        if searched is not None:
+            return searched
+        return stored if stored is not None and len(stored) <= bound else None
 
     def output_net(self, block: _Block) -> tuple[str, bool, bool]:
         """The cheaper of the two candidates for an output: (net carrying f, polarity, exact)."""
