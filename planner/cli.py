@@ -100,7 +100,13 @@ def _run_plan(args) -> int:
     out = Path(args.out) if args.out else DEMO_OUT
     options = MappingOptions(time_limit_s=args.time_limit or DEFAULT_TIME_LIMIT_S, solver=args.solver,
                              mode=args.objective, synthesis_mode=args.gates, flatten_limit=args.flatten)
-    result = plan_files(design, stock, out, options, quiet=args.quiet)
+    from planner.logic import BlockTooLarge
+
+    try:
+        result = plan_files(design, stock, out, options, quiet=args.quiet)
+    except BlockTooLarge as problem:
+        raise InputError(design, 0, f"a block is beyond the minimiser's limits: {problem}; "
+                                    "split it into named signals") from None
     print(result.summary)
     print()
     print(CAUTION)
@@ -190,11 +196,15 @@ def _add_logic(subparsers) -> None:
                     "counts and whether each form is proven minimum.")
     parser.add_argument("design", help="design file (YAML)")
     parser.add_argument("--json", action="store_true", help="print one JSON document")
+    parser.add_argument("--cover-budget", type=float, default=1.0, metavar="SECONDS",
+                        help="time for each exact minimum (default 1 s); past it the best cover found is "
+                             "given with its gap to a proven lower bound")
     parser.set_defaults(run=_run_logic)
 
 
 def _run_logic(args) -> int:
-    from planner.logic import MAX_TABLE_INPUTS, format_forms, forms, forms_document, output_support, output_table
+    from planner.logic import (MAX_TABLE_INPUTS, BlockTooLarge, format_forms, forms, forms_document, output_support,
+                               output_table)
     from planner.spec import InputError, load_design
 
     design = load_design(args.design).combinational()
@@ -208,7 +218,12 @@ def _run_logic(args) -> int:
         if len(names) > 10:
             print(f"tubeplan logic: minimising {output.name} over {len(names)} inputs ...", file=sys.stderr,
                   flush=True)
-        rows.append((output.name, forms(output_table(design, output, names))))
+        try:
+            rows.append((output.name, forms(output_table(design, output, names), cover_budget_s=args.cover_budget)))
+        except BlockTooLarge as problem:
+            raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
+                             f"output {output.name!r} is beyond the minimiser's limits: {problem}; "
+                             "split it into named signals") from None
     if args.json:
         _print_json(forms_document(rows))
     else:

@@ -31,7 +31,7 @@ from typing import Callable, Mapping
 
 import sympy
 
-from planner.logic import EXHAUSTIVE_LIMIT, Cover, TruthTable, minimise, minimise_complement, table_from_expr
+from planner.logic import EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, minimise, minimise_complement, table_from_expr
 from planner.logic import design_support, design_table, output_support, output_table, used_inputs
 
 from .builder import Builder
@@ -164,7 +164,10 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
                 bits[name] = design_table(design, expr, names=names).on
             if options.fanin >= 2 and len(support) <= EXACT_MAX_VARIABLES:
                 flat = table if expr is None else design_table(design, expr, dc, support)
-        blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
+        try:
+            blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
+        except BlockTooLarge as problem:
+            raise BlockTooLarge(f"{kind} {name!r}: {problem}") from None
     return blocks
 
 
