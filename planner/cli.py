@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import time
 from pathlib import Path
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT = 0, 1, 2, 3
@@ -207,6 +208,7 @@ def _run_logic(args) -> int:
                                output_table)
     from planner.spec import InputError, load_design
 
+    start = time.monotonic()
     design = load_design(args.design).combinational()
     rows = []
     for output in design.outputs:
@@ -216,8 +218,8 @@ def _run_logic(args) -> int:
                              f"output {output.name!r} depends on {len(names)} inputs; tubeplan logic "
                              f"minimises outputs of at most {MAX_TABLE_INPUTS} inputs")
         if len(names) > 10:
-            print(f"tubeplan logic: minimising {output.name} over {len(names)} inputs ...", file=sys.stderr,
-                  flush=True)
+            print(f"tubeplan logic: [{time.monotonic() - start:5.1f} s] minimising {output.name} over "
+                  f"{len(names)} inputs (both polarities) ...", file=sys.stderr, flush=True)
         try:
             rows.append((output.name, forms(output_table(design, output, names), cover_budget_s=args.cover_budget)))
         except BlockTooLarge as problem:

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import dataclasses
 import sys
+import time
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -24,8 +25,11 @@ class PlanResult:
     files: tuple[Path, ...] = ()
 
 
-def _progress(message: str) -> None:
-    print(f"tubeplan: {message}", file=sys.stderr, flush=True)
+def _progress_since(start: float):
+    """A progress callback printing each line with the seconds elapsed since ``start``."""
+    def progress(message: str) -> None:
+        print(f"tubeplan: [{time.monotonic() - start:5.1f} s] {message}", file=sys.stderr, flush=True)
+    return progress
 
 
 def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
@@ -35,7 +39,9 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     Bad input raises planner.spec.InputError; a short stock gives ``planned=False``
     with the shortage as the summary, and writes nothing.
     """
-    progress = None if quiet else _progress
+    progress = None if quiet else _progress_since(time.monotonic())
+    if progress:
+        progress(f"reading {design_path} and {stock_path}")
     design = load_design(design_path)
     stock = load_stock(stock_path)
     check_target(Path(out_dir))  # refuse a foreign --out before the planning work, not after

@@ -158,6 +158,7 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
         most = max(b.fanout_limit for b in setting.bistables.values())
         held = {net: most for reg in design.registers for net in (reg.name, COMPLEMENT + reg.name)}
     for label, synth in variants:
+        options.say(f"mapping: synthesising and proving network '{label}'")
         network = synthesise(view, synth).network
         try:
             network = insert_followers(network, limit, held)
@@ -220,7 +221,7 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
              for t in stock.tubes if stock.catalogue.get(t.tube).amplifying_sections]
     if not tubes:
         raise Shortage("the stock has no tube type with an amplifying section (triode, pentode or multigrid)")
-    options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
+    options.say(f"mapping: the logic family for {len(tubes)} tube types (designed once, then kept in the cache)")
     family = cached_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
     weights = _weights(stock, options)
     setting = _register_setting(design, stock, family, tubes) if design.registers else None

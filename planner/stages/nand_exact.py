@@ -26,10 +26,6 @@ from functools import lru_cache
 EXACT_MAX_VARIABLES = 3
 EXACT_MAX_GATES = 6
 EXACT_MAX_STATES = 20_000
-#: The smaller budget of a search that only tries to beat a stored minimum circuit
-#: (planner.stages.nand_table) by sharing nets already built: most such searches fail,
-#: and a failed search costs its whole budget.
-SHARING_MAX_STATES = 2_000
 
 
 def nand_circuit(start: list[int], target: int, care: int, full: int, max_gates: int,
@@ -54,11 +50,11 @@ def nand_circuit(start: list[int], target: int, care: int, full: int, max_gates:
 
 
 @lru_cache(maxsize=4096)
-def cached_nand_circuit(start: tuple[int, ...], target: int, care: int, full: int, max_gates: int,
-                        max_states: int = EXACT_MAX_STATES) -> tuple[tuple[int, int], ...] | None:
+def cached_nand_circuit(start: tuple[int, ...], target: int, care: int, full: int,
+                        max_gates: int) -> tuple[tuple[int, int], ...] | None:
     """:func:`nand_circuit`, memoised on its arguments (all values, so a hit is the same answer):
     the network variants a plan tries meet the same blocks and never repeat a search."""
-    found = nand_circuit(list(start), target, care, full, max_gates, max_states)
+    found = nand_circuit(list(start), target, care, full, max_gates)
     return None if found is None else tuple(found)
 
 

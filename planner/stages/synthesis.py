@@ -35,8 +35,7 @@ from planner.logic import EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, mi
 from planner.logic import design_support, design_table, output_support, output_table, used_inputs
 
 from .builder import Builder
-from .nand_exact import (EXACT_MAX_GATES, EXACT_MAX_STATES, EXACT_MAX_VARIABLES, SHARING_MAX_STATES,
-                         cached_nand_circuit)
+from .nand_exact import EXACT_MAX_GATES, EXACT_MAX_VARIABLES, cached_nand_circuit
 from .nand_table import best_completion
 from .network import SECTIONS_PER_BRANCH, Network
 from .options import SynthesisOptions
@@ -307,9 +306,8 @@ class _Assembly:
         Three variables: the stored minimum circuit from the plain inputs
         (:func:`nand_table.best_completion`); a search runs only when other nets
         (complements, other blocks' nets) might share gates, and only for a circuit
-        smaller than the table's, within :data:`SHARING_MAX_STATES`. Searches are
-        memoised by their start functions, so network variants never repeat one
-        (:func:`cached_nand_circuit`).
+        smaller than the table's. Searches are memoised by their start functions,
+        so network variants never repeat one (:func:`cached_nand_circuit`).
         """
         if any((f ^ target) & care == 0 for f in funcs):
             return []
@@ -321,8 +319,7 @@ class _Assembly:
         if stored is not None and (len(nets) == 3 or len(stored) == 1):
             return stored if len(stored) <= bound else None
         limit = bound if stored is None else min(bound, len(stored) - 1)
-        states = EXACT_MAX_STATES if stored is None else SHARING_MAX_STATES
-        searched = cached_nand_circuit(tuple(funcs), target, care, full, limit, states) if limit >= 1 else None
+        searched = cached_nand_circuit(tuple(funcs), target, care, full, limit) if limit >= 1 else None
         if searched is not None:
             return searched
         return stored if stored is not None and len(stored) <= bound else None
