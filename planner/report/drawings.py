@@ -10,11 +10,30 @@ are the resistors the netlist puts on the stage's nets, with their values.
 from __future__ import annotations
 
 import re
+import sys
 from dataclasses import dataclass
 
-import schemdraw
-import schemdraw.elements as elm
-from schemdraw.segments import Segment, SegmentCircle, SegmentText
+
+def _import_schemdraw_svg_only():
+    """Import schemdraw without its matplotlib backend: the drawings are SVG, and schemdraw's
+    optional import of matplotlib costs about a second of every plan's start-up. The block
+    (``sys.modules[name] = None`` makes that one import fail, as if matplotlib were absent)
+    is lifted at once, so an explicit import of the backend later still works."""
+    blocked = "schemdraw.backends.mpl"
+    if "schemdraw" in sys.modules or blocked in sys.modules:
+        return
+    sys.modules[blocked] = None
+    try:
+        import schemdraw  # noqa: F401
+    finally:
+        del sys.modules[blocked]
+
+
+_import_schemdraw_svg_only()
+
+import schemdraw  # noqa: E402
+import schemdraw.elements as elm  # noqa: E402
+from schemdraw.segments import Segment, SegmentCircle, SegmentText  # noqa: E402
 
 from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedStage, Plan
 
