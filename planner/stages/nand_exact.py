@@ -68,6 +68,15 @@ def _search(nodes: list[int], gates: list[tuple[int, int]], target: int, care: i
     budget[0] -= 1
     n = len(nodes)
     if left == 1:
+        # Below the top, only gates reading the newest node can be new here: a gate on older
+        # nodes alone would have finished a smaller circuit, found at an earlier depth (the
+        # same first match, in the same order, as trying every pair).
+        if gates:
+            newest = nodes[-1]
+            for i in range(n):
+                if ((full & ~(nodes[i] & newest)) ^ target) & care == 0:
+                    return gates + [(i, n - 1)]
+            return None
         for i in range(n):
             for j in range(i, n):
                 if ((full & ~(nodes[i] & nodes[j])) ^ target) & care == 0:
