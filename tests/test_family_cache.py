@@ -53,3 +53,21 @@ def test_no_directory_means_no_cache(tmp_path, monkeypatch):
     rails = Rails(250, -100)
     assert cached_family(rails, _tubes()[:1]) == design_family(rails, _tubes()[:1])
     assert not list(tmp_path.iterdir())
+
+
+def test_cached_network_equals_a_fresh_one_and_a_changed_design_misses(tmp_path):
+    from planner.spec import load_design, parse_expression
+    from planner.spec.design import OutputSpec
+    from planner.stages import SynthesisOptions, cached_network, network_key, synthesise
+
+    design = load_design("inventory_demo/design.yaml")
+    options = SynthesisOptions(mode="nand")
+    fresh = synthesise(design, options).network
+    assert cached_network(design, options, directory=tmp_path) == fresh  # a miss, stored
+    assert cached_network(design, options, directory=tmp_path) == fresh  # a hit
+    assert len(list(tmp_path.glob("network-*.pickle"))) == 1
+    changed = dataclasses.replace(design, outputs=design.outputs[:-1] + (
+        OutputSpec("equal", parse_expression("a1 & b1"), None, "a1 & b1"),))
+    assert network_key(changed, options) != network_key(design, options)
+    assert network_key(design, SynthesisOptions(mode="nor")) != network_key(design, options)
+    assert cached_network(changed, options, directory=tmp_path) == synthesise(changed, options).network

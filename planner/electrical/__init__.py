@@ -8,7 +8,7 @@ Public API:
 - ``design_family(rails, tubes, rules) -> Family`` with ``Driver``,
   ``Receiver``, ``Follower`` and ``Shortfall`` (why a part was rejected)
 - ``cached_family(rails, tubes, rules)``: the same family, kept on disk across runs
-  (``family_key``, ``cache_dir``; ``$TUBEPLAN_CACHE_DIR``)
+  (``family_key``; ``planner.diskcache``, ``$TUBEPLAN_CACHE_DIR``)
 - ``design_template(tube, means, rails, fanout, rules) -> Template``,
   raising ``NoTemplate``
 - ``format_template(template) -> str`` (the ``tubeplan stage`` text)
@@ -27,7 +27,7 @@ from .bistable import (CAPACITOR_TOLERANCE, CLOCK_TOLERANCE, HOLD_FACTOR, RESET_
                        design_bistables, flip_edges, is_dual_triode)
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
-from .family_cache import cache_dir, cached_family, family_key
+from .family_cache import cached_family, family_key
 from .listing import format_template
 from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Template
 from .roots import brent_root
@@ -40,6 +40,6 @@ __all__ = [
     "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
-    "Shortfall", "Template", "brent_root", "cache_dir", "cached_family", "design_family", "family_key", "design_template", "e_series", "format_template", "nearest_values",
+    "Shortfall", "Template", "brent_root", "cached_family", "design_family", "family_key", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",
 ]

@@ -7,7 +7,7 @@ from dataclasses import dataclass, replace
 
 from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, cached_family, design_bistables
 from planner.electrical import is_dual_triode
-from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
+from planner.stages import SynthesisOptions, cached_network, insert_followers, prove
 
 from .assemble import place
 from .build import build_plan
@@ -159,7 +159,7 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
         held = {net: most for reg in design.registers for net in (reg.name, COMPLEMENT + reg.name)}
     for label, synth in variants:
         options.say(f"mapping: synthesising and proving network '{label}'")
-        network = synthesise(view, synth).network
+        network = cached_network(view, synth)
         try:
             network = insert_followers(network, limit, held)
         except ValueError as problem:

@@ -12,11 +12,13 @@ Public API
 - :class:`Branch`, :class:`Stage`, :class:`Network`, :class:`NetworkCost`, :func:`stage_view`, :data:`MEANS`
 - :class:`SynthesisOptions`, :data:`DEFAULT_MAX_BRANCHES`
 - :func:`synthesise` -> :class:`Synthesis` (``network``, ``candidates``: :class:`Candidate`)
+- :func:`cached_network` (``synthesise(...).network`` kept on disk across runs), :func:`network_key`
 - :func:`insert_followers`
 - :func:`simulate`, :func:`input_patterns`, :func:`prove`, :class:`ProofError`
 """
 
 from .followers import insert_followers
+from .network_cache import cached_network, network_key
 from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, Stage, stage_view
 from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
 from .simulate import ProofError, input_patterns, prove, simulate
@@ -25,5 +27,5 @@ from .synthesis import Candidate, Synthesis, synthesise
 __all__ = [
     "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "MEANS", "MODES", "Network", "NetworkCost", "ProofError",
     "SECTIONS_PER_BRANCH", "Stage", "Synthesis", "SynthesisOptions", "input_patterns", "insert_followers",
-    "prove", "simulate", "stage_view", "synthesise",
+    "cached_network", "network_key", "prove", "simulate", "stage_view", "synthesise",
 ]
