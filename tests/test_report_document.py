@@ -15,9 +15,9 @@ HERE = Path(__file__).resolve().parent
 
 
 def test_required_fields_of_the_contract():
-    """Every field DESIGN.md's plan document requires, with its type (contract: schema 1)."""
+    """Every field DESIGN.md's plan document requires, with its type (contract; schema 2 since issue 15)."""
     doc = json.loads(plan_json(fixture_plan()))
-    assert doc["schema"] == SCHEMA == 1
+    assert doc["schema"] == SCHEMA == 2
     assert doc["design"] == "fixture-gates"
     assert doc["inputs"] == [{"name": "a", "complement_available": False},
                              {"name": "b", "complement_available": True}]

@@ -1,18 +1,42 @@
-"""plan.json: the plan document of docs/outputs.md (schema 1), built from a Plan only.
+"""plan.json: the plan document of docs/outputs.md (schema 2), built from a Plan only.
 
 The required fields are the contract in DESIGN.md ("The plan document"); the
-extra fields (levels, views, resistor values, the parts netlist, the solver's
-account, the registers with their clock, the timing estimate) are allowed by it. The solver's wall-clock time is left out so that
-the same plan always gives the same bytes.
+extra fields (the tool's version, the input files' names and SHA-256, levels,
+views, resistor values, the parts netlist, the solver's account, the registers
+with their clock, the timing estimate) are allowed by it. Every key is an
+identifier (``heater_watts``, never ``heater watts``). The solver's wall-clock
+time is left out so that the same plan always gives the same bytes.
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
+from collections.abc import Sequence
+from pathlib import Path
 
+from planner import __version__
 from planner.mapping import Plan
 
-SCHEMA = 1
+#: 2: keys are identifiers (solution terms and criteria), ``tool`` and ``input_files`` added.
+SCHEMA = 2
+
+
+def input_file(role: str, path: Path) -> dict:
+    """One entry of ``input_files``: the role, the file's name and the SHA-256 of its bytes (FIPS 180-4).
+
+    >>> import tempfile, os
+    >>> with tempfile.TemporaryDirectory() as folder:
+    ...     path = Path(folder) / "design.yaml"
+    ...     _ = path.write_bytes(b"abc")
+    ...     input_file("design", path)["sha256"][:16]
+    'ba7816bf8f01cfea'
+    """
+    return {"role": role, "name": Path(path).name, "sha256": hashlib.sha256(Path(path).read_bytes()).hexdigest()}
+
+
+def _key(name: str) -> str:
+    return name.replace(" ", "_")
 
 
 def _num(value: float | None) -> float | None:
@@ -83,15 +107,18 @@ def _timing(t) -> dict | None:
                         "fall_seconds": _num(s.fall_seconds)} for s in t.stages]}
 
 
-def plan_document(plan: Plan) -> dict:
+def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
     """The plan document as plain JSON data (dicts, lists, strings, numbers).
 
-    Cost O(size of the plan). Lists keep the plan's order (stages in
-    topological order, envelopes and parts by designator).
+    ``input_files``: entries of input_file() for the design and stock files
+    the plan was made from. Cost O(size of the plan). Lists keep the plan's
+    order (stages in topological order, envelopes and parts by designator).
     """
     budget = plan.budget
     return {
         "schema": SCHEMA,
+        "tool": {"name": "tubeplan", "version": __version__},
+        "input_files": [dict(entry) for entry in input_files],
         "design": plan.design,
         "inputs": [{"name": name, "complement_available": complement} for name, complement in plan.inputs],
         "outputs": dict(plan.outputs),
@@ -123,12 +150,12 @@ def plan_document(plan: Plan) -> dict:
                      "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
                      "gap": _num(plan.solution.gap), "mode": plan.solution.mode,
                      "network": plan.solution.network,
-                     "levels": [{"criterion": c, "value": _num(v), "lp_bound": _num(b), "gap": _num(g)}
+                     "levels": [{"criterion": _key(c), "value": _num(v), "lp_bound": _num(b), "gap": _num(g)}
                                 for c, v, b, g in plan.solution.levels],
-                     "terms": {name: _num(value) for name, value in plan.solution.terms}},
+                     "terms": {_key(name): _num(value) for name, value in plan.solution.terms}},
     }
 
 
-def plan_json(plan: Plan) -> str:
-    """plan.json text: ``json.dumps(plan_document(plan), indent=2, sort_keys=True)`` and a newline."""
-    return json.dumps(plan_document(plan), indent=2, sort_keys=True) + "\n"
+def plan_json(plan: Plan, input_files: Sequence[dict] = ()) -> str:
+    """plan.json text: ``json.dumps(plan_document(...), indent=2, sort_keys=True)`` and a newline."""
+    return json.dumps(plan_document(plan, input_files), indent=2, sort_keys=True) + "\n"

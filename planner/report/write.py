@@ -33,7 +33,7 @@ from planner.spec import InputError, Stock, load_stock
 
 from .bom import bom_csv, bom_markdown
 from .content import report_content
-from .document import plan_json
+from .document import input_file, plan_json
 from .html_report import report_html
 from .markdown_report import report_markdown
 from .spice import spice_deck
@@ -341,8 +341,10 @@ def write_plan(plan: Plan, out_dir: Path, *, stock: Stock | None = None, stock_p
                              design_path=None if design_path is None else str(design_path),
                              stock_path=None if stock_path is None else str(stock_path))
     deck = spice_deck(plan, catalogue)
+    inputs = [input_file(role, Path(path)) for role, path in (("design", design_path), ("stock", stock_path))
+              if path is not None]
     files = {
-        "plan.json": lambda: plan_json(plan),
+        "plan.json": lambda: plan_json(plan, inputs),
         "bom.csv": lambda: bom_csv(content.bom),
         "bom.md": lambda: bom_markdown(content.bom, title=plan.design),
         "wiring.csv": lambda: wiring_csv(content.wiring),
