@@ -18,7 +18,7 @@ from planner.mapping import Plan
 
 from .budgets import HEADROOM, SURGE_FACTORS, plan_budgets
 from .cautions import CAUTIONS
-from .designators import natural_key, ranges
+from .designators import counted, natural_key, ranges
 
 GROUPS = ("tube", "socket", "resistor", "diode", "capacitor", "supply")
 
@@ -158,7 +158,7 @@ def bom_csv(lines) -> str:
                          _money(line.unit_price), _money(line.total)))
     total, unpriced = bom_total(lines)
     if total or not unpriced:
-        note = f"total of priced lines; {unpriced} lines without a price" if unpriced else "total"
+        note = f"total of priced lines; {counted(unpriced, 'line')} without a price" if unpriced else "total"
         writer.writerow(("", "total", "", note, "", "", "", "", _money(total)))
     for heading, text in CAUTIONS:
         writer.writerow(("", "caution", "", f"{heading}: {text}", "", "", "", "", ""))
@@ -197,6 +197,7 @@ def bom_markdown(lines, *, title: str) -> str:
         out.append("")
     total, unpriced = bom_total(lines)
     if total:
-        suffix = f" ({unpriced} lines have no price in the stock file)" if unpriced else ""
+        suffix = (f" ({counted(unpriced, 'line')} {'has' if unpriced == 1 else 'have'} no price in the stock file)"
+                  if unpriced else "")
         out += [f"**Total of priced lines: {total:.2f}**{suffix}", ""]
     return "\n".join(out)

@@ -9,6 +9,7 @@ import planner
 from .budgets import HEADROOM, SURGE_FACTORS
 from .cautions import CAUTIONS
 from .content import ReportContent
+from .designators import counted
 from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
                      stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
@@ -158,9 +159,9 @@ def report_html(content: ReportContent) -> str:
            "<nav>" + "".join(f'<a href="#{key}">{escape(name)}</a>' for key, name in SECTIONS) + "</nav>",
            "<main>", _cautions(),
            '<h2 id="summary">Summary</h2>', '<div class="figures">',
-           _figure(str(len(plan.envelopes)), "envelopes"),
-           _figure(str(len(logic)), "logic stages"),
-           _figure(str(len(plan.stages) - len(logic)), "followers"),
+           *(_figure(*counted(number, noun).split(" ", 1))
+             for number, noun in ((len(plan.envelopes), "envelope"), (len(logic), "logic stage"),
+                                  (len(plan.stages) - len(logic), "follower"))),
            _figure(f"{b.heater_watts:.1f} W", "heater power"),
            _figure(f"{b.plate.ma_worst:.1f} mA", "B+ worst case"),
            _figure(f"{b.heat_watts:.1f} W", "heat to get rid of"),

@@ -6,6 +6,7 @@ import planner
 
 from .budgets import HEADROOM, SURGE_FACTORS
 from .cautions import CAUTIONS
+from .designators import counted
 from .content import ReportContent
 from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
                      stock_table, wiring_table)
@@ -48,7 +49,8 @@ def report_markdown(content: ReportContent) -> str:
            + (f" Stock file `{content.stock_path}`." if content.stock_path else ""), ""]
     out += _cautions()
     out += ["## Summary", "",
-            f"- {len(plan.envelopes)} envelopes, {logic} logic stages, {len(plan.stages) - logic} followers",
+            f"- {counted(len(plan.envelopes), 'envelope')}, {counted(logic, 'logic stage')}, "
+            f"{counted(len(plan.stages) - logic, 'follower')}",
             f"- supplies: B+ {plan.plate_volts:g} V, bias {plan.bias_volts:g} V; logic high at least "
             f"{plan.high_volts:g} V, low at most {plan.low_volts:g} V (midpoint "
             f"{(plan.high_volts + plan.low_volts) / 2:g} V)",

@@ -7,7 +7,7 @@ from tabulate import tabulate
 from planner.mapping import Plan
 
 from .budgets import plan_budgets
-from .designators import ranges
+from .designators import counted, ranges
 from .timing_text import clock_lines, register_table, timing_lines
 
 
@@ -34,8 +34,8 @@ def plan_summary(plan: Plan) -> str:
                         f"{budgets.bias.max_ma:g} mA", f"{budgets.bias.watts_worst:.1f} W", ""])
     s = plan.solution
     inverting = sum(1 for stage in plan.stages if stage.kind == "inverting")
-    lines = [f"plan for {plan.design!r}: {len(plan.envelopes)} envelopes, {inverting} logic stages, "
-             f"{len(plan.stages) - inverting} follower(s)",
+    lines = [f"plan for {plan.design!r}: {counted(len(plan.envelopes), 'envelope')}, "
+             f"{counted(inverting, 'logic stage')}, {counted(len(plan.stages) - inverting, 'follower')}",
              "",
              tabulate(tube_rows, headers=["tube", "used", "left in stock", "reserve kept", "scarce"]),
              "",

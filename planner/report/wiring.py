@@ -66,7 +66,8 @@ def wiring_rows(plan: Plan, catalogue: Catalogue) -> tuple[Connection, ...]:
                     stages.setdefault(str(pin), users.get((part.ref, section.index)))
         else:
             functions = _TWO_TERMINAL.get(part.kind, {})
-            label = f"{part.value} {part.kind}"
+            # "silicon signal diode" names its kind already; "150k" does not
+            label = part.value if part.value.endswith(part.kind) else f"{part.value} {part.kind}"
         for pin, net in part.pins:
             rows.append(Connection(net, part.ref, pin, functions.get(pin, ""), label,
                                    stages.get(pin, part.stage)))

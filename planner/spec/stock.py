@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from planner.catalogue import Catalogue, CatalogueDataError, builtin_catalogue, tube_type_from_mapping
 
-from .fields import (check_keys, expect_list, expect_mapping, get_bool, get_int, get_number,
+from .fields import (check_keys, check_not_swapped, expect_list, expect_mapping, get_bool, get_int, get_number,
                      get_text, line_of)
 from .yamlfile import Mapping, YamlFile, read_yaml
 
@@ -92,6 +92,7 @@ def load_stock(path) -> Stock:
 
 def stock_from_yaml(file: YamlFile) -> Stock:
     top = expect_mapping(file, file.data, 1, "the stock file")
+    check_not_swapped(file, top, "stock")
     check_keys(file, top, ("supplies", "tubes", "diodes", "objective", "custom_types", "limits", "prices"),
                "the stock file", required=("supplies", "tubes"))
     supplies = expect_mapping(file, top["supplies"], line_of(top, "supplies"), "supplies")
