@@ -6,7 +6,7 @@ from html import escape
 
 import planner
 
-from .budgets import HEADROOM, SURGE_FACTORS
+from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
 from .content import ReportContent
 from .designators import counted
@@ -39,6 +39,7 @@ tbody tr:nth-child(even) td { background: #fafbfc; }
 .caution h2 { color: var(--warn); border: none; margin: 4px 0 6px; }
 .caution dt { font-weight: 700; color: var(--warn); margin-top: 6px; }
 .caution dd { margin: 0 0 2px; }
+.warning { border-left: 6px solid var(--warn); background: var(--warn-bg); padding: 4px 10px; }
 .figures { display: flex; flex-wrap: wrap; gap: 10px; margin: 10px 0 6px; }
 .figure { border: 1px solid var(--line); background: var(--band); padding: 8px 14px; min-width: 150px; }
 .figure b { display: block; font-size: 20px; }
@@ -171,6 +172,7 @@ def report_html(content: ReportContent) -> str:
            f'switching midpoint is {(plan.high_volts + plan.low_volts) / 2:g} V.</p>',
            f'<p>Tube choice: {escape(sol.solver)} reports <b>{escape(sol.status)}</b>, objective {sol.objective:.4g} '
            f'against an LP relaxation bound of {sol.lp_bound:.4g} (gap {sol.gap * 100:.2f} %).</p>',
+           *(f'<p class="warning"><b>Warning:</b> {escape(warning)}</p>' for warning in supply_warnings(b)),
            _table(outputs_table(plan)),
            '<p class="note">Every inverting stage pulls its plate node low when any one of its branches '
            'conducts, and a branch conducts only when all of its inputs are high.</p>',

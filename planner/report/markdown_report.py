@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import planner
 
-from .budgets import HEADROOM, SURGE_FACTORS
+from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
 from .designators import counted
 from .content import ReportContent
@@ -57,7 +57,8 @@ def report_markdown(content: ReportContent) -> str:
             f"- heater power {b.heater_watts:.1f} W; B+ worst case {b.plate.ma_worst:.1f} mA; heat to get rid of "
             f"{b.heat_watts:.1f} W",
             f"- tube choice: {sol.solver} {sol.status}, objective {sol.objective:.4g}, LP bound "
-            f"{sol.lp_bound:.4g}, gap {sol.gap * 100:.2f} %", "",
+            f"{sol.lp_bound:.4g}, gap {sol.gap * 100:.2f} %",
+            *(f"- **Warning:** {warning}" for warning in supply_warnings(b)), "",
             markdown_table(outputs_table(plan)), "",
             "## Stock", "", markdown_table(stock_table(plan)), "",
             "## Budgets", "", "Supply loads:", ""]

@@ -6,7 +6,7 @@ from tabulate import tabulate
 
 from planner.mapping import Plan
 
-from .budgets import plan_budgets
+from .budgets import plan_budgets, supply_warnings
 from .designators import counted, ranges
 from .timing_text import clock_lines, register_table, timing_lines
 
@@ -43,6 +43,7 @@ def plan_summary(plan: Plan) -> str:
              "",
              f"heat to get rid of: {budgets.heat_watts:.1f} W (heaters {budgets.heater_watts:.1f} W)",
              f"logic levels: high {plan.high_volts:g} V, low {plan.low_volts:g} V"]
+    lines += [f"WARNING: {warning}" for warning in supply_warnings(budgets)]
     if plan.registers:
         table = register_table(plan)
         lines += ["", tabulate([list(row) for row in table.rows], headers=list(table.headers))] + clock_lines(plan)
