@@ -275,7 +275,10 @@ def _main(argv) -> int:
     from planner.spec import InputError
 
     parser = build_parser()
-    args = parser.parse_args(argv)
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as stop:  # --help, --version, or a one-line mistake already printed
+        return stop.code
     if not getattr(args, "run", None):  # bare ``tubeplan``: asking what it does is no mistake
         parser.print_help()
         return EXIT_OK
