@@ -103,3 +103,20 @@ def test_an_installed_wheel_plans_the_demo(builds, tmp_path):
     result = _run([env_dir / "bin" / "tubeplan", "plan", "--quiet"], cwd=elsewhere, env=clean)
     assert result.stdout.strip().splitlines()[-1].endswith(str(Path("plan_out") / "report.html"))
     assert (elsewhere / "plan_out" / "plan.json").is_file() and (elsewhere / "plan_out" / "report.html").is_file()
+
+
+def _readme_commands() -> list[str]:
+    """The one-line commands of the README's Set-up section, in order."""
+    text = (ROOT / "README.md").read_text()
+    setup = text.split("## Set-up", 1)[1].split("\n## ", 1)[0]
+    blocks = setup.split("```")[1::2]
+    return [block.strip() for block in blocks]
+
+
+def test_readme_commands_use_a_virtual_environment_and_ci_runs_the_test_command():
+    plan, test = _readme_commands()[:2]
+    for command in (plan, test):
+        assert "\n" not in command and command.startswith("python3 -m venv .venv && . .venv/bin/activate && ")
+    assert plan.endswith("pip install -e . && tubeplan plan")
+    ci = (ROOT / ".ci" / "run").read_text().splitlines()
+    assert test in ci  # CI runs the README's test command word for word

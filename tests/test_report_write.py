@@ -206,3 +206,14 @@ def test_a_failed_swap_restores_the_old_plan(tmp_path, monkeypatch):
         write_plan(fixture_plan(), out)
     monkeypatch.setattr(write_module.os, "rename", real_rename)
     assert _snapshot(out) == before and _leftovers(tmp_path) == []
+
+
+def test_a_directory_is_never_taken_for_a_plan_file(tmp_path):
+    """tubeplan writes no directories: one named in the marker (edited by hand) is still kept."""
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    (out / MARKER).write_text((out / MARKER).read_text() + "photos\n")
+    (out / "photos").mkdir()
+    (out / "photos" / "v1.jpg").write_bytes(b"\xff\xd8")
+    write_plan(fixture_plan(), out)
+    assert (out / "photos" / "v1.jpg").read_bytes() == b"\xff\xd8" and _leftovers(tmp_path) == []

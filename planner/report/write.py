@@ -97,8 +97,8 @@ def check_target(out_dir: Path, files: Iterable[str] = (), protect: Iterable[Pat
     _check_writable(out_dir, "the output directory")
     files = frozenset(files)
     tools = _written_by_tool(out_dir, files)
-    for name in sorted(files - tools):
-        if os.path.lexists(out_dir / name):
+    for name in sorted(files):
+        if os.path.lexists(out_dir / name) and not _is_tool_file(out_dir / name, tools):
             raise InputError(str(out_dir / name), 0, "this file was not written by tubeplan, and the new plan "
                                                      "writes a file of that name; move or rename it, or choose "
                                                      "another --out")
@@ -110,6 +110,11 @@ def check_target(out_dir: Path, files: Iterable[str] = (), protect: Iterable[Pat
             raise InputError(str(path), 0, f"this input file would be replaced by the plan's own {resolved.name}; "
                                            "move it out of the plan directory or choose another --out")
     return True
+
+
+def _is_tool_file(entry: Path, tools: frozenset[str]) -> bool:
+    """Whether ``entry`` of an earlier plan is one of the files tubeplan wrote (it writes no directories)."""
+    return entry.name in tools and (entry.is_symlink() or not entry.is_dir())
 
 
 def _existing_ancestor(path: Path) -> Path:
@@ -130,7 +135,7 @@ def kept_files(out_dir: Path, files: Iterable[str] = ()) -> list[str]:
     if not (out_dir / MARKER).is_file():
         return []
     tools = _written_by_tool(out_dir, files)
-    return sorted(entry.name for entry in out_dir.iterdir() if entry.name not in tools)
+    return sorted(entry.name for entry in out_dir.iterdir() if not _is_tool_file(entry, tools))
 
 
 def _mirror(source: Path, target: Path) -> None:
@@ -192,12 +197,10 @@ def _retire(old: Path, out_dir: Path, tools: frozenset[str]) -> Path | None:
     for name in sorted(os.listdir(old)):
         entry = old / name
         try:
-            if name not in tools:
-                _drop_mirrored(entry, out_dir / name)
-            elif os.path.isdir(entry) and not os.path.islink(entry):
-                shutil.rmtree(entry)
-            else:
+            if _is_tool_file(entry, tools):
                 os.unlink(entry)
+            else:
+                _drop_mirrored(entry, out_dir / name)
         except OSError:
             pass  # kept below
     if not os.listdir(old):
