@@ -26,8 +26,8 @@ def describe(value) -> str:
 def describe_name(value) -> str:
     """describe() for a place that wants a name: a boolean gets the hint to quote it.
 
-    >>> describe_name(True)
-    "the boolean true (YAML reads unquoted yes, no, on, off, true and false as booleans: put the name in quotes, e.g. 'on')"
+    >>> print(describe_name(True))  # doctest: +ELLIPSIS
+    the boolean true (YAML reads unquoted yes, no, on, off, true and false as booleans: put the name in ...
     """
     if isinstance(value, bool):
         return (f"{describe(value)} (YAML reads unquoted yes, no, on, off, true and false as booleans: put the "
