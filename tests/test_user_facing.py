@@ -98,6 +98,16 @@ def test_an_unwritable_output_directory_is_exit_2(tmp_path, write, run_cli, monk
     assert not out.exists()
 
 
+@pytest.mark.parametrize("where", ["x" * 300 + "/plan", "notes.txt/plan"])
+def test_an_impossible_output_path_is_exit_2(tmp_path, write, run_cli, where):
+    """A name longer than the file system allows, or a file where a directory should be."""
+    design, stock = write("design.yaml", DESIGN), write("stock.yaml", STOCK)
+    write("notes.txt", "mine\n")
+    status, out, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / where, "--quiet")
+    assert status == 2 and out == "" and _one_line(err).startswith(str(tmp_path))
+    assert (tmp_path / "notes.txt").read_text() == "mine\n"
+
+
 @pytest.mark.skipif(os.geteuid() == 0, reason="root writes into read-only directories")
 def test_a_read_only_directory_is_refused_before_planning(tmp_path, write, run_cli):
     design, stock = write("design.yaml", DESIGN), write("stock.yaml", STOCK)

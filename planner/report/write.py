@@ -48,7 +48,8 @@ _FILES_HEADING = "files:"
 PLAN_FILES = ("bom.csv", "bom.md", "plan.cir", "plan.json", "report.html", "report.md", "wiring.csv")
 
 #: Errors of the output path the user can fix (permissions, read-only or full file system): exit 2.
-_USER_ERRNOS = frozenset({errno.EACCES, errno.EPERM, errno.EROFS, errno.ENOSPC, errno.EDQUOT})
+_USER_ERRNOS = frozenset({errno.EACCES, errno.EPERM, errno.EROFS, errno.ENOSPC, errno.EDQUOT, errno.ENAMETOOLONG,
+                          errno.ENOTDIR, errno.ELOOP})
 
 
 def _marker_text(names: Iterable[str]) -> str:
@@ -79,7 +80,13 @@ def check_target(out_dir: Path, files: Iterable[str] = (), protect: Iterable[Pat
     ``protect``-ed path (the design and stock files) among the files a re-plan
     would replace.
     """
-    out_dir = Path(out_dir)
+    try:
+        return _check_target(Path(out_dir), files, protect)
+    except OSError as problem:  # a name too long, a file where a directory should be, ...
+        raise _user_error(Path(out_dir), problem) from None
+
+
+def _check_target(out_dir: Path, files: Iterable[str], protect: Iterable[Path]) -> bool:
     if out_dir.is_symlink():
         raise InputError(str(out_dir), 0, "the output path is a symbolic link; give a plain directory path")
     if not out_dir.exists():
