@@ -11,6 +11,7 @@ Public API:
   raising ``NoTemplate``
 - ``format_template(template) -> str`` (the ``tubeplan stage`` text)
 - ``brent_root(f, lo, hi)`` (the 1-D solver used throughout)
+- circuit values the timing model shares: ``Load``, ``ScreenFeed``, ``DIODE_DROP_VOLTS``
 - registers (docs/registers.md): ``design_bistable(family, tube, wear, types) -> Bistable``
   (or ``Shortfall``), ``design_bistables`` (several types on one clock), ``flip_edges``,
   ``is_dual_triode``, ``RESET_PULLUP_OHMS``
@@ -23,20 +24,21 @@ mixing rule of a family.
 
 from .bistable import (CAPACITOR_TOLERANCE, CLOCK_TOLERANCE, HOLD_FACTOR, RESET_PULLUP_OHMS, Bistable, design_bistable,
                        design_bistables, flip_edges, is_dual_triode)
+from .circuit import Load, ScreenFeed
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
 from .listing import format_template
 from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Template
 from .roots import brent_root
-from .rules import DesignRules, Rails
+from .rules import DIODE_DROP_VOLTS, DesignRules, Rails
 from .template import design_template
 from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, follower_edge, inverter_edge
 
 __all__ = [
-    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF",
+    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_DROP_VOLTS", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF",
     "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
-    "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
+    "DesignRules", "Driver", "Family", "Follower", "Load", "ScreenFeed", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
     "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",
 ]

@@ -8,8 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import cached_property
 
-from planner.catalogue.models import cutoff_grid_volts
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType, cutoff_grid_volts
 
 from .circuit import ScreenFeed, SectionState, has_screen, section_amps
 from .eseries import resistor_rating_watts, series_values

@@ -37,7 +37,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from planner.catalogue.types import FrozenMap, TubeType
+from planner.catalogue import FrozenMap, TubeType
 
 from .context import TubeContext
 from .drivers import design_driver, make_envelope, precheck

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import math
 
-from planner.catalogue.models import plate_current_amps
+from planner.catalogue import plate_current_amps
 
 from .circuit import follower_cathode_volts, follower_on_node, load_amps
 from .context import TubeContext

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import itertools
 
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType
 
 from .circuit import load_state, solve_plate, thevenin
 from .context import TubeContext

@@ -39,8 +39,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from planner.catalogue.models import plate_current_amps
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType, plate_current_amps
 
 from .circuit import (Load, ScreenFeed, SectionState, follower_cathode_volts, load_state, section_amps,
                       solve_plate, thevenin)

@@ -36,10 +36,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from planner.electrical import (DIODE_PF, HOLD_FACTOR, WIRING_PF, InverterTiming, Wave, flip_edges, follower_edge,
-                                inverter_edge)
-from planner.electrical.circuit import Load, ScreenFeed
-from planner.electrical.rules import DIODE_DROP_VOLTS
+from planner.electrical import (DIODE_DROP_VOLTS, DIODE_PF, HOLD_FACTOR, WIRING_PF, InverterTiming, Load, ScreenFeed,
+                                Wave, flip_edges, follower_edge, inverter_edge)
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
