@@ -1,0 +1,78 @@
+"""The triode models against published plate curves.
+
+Source: the digitized ECC81 (12AT7), ECC82 (12AU7) and ECC83 (12AX7)
+datasheet plate curves of andmarti1424/loadline_plotter@6e7038f
+(valves_data.csv), copied to ``../shared/reference/plate-curves-digitized.csv``
+(see its README). The catalogue's parameters were fitted to these curves by
+``benchmarks/fit_koren.py --curves`` with two curves per type held out
+(``HELD_OUT``): ``test_held_out_curves`` checks only points the fit did not
+use; the other checks cover the whole family, fitted points included.
+"""
+
+import sys
+
+import pytest
+
+from planner.catalogue import builtin_catalogue, cutoff_grid_volts, plate_current_amps
+
+from reference_data import REPO, need_reference
+
+sys.path.insert(0, str(REPO / "benchmarks"))
+import fit_koren  # noqa: E402  (the fit script: its curve reader and held-out set)
+
+CAT = builtin_catalogue()
+TYPES = sorted(fit_koren.CURVE_FITS)
+SOURCE = "ECC8x plate curves, andmarti1424/loadline_plotter@6e7038f valves_data.csv"
+
+
+def curves(name):
+    path = need_reference() / "plate-curves-digitized.csv"
+    return fit_koren.read_plate_curves(path)[fit_koren.CURVE_FITS[name]]
+
+
+def relative_errors(name, keep=lambda g: True):
+    tube = CAT.get(name)
+    return [plate_current_amps(tube, plate_volts=v, grid_volts=g) * 1e3 / i - 1.0
+            for g, pts in curves(name).items() if keep(g) for v, i in pts if i >= 0.5]
+
+
+@pytest.mark.parametrize("name", TYPES)
+def test_whole_curve_family(name):
+    errs = [abs(e) for e in relative_errors(name)]
+    assert len(errs) >= 40
+    assert sum(errs) / len(errs) <= 0.08, f"{name} mean error vs {SOURCE}"
+    assert max(errs) <= 0.30, f"{name} max error vs {SOURCE}"
+
+
+@pytest.mark.parametrize("name", TYPES)
+def test_held_out_curves(name):
+    # Points of the curves the fit left out (fit_koren.HELD_OUT): not fitted.
+    held = fit_koren.HELD_OUT[name]
+    errs = [abs(e) for e in relative_errors(name, lambda g: g in held)]
+    assert len(errs) >= 10
+    assert sum(errs) / len(errs) <= 0.08, f"{name} held-out curves {held}: mean error vs {SOURCE}"
+    assert max(errs) <= 0.30, f"{name} held-out curves {held}: max error vs {SOURCE}"
+
+
+@pytest.mark.parametrize("name", TYPES)
+@pytest.mark.parametrize("plate_volts", [150, 250])
+def test_cutoff_at_the_curves_last_visible_current(name, plate_volts):
+    expected = fit_koren.curve_cutoff_volts(curves(name), plate_volts)
+    model = cutoff_grid_volts(CAT.get(name), plate_volts=plate_volts)
+    assert abs(model - expected) <= 1.5, f"{name} cut-off at {plate_volts} V: model {model:.2f} V, {SOURCE}"
+
+
+def test_curve_cutoff_reading():
+    # The curves' 10 uA point by hand, ECC82 at 150 V: the -10 V curve gives 0.5 mA at
+    # 150 V, the -12 V curve starts (0 mA) at 150 V: 0.49/0.5 of the way, -11.96 V.
+    assert fit_koren.curve_cutoff_volts(curves("12AU7"), 150) == pytest.approx(-11.96)
+
+
+@pytest.mark.parametrize("name", TYPES)
+def test_fit_reproduces_the_catalogue(name):
+    # The catalogue's parameters are what the fit script gives (to its 4 printed digits).
+    need_reference()
+    pytest.importorskip("scipy")
+    fitted, model = fit_koren.fit_curves(name), CAT.get(name).model
+    for key in fit_koren.CURVE_FREE:
+        assert getattr(model, key) == pytest.approx(getattr(fitted, key), rel=2e-3), f"{name} {key}"
