@@ -146,13 +146,18 @@ class Budget:
 
 @dataclass(frozen=True)
 class StockUse:
-    """One tube type of the stock: how many there are, kept back and used."""
+    """One tube type of the stock: how many there are, kept back and used.
+
+    ``from_memory``: the type's model rests on figures from memory (no
+    source read); its design carries the rules' wider allowance.
+    """
 
     tube: str
     on_hand: int
     reserve: int
     used: int
     scarce: bool
+    from_memory: bool = False
 
 
 @dataclass(frozen=True)

@@ -118,7 +118,7 @@ def plan_document(plan: Plan) -> dict:
                    "bias_ma": _num(budget.bias_ma),
                    "plate_max_ma": _num(budget.plate_max_ma), "bias_max_ma": _num(budget.bias_max_ma)},
         "stock": [{"tube": s.tube, "on_hand": s.on_hand, "reserve": s.reserve, "used": s.used,
-                   "scarce": s.scarce} for s in plan.stock],
+                   "scarce": s.scarce, "from_memory": s.from_memory} for s in plan.stock],
         "solution": {"solver": plan.solution.solver, "status": plan.solution.status,
                      "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
                      "gap": _num(plan.solution.gap), "mode": plan.solution.mode,
