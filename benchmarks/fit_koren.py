@@ -287,7 +287,11 @@ def fit(name: str) -> ModelParams:
     return build(best)
 
 
-CURVE_FREE = ("mu", "ex", "kg1", "kp", "kvb", "tail_volts")
+CURVE_FREE = ("mu", "ex", "kg1", "kp", "kvb", "tail_volts", "vct")
+"""Fitted parameters: all but vct (a voltage of either sign) through their logarithms."""
+
+ZERO_GRID_WEIGHT = 2.0
+"""Weight of the 0 V curve's residuals: a conducting logic stage's grid sits near 0 V."""
 
 
 def model_cutoff_volts(model: ModelParams, plate_volts: float) -> float:
@@ -296,8 +300,8 @@ def model_cutoff_volts(model: ModelParams, plate_volts: float) -> float:
 
     def f(g):
         return plate_current_amps(model, plate_volts=plate_volts, grid_volts=g) - CUTOFF_MA * 1e-3
-    lo = -4.0 * plate_volts  # far beyond any mu >= 1 section's cut-off
-    return brentq(f, lo, 0.0, xtol=1e-9) if f(lo) < 0.0 < f(0.0) else lo
+    lo, hi = -4.0 * plate_volts, 5.0  # far beyond any mu >= 1 section's cut-off; past any offset
+    return brentq(f, lo, hi, xtol=1e-9) if f(lo) < 0.0 < f(hi) else lo
 
 
 def fit_curves(name: str) -> ModelParams:
@@ -309,23 +313,24 @@ def fit_curves(name: str) -> ModelParams:
     main = [(v, g, i) for g, pts in used.items() for v, i in pts if i >= FIT_MIN_MA]
     low = [(v, g, i) for g, pts in used.items() for v, i in pts if 0.0 < i < FIT_MIN_MA]
     cuts = [(v, c) for v in CUTOFF_PLATE_VOLTS if (c := curve_cutoff_volts(used, v)) is not None]
-    start = dict(published_koren(name), tail_volts=0.5)
+    start = dict(published_koren(name), tail_volts=0.5, vct=0.0)
     base = builtin_catalogue().get(name).model
 
     def build(x):
-        return replace(base, **{n: math.exp(v) for n, v in zip(CURVE_FREE, x)})
+        return replace(base, **{n: v if n == "vct" else math.exp(v) for n, v in zip(CURVE_FREE, x)})
 
     def residuals(x):
         m = build(x)
 
         def ma(v, g):
             return plate_current_amps(m, plate_volts=v, grid_volts=g) * 1e3
-        out = [math.log(max(ma(v, g), 1e-12) / i) for v, g, i in main]
+        out = [(ZERO_GRID_WEIGHT if g == 0.0 else 1.0) * math.log(max(ma(v, g), 1e-12) / i) for v, g, i in main]
         out += [LOW_WEIGHT * (ma(v, g) - i) / FIT_MIN_MA for v, g, i in low]
         out += [CUTOFF_WEIGHT * (model_cutoff_volts(m, v) - c) for v, c in cuts]
         return out
 
-    result = least_squares(residuals, [math.log(start[n]) for n in CURVE_FREE], method="trf")
+    result = least_squares(residuals, [start[n] if n == "vct" else math.log(start[n]) for n in CURVE_FREE],
+                           method="trf")
     fitted = build(result.x)
     return replace(fitted, **{n: float(f"{getattr(fitted, n):.4g}") for n in CURVE_FREE})
 

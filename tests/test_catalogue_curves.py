@@ -9,6 +9,7 @@ datasheet plate curves of andmarti1424/loadline_plotter@6e7038f
 use; the other checks cover the whole family, fitted points included.
 """
 
+import json
 import sys
 
 import pytest
@@ -76,3 +77,15 @@ def test_fit_reproduces_the_catalogue(name):
     fitted, model = fit_koren.fit_curves(name), CAT.get(name).model
     for key in fit_koren.CURVE_FREE:
         assert getattr(model, key) == pytest.approx(getattr(fitted, key), rel=2e-3), f"{name} {key}"
+
+
+@pytest.mark.parametrize("name", TYPES)
+def test_against_other_measured_tubes(name):
+    # Points measured on other tubes (Sylvania manual and Tom Mitchell's measurements, in Koren's
+    # Tuparam data files as converted in Muhaarnox/AVT5229_TubeTester_GUI@7c13d3c8; copied to
+    # tube-data-published.json, measured_points_mA). None was fitted; positive grids included.
+    # Different tubes spread: within 30 % each, 20 % on average.
+    data = json.loads((need_reference() / "tube-data-published.json").read_text())[name]["measured_points_mA"]
+    tube = CAT.get(name)
+    errs = [abs(plate_current_amps(tube, plate_volts=v, grid_volts=g) * 1e3 / i - 1.0) for v, g, i in data["value"]]
+    assert max(errs) <= 0.30 and sum(errs) / len(errs) <= 0.20, f"{name} vs {data['source']}: {errs}"

@@ -53,8 +53,9 @@ CURVES = ("the {} plate curves digitized from a manufacturer's datasheet in "
 def curve_fit_source(curves: str, held_out: str) -> str:
     """The source line of a model fitted by ``benchmarks/fit_koren.py --curves``."""
     return (f"fitted by benchmarks/fit_koren.py --curves (least squares on log current over points of "
-            f"0.5 mA and more, plus the 10 uA cut-off) to {CURVES.format(curves)}, curves at {held_out} "
-            "held out; started from Koren's published Tube.lib set; tail_volts is our addition")
+            f"0.5 mA and more, the 0 V curve weighted twice, plus the 10 uA cut-off) to {CURVES.format(curves)}, "
+            f"curves at {held_out} held out; started from Koren's published Tube.lib set; tail_volts is our "
+            "addition")
 
 
 BUILTIN_DATA = {
@@ -67,7 +68,7 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.75, "max_heater_cathode_volts": 250},
         "capacitance_pf": {"input": 1.6, "output": 0.5, "grid_plate": 1.5},
         "model": {"equation": "koren-triode",
-                  "mu": 18.72, "ex": 1.253, "kg1": 1499, "kp": 107.4, "kvb": 2766, "tail_volts": 0.2316,
+                  "mu": 18.09, "ex": 1.72, "kg1": 5755, "kp": 91.36, "kvb": 50.37, "tail_volts": 0.8173, "vct": 1.969,
                   "grid_perveance": GRID_DIODE},
         "sources": {"default": BRIMAR_12AU7, "capacitance_pf": COMPILATION.format("12AU7"),
                     "model": curve_fit_source("ECC82", "-6 V and -14 V")},
@@ -81,7 +82,7 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 300, "max_plate_watts": 1.0, "max_heater_cathode_volts": 180},
         "capacitance_pf": {"input": 1.6, "output": 0.46, "grid_plate": 1.7},
         "model": {"equation": "koren-triode",
-                  "mu": 109.2, "ex": 0.9418, "kg1": 821.7, "kp": 712.7, "kvb": 5517, "tail_volts": 0.006207,
+                  "mu": 100.8, "ex": 0.9443, "kg1": 815.4, "kp": 473.9, "kvb": 77.35, "tail_volts": 2.426, "vct": 1.115,
                   "grid_perveance": GRID_DIODE},
         "sources": {"default": SYLVANIA_12AX7, "sections": JJ_ECC83S, "heater.pins": JJ_ECC83S,
                     "heater.centre_tap": JJ_ECC83S, "ratings.max_heater_cathode_volts": MEMORY,
@@ -101,7 +102,7 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.5, "max_heater_cathode_volts": 90},
         "capacitance_pf": {"input": 2.2, "output": 0.5, "grid_plate": 1.5},
         "model": {"equation": "koren-triode",
-                  "mu": 88.34, "ex": 1.066, "kg1": 269.9, "kp": 229.2, "kvb": 7038, "tail_volts": 0.05231,
+                  "mu": 88.4, "ex": 0.8755, "kg1": 157, "kp": 267.6, "kvb": 16550, "tail_volts": 0.01932, "vct": -0.9651,
                   "grid_perveance": GRID_DIODE},
         "sources": {"default": ECC81_PAGE, "ratings.max_heater_cathode_volts": MEMORY,
                     "capacitance_pf.input": COMPILATION.format("12AT7"),
@@ -111,8 +112,8 @@ BUILTIN_DATA = {
         "notes": ["output capacitance: 0.5 pF (from memory) kept for design against 0.45 pF (compilation): "
                   "the larger value gives the slower, conservative timing",
                   "plate resistance: the model follows the ECC81 curves, whose slope at 250 V -2 V gives "
-                  "12.3 kilohm against the 11 kilohm of the data summaries; the design keeps the model's "
-                  "higher figure (the weaker pull-down, conservative)"],
+                  "11.4 kilohm against 11 kilohm (data summaries) and 10.9 kilohm (compilation); the design "
+                  "keeps the model's higher figure (the weaker pull-down, conservative)"],
     },
     "5965": {
         "description": "computer dual triode, medium-high mu, long life in cut-off",

@@ -38,7 +38,7 @@ MODEL_KEYS = {
     "child-langmuir": ("mu", "perveance"),
     "diode": ("perveance",),
 }
-OPTIONAL_MODEL_KEYS = ("grid_perveance", "g3_zero_volts", "g3_ex", "tail_volts")
+OPTIONAL_MODEL_KEYS = ("grid_perveance", "g3_zero_volts", "g3_ex", "tail_volts", "vct")
 EQUATIONS_FOR_KIND = {"triode": ("koren-triode", "child-langmuir"),
                       "pentode": ("koren-pentode",), "dual-control": ("koren-pentode",),
                       "diode": ("diode",)}
@@ -270,8 +270,10 @@ def _model(data: Mapping, kind: str) -> ModelParams:
             if values[key] is not None:
                 raise CatalogueDataError(f"model.{key}", "only dual-control sections take a g3 gate")
     values["tail_volts"] = _number(model, "tail_volts", "model", required=False)
-    if values["tail_volts"] is not None and equation != "koren-triode":
-        raise CatalogueDataError("model.tail_volts", "only the koren-triode equation takes a tail knee")
+    values["vct"] = _number(model, "vct", "model", required=False, positive=False)
+    for key in ("tail_volts", "vct"):
+        if values[key] is not None and equation != "koren-triode":
+            raise CatalogueDataError(f"model.{key}", "only the koren-triode equation takes it")
     return ModelParams(equation=equation, **values)
 
 

@@ -89,7 +89,7 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
         drive = f"max(v(g,k)+{ep}/{_num(m.mu)},0)"
         return [f"Bp p k I={_num(m.perveance)}*pow({drive},1.5)"]
     if m.equation == "koren-triode":
-        arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+v(g,k)/sqrt({_num(m.kvb)}+{ep}*{ep}))"
+        arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+(v(g,k)+{_num(m.vct or 0.0)})/sqrt({_num(m.kvb)}+{ep}*{ep}))"
         return [f"Be1 e1 0 V={ep}/{_num(m.kp)}*{_softplus(arg)}",
                 "Re1 e1 0 1G",
                 f"Bp p k I=2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]

@@ -99,6 +99,8 @@ class ModelParams:
     ``g3_zero_volts`` and ``g3_ex``: the gating factor of the second control
     grid of a dual-control section (zero point in volts, exponent); None for
     other sections.
+    ``vct``: Koren's grid offset (contact potential, volts) added to the grid
+    voltage of a Koren triode; None for none.
     ``tail_volts``: knee of the cut-off tail of a Koren triode (our
     addition): the current is multiplied by ``E1^2 / (E1^2 + tail_volts^2)``,
     which leaves it unchanged well above cut-off and steepens the
@@ -117,6 +119,7 @@ class ModelParams:
     g3_zero_volts: float | None = None
     g3_ex: float | None = None
     tail_volts: float | None = None
+    vct: float | None = None
 
 
 @dataclass(frozen=True)
