@@ -193,7 +193,7 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
     grid scan, about 2 ms) and two flips per register.
     """
     nominal, flips = _corner_timing(plan, network, placement, family, stock, rules, setting, NOMINAL_CORNER)
-    worst, worst_flips = _corner_timing(plan, network, placement, family, stock, rules, setting, slow_corner(rules))
+    worst, _ = _corner_timing(plan, network, placement, family, stock, rules, setting, slow_corner(rules))
     stages = tuple(replace(s, rise_seconds_worst=w.rise_seconds, fall_seconds_worst=w.fall_seconds)
                    for s, w in zip(nominal.stages, worst.stages))
     timing = replace(nominal, stages=stages, path_seconds_worst=worst.path_seconds,
