@@ -74,6 +74,7 @@ def test_fit_reproduces_the_catalogue(name):
     # Running the fit script gives the catalogue's model: the same currents at every curve point
     # (within 1 %) and the same cut-offs (within 0.05 V). Compared by currents, not parameters, as
     # kvb is poorly determined for the high-mu types and may land elsewhere with another scipy.
+    need_reference()
     pytest.importorskip("scipy")
     fitted, model = fit_koren.fit_curves(name), CAT.get(name).model
     for g, pts in curves(name).items():
