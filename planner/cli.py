@@ -138,14 +138,20 @@ def _add_tubes(subparsers) -> None:
 def _run_tubes(args) -> int:
     from planner.catalogue import builtin_catalogue, catalogue_document, format_catalogue
 
+    from planner.electrical import DesignRules
+
+    plate_volts = (150.0, 250.0)
     if args.stock:
         from planner.spec import load_stock
 
-        catalogue = load_stock(args.stock).catalogue
+        stock = load_stock(args.stock)
+        catalogue = stock.catalogue
+        # Cut-off at the stock's plate supply: nominal and at the top of its tolerance.
+        plate_volts = (stock.plate.volts, stock.plate.volts * (1 + DesignRules().supply_tolerance))
     else:
         catalogue = builtin_catalogue()
     if args.json:
-        _print_json(catalogue_document(catalogue))
+        _print_json(catalogue_document(catalogue, plate_volts))
     else:
         sys.stdout.write(format_catalogue(catalogue))
     return EXIT_OK

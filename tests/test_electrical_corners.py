@@ -2,7 +2,8 @@
 
 The design picks each worst corner from the monotonicity of the circuit
 equations; here every resistor (each load's own resistors independently),
-both supplies and the tube wear are walked over both ends, every number of
+both supplies and the tube wear (with the wider allowance of a type whose
+data are from memory) are walked over both ends, every number of
 loads from one to the fan-out is tried, and the extremes must be the ones
 the design reported.
 """
@@ -67,7 +68,8 @@ def walk(tube, means, rails, rules, driver, receivers, ctx_of, max_loads):
         for n in range(1, max_loads + 1):
             for combo in itertools.product(choices, repeat=n):
                 loads = tuple((1, ld) for _, ld in combo)
-                for feed, wear in itertools.product(_feeds(driver, t), (ctx.wear, 1.0)):
+                # Worn and strong ends of the tube (wider for a type with data from memory).
+                for feed, wear in itertools.product(_feeds(driver, t), (ctx.wear, ctx.strong)):
                     for g1, g3 in _off_grids(ctx, means, rules):
                         v = solve_plate(vb, rl, ((nb, SectionState(tube, g1, g3, wear, feed)),), loads)
                         out["high"] = min(out["high"], v)

@@ -44,10 +44,11 @@ def test_plate_node_with_loads_matches_sympy_koren():
     vb, rl, bias, r1, r2 = 250.0, 82e3, -100.0, 910e3, 750e3
     wear, n = 0.7, 3
     v = solve_plate(vb, rl, ((1, SectionState(tube, 0.0, 0.0, wear, None)),), ((n, Load(r1, r2, bias, tube)),))
-    # Koren 1996 triode, written out again in sympy; the grid at 0 V; loads unclamped (their taps are negative).
+    # Koren 1996 triode with his grid offset vct and our tail knee, written out again in sympy; the grid
+    # at 0 V; loads unclamped (their taps are negative).
     x = sympy.Symbol("x")
-    e1 = x / m.kp * sympy.log(1 + sympy.exp(m.kp * (1 / m.mu)))
-    ip = wear * 2 * e1**m.ex / m.kg1
+    e1 = x / m.kp * sympy.log(1 + sympy.exp(m.kp * (1 / m.mu + m.vct / sympy.sqrt(m.kvb + x**2))))
+    ip = wear * 2 * e1**m.ex / m.kg1 * e1**2 / (e1**2 + m.tail_volts**2)
     loads = n * (x - bias) / (r1 + r2)
     ref = float(sympy.nsolve((vb - x) / rl - ip - loads, x, 40))  # sympy nsolve
     assert v == pytest.approx(ref, abs=1e-5)

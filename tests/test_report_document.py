@@ -38,7 +38,7 @@ def test_required_fields_of_the_contract():
     assert set(budget) >= {"heater_watts", "windings", "plate_ma_worst", "plate_ma_typical", "bias_ma"}
     assert budget["windings"][0] == {"id": "H1", "volts": 6.3, "amps": 0.6, "max_amps": 8.0}
     assert budget["plate_ma_worst"] == 12.7 and budget["bias_ma"] == 4.0
-    assert {"tube": "5915", "on_hand": 2, "reserve": 0, "used": 1, "scarce": True} in doc["stock"]
+    assert {"tube": "5915", "on_hand": 2, "reserve": 0, "used": 1, "scarce": True, "from_memory": True} in doc["stock"]
 
 
 def test_json_is_sorted_indented_and_rounds_binary_noise():

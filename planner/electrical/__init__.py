@@ -16,7 +16,8 @@ Public API:
   (or ``Shortfall``), ``design_bistables`` (several types on one clock), ``flip_edges``,
   ``is_dual_triode``, ``RESET_PULLUP_OHMS``
 - timing: ``Wave``, ``Edge``, ``InverterTiming``, ``inverter_edge``, ``follower_edge``,
-  ``WIRING_PF``, ``DIODE_PF``
+  ``WIRING_PF``, ``DIODE_PF``; corners ``TimingCorner``, ``NOMINAL_CORNER``,
+  ``slow_corner(rules)``, ``ESTIMATE_TOLERANCE``
 
 See docs/electrical.md for the circuits, the worst-case method and the
 mixing rule of a family.
@@ -32,10 +33,12 @@ from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Te
 from .roots import brent_root
 from .rules import DIODE_DROP_VOLTS, DesignRules, Rails
 from .template import design_template
-from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, follower_edge, inverter_edge
+from .timing import (DIODE_PF, ESTIMATE_TOLERANCE, NOMINAL_CORNER, WIRING_PF, Edge, InverterTiming, TimingCorner, Wave,
+                     follower_edge, inverter_edge, slow_corner)
 
 __all__ = [
-    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_DROP_VOLTS", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF",
+    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_DROP_VOLTS", "DIODE_PF", "ESTIMATE_TOLERANCE", "HOLD_FACTOR",
+    "NOMINAL_CORNER", "RESET_PULLUP_OHMS", "TimingCorner", "WIRING_PF", "slow_corner",
     "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "Load", "ScreenFeed", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",

@@ -33,7 +33,9 @@ def format_template(t: Template) -> str:
         f"{t.tube} stage ({t.means} branch) on {t.rails.plate_volts:+g} V / {t.rails.bias_volts:+g} V, "
         f"fan-out {t.fanout} (these values carry up to {t.fanout_limit})",
         f"worst case over {r.resistor_tolerance:.0%} resistors, {r.supply_tolerance:.0%} supplies and tubes at "
-        f"{r.wear:.0%} of nominal current; {r.series} values",
+        f"{r.wear:.0%} of nominal current"
+        + (f" ({r.unsourced_allowance:.0%} less, and new ones {r.unsourced_allowance:.0%} more: data from memory)"
+           if t.from_memory else "") + f"; {r.series} values",
         "",
         f"  plate load       {ohms_text(d.plate_load_ohms):>6}  {watts_text(d.plate_load_watts)}",
     ]
@@ -57,6 +59,9 @@ def format_template(t: Template) -> str:
         f"load grid {t.grid_high_volts:+.2f} V, drive {t.margin_high_volts:.1f} V above 0 V",
         f"  output low       {t.low_volts:7.1f} V at the plate (designed for {t.design_low_volts:.1f} V); "
         f"load grid {t.grid_low_volts:+.1f} V, {t.margin_low_volts:.1f} V below cut-off ({t.cutoff_volts:.1f} V)",
+        f"  cut-off          {t.cutoff_volts:+.1f} V at a load's grid (10 uA) with the plate at the highest "
+        f"supply, {t.rails.plate_volts * (1 + r.supply_tolerance):g} V"
+        + (f" ({r.unsourced_allowance:.0%} deeper: {t.tube}'s data are from memory)" if t.from_memory else ""),
         f"  plate supply     {d.supply_ma_worst:.2f} mA worst, {d.supply_ma_typical:.2f} mA typical per stage",
         f"  section          {d.section_watts_worst:.2f} W worst"
         + (f", screen {d.screen_watts_worst:.2f} W" if d.screen_watts_worst is not None else ""),

@@ -190,6 +190,7 @@ class Template:
     fanout_limit: int
     design_high_volts: float
     design_low_volts: float
+    from_memory: bool = False
 
     @property
     def plate_load_ohms(self) -> float:
@@ -218,7 +219,9 @@ class Template:
             "levels": {"high_volts": self.high_volts, "low_volts": self.low_volts,
                        "design_high_volts": self.design_high_volts, "design_low_volts": self.design_low_volts},
             "grid": {"high_volts": self.grid_high_volts, "low_volts": self.grid_low_volts,
-                     "cutoff_volts": self.cutoff_volts},
+                     "cutoff_volts": self.cutoff_volts,
+                     "cutoff_plate_volts": self.rails.plate_volts * (1 + self.rules.supply_tolerance)},
+            "from_memory": self.from_memory,
             "margins": {"high_volts": self.margin_high_volts, "low_volts": self.margin_low_volts},
             "supply_ma_worst": d.supply_ma_worst,
             "supply_ma_typical": d.supply_ma_typical,
@@ -226,5 +229,6 @@ class Template:
             "screen_watts_worst": d.screen_watts_worst,
             "rules": {"series": self.rules.series, "resistor_tolerance": self.rules.resistor_tolerance,
                       "supply_tolerance": self.rules.supply_tolerance, "wear": self.rules.wear,
-                      "margin_volts": self.rules.margin_volts},
+                      "margin_volts": self.rules.margin_volts,
+                      "unsourced_allowance": self.rules.unsourced_allowance},
         }

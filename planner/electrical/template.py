@@ -74,7 +74,7 @@ def design_template(tube: TubeType, means: str, rails: Rails, fanout: int = 1,
     figures = _figures(ctx, means, best, receivers, fanout)
     return Template(tube=tube.name, means=means, rails=rails, rules=rules, fanout=fanout, driver=driver,
                     receivers=receivers, fanout_limit=driver.fanout_limit, design_high_volts=best.levels.high,
-                    design_low_volts=best.levels.drive_low, **figures)
+                    design_low_volts=best.levels.drive_low, from_memory=tube.model_from_memory, **figures)
 
 
 def _option(ctx: TubeContext, means: str, outcome: Outcome):

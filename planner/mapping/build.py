@@ -117,7 +117,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
     used_count = {}
     for socket in placement.sockets:
         used_count[socket.tube] = used_count.get(socket.tube, 0) + 1
-    stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce)
+    stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce,
+                               stock.catalogue.get(e.tube).model_from_memory)
                       for e in stock.tubes)
     names = [o.name for o in design.outputs]  # the design's outputs; next states belong to the registers
     clock = _clock(setting, registers) if registers else None

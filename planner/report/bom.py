@@ -23,6 +23,14 @@ from .designators import counted, natural_key, ranges
 GROUPS = ("tube", "socket", "resistor", "diode", "capacitor", "supply")
 
 
+FROM_MEMORY = "data from memory: wider design allowance"
+
+
+def tube_label(s) -> str:
+    """The type's name, with a mark when its data are from memory (no source read)."""
+    return f"{s.tube} ({FROM_MEMORY})" if s.from_memory else s.tube
+
+
 @dataclass(frozen=True)
 class BomLine:
     """One line of the bill of materials.
@@ -79,6 +87,8 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
         entry = stock.get(tube)
         left = None if entry is None else entry.on_hand - len(refs)
         scarce = " (scarce)" if entry is not None and entry.scarce else ""
+        if entry is not None and entry.from_memory:
+            scarce += f" ({FROM_MEMORY})"
         rows.append(("tube", len(refs), f"{tube} tube{scarce}", refs, tube_prices.get(tube), left,
                      None if entry is None else entry.reserve))
     for base in sorted(by_base):

@@ -103,8 +103,14 @@ def _timing(t) -> dict | None:
             "low_seconds_min": _num(t.low_seconds_min), "min_period_seconds": _num(t.min_period_seconds),
             "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz), "wiring_pf": _num(t.wiring_pf),
             "corner": t.corner,
+            "worst": {"corner": t.corner_worst, "path": list(t.path_worst), "start": t.start_worst,
+                      "end": t.end_worst, "path_seconds": _num(t.path_seconds_worst),
+                      "output_seconds": _num(t.output_seconds_worst),
+                      "clock_to_q_seconds": _num(t.clock_to_q_seconds_worst),
+                      "min_period_seconds": _num(t.min_period_seconds_worst)},
             "stages": [{"id": s.id, "output": s.output, "rise_seconds": _num(s.rise_seconds),
-                        "fall_seconds": _num(s.fall_seconds)} for s in t.stages]}
+                        "fall_seconds": _num(s.fall_seconds), "rise_seconds_worst": _num(s.rise_seconds_worst),
+                        "fall_seconds_worst": _num(s.fall_seconds_worst)} for s in t.stages]}
 
 
 def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
@@ -145,7 +151,7 @@ def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
                    "bias_ma": _num(budget.bias_ma),
                    "plate_max_ma": _num(budget.plate_max_ma), "bias_max_ma": _num(budget.bias_max_ma)},
         "stock": [{"tube": s.tube, "on_hand": s.on_hand, "reserve": s.reserve, "used": s.used,
-                   "scarce": s.scarce} for s in plan.stock],
+                   "scarce": s.scarce, "from_memory": s.from_memory} for s in plan.stock],
         "solution": {"solver": plan.solution.solver, "status": plan.solution.status,
                      "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
                      "gap": _num(plan.solution.gap), "mode": plan.solution.mode,

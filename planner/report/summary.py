@@ -6,6 +6,7 @@ from tabulate import tabulate
 
 from planner.mapping import Plan
 
+from .bom import tube_label
 from .budgets import plan_budgets, supply_warnings
 from .designators import counted, ranges
 from .timing_text import clock_lines, register_table, timing_lines
@@ -22,7 +23,7 @@ def plan_summary(plan: Plan) -> str:
     and the relative gap.
     """
     budgets = plan_budgets(plan)
-    tube_rows = [[s.tube, s.used, s.on_hand - s.used, s.reserve, "yes" if s.scarce else ""]
+    tube_rows = [[tube_label(s), s.used, s.on_hand - s.used, s.reserve, "yes" if s.scarce else ""]
                  for s in plan.stock]
     supply_rows = [[f"heater {w.id}", f"{w.volts:g} V", f"{w.amps:.2f} A", f"{w.max_amps:g} A",
                     f"{w.watts:.1f} W", ranges(w.envelopes)] for w in budgets.windings]

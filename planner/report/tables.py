@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from planner.mapping import Plan
 
-from .bom import BomLine
+from .bom import BomLine, tube_label
 from .budgets import Budgets
 from .designators import natural_key, ranges
 from .wiring import Connection
@@ -33,7 +33,7 @@ def outputs_table(plan: Plan) -> Table:
 
 def stock_table(plan: Plan) -> Table:
     return Table(("tube", "on hand", "used", "left in stock", "reserve kept", "scarce"),
-                 tuple((s.tube, str(s.on_hand), str(s.used), str(s.on_hand - s.used), str(s.reserve),
+                 tuple((tube_label(s), str(s.on_hand), str(s.used), str(s.on_hand - s.used), str(s.reserve),
                         "yes" if s.scarce else "") for s in plan.stock), numeric=(1, 2, 3, 4))
 
 
