@@ -7,7 +7,9 @@ All voltages are to ground; "worst" figures are over the whole tolerance box
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+
+from planner.catalogue.types import FrozenMap
 
 from .rules import DesignRules, Rails
 
@@ -117,6 +119,11 @@ class Follower:
     ``Family.follower_low_max_volts``. It must not be fed from another
     follower. ``grid_stopper_ohms``: resistor in series with the grid (0:
     none) that limits grid current when the input node rises towards B+.
+    ``cathode_volts_min`` / ``cathode_volts_max``: the cathode's DC range,
+    worst case (grid at 0 V, worn; input node at B+, new);
+    ``elevations``: the heater references (winding DC volts) among those the
+    family was designed for that keep that range within the type's
+    heater-cathode rating.
     """
 
     tube: str
@@ -132,6 +139,8 @@ class Follower:
     cathode_volts_max: float
     high_volts: float
     low_volts: float
+    cathode_volts_min: float = 0.0
+    elevations: tuple[float, ...] = (0.0,)
 
 
 @dataclass(frozen=True)
@@ -139,13 +148,18 @@ class Family:
     """A logic family: levels every driver meets and every receiver accepts.
 
     Inverting drivers guarantee ``high_min_volts`` and ``low_max_volts`` at
-    their plate node with up to ``fanout_limit`` loads; followers guarantee
-    ``high_min_volts`` and ``follower_low_max_volts`` (a little higher, by
-    the grid-cathode voltage the follower needs); every receiver switches
-    correctly for any level at or above ``high_min_volts`` and any at or
-    below ``follower_low_max_volts``. So any driver may feed any receiver.
+    their plate node with up to ``fanout_limit`` loads; every receiver in
+    ``receivers`` switches correctly for any level at or above
+    ``high_min_volts`` and any at or below ``low_max_volts``. Followers
+    guarantee ``high_min_volts`` and ``follower_low_max_volts`` (higher, by
+    the grid-cathode voltage the follower needs); a load fed by a follower
+    takes its divider from ``follower_receivers`` (same keys), designed for
+    that window. So any driver may feed any receiver of its variant.
+    ``elevations``: the heater references (DC volts of the stock's
+    windings) the followers were checked against.
     ``rejected``: (tube, means) -> Shortfall for drivers, (tube, "follower")
-    for followers, (tube, "<role> receiver") for receivers that could not
+    for followers, (tube, "<role> receiver") for receivers and (tube, "<role>
+    receiver after a follower") for follower-fed receivers that could not
     be designed (e.g. ("12AU7", "grid receiver")).
     """
 
@@ -158,6 +172,12 @@ class Family:
     receivers: Mapping[tuple[str, str], Receiver]
     followers: Mapping[str, Follower]
     rejected: Mapping[tuple[str, str], Shortfall]
+    follower_receivers: Mapping[tuple[str, str], Receiver] = field(default_factory=FrozenMap)
+    elevations: tuple[float, ...] = (0.0,)
+
+    def receiver(self, tube: str, role: str, after_follower: bool = False) -> Receiver | None:
+        """The divider before ``role`` of ``tube``: the follower-fed variant when ``after_follower``."""
+        return (self.follower_receivers if after_follower else self.receivers).get((tube, role))
 
 
 @dataclass(frozen=True)
