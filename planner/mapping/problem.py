@@ -29,7 +29,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .model import HeaterWay, Problem, StageClass, Supplies, TubeKind, Way, Weights
+from planner.electrical import heater_cathode_excess
+
+from .model import HOSTS, HeaterWay, Problem, StageClass, Supplies, TubeKind, Way, Weights
 
 #: Most inputs of one diode AND: each input adds a diode's capacitance and
 #: leakage to the grid node, and four is a usual width for diode gates
@@ -72,20 +74,45 @@ def pullup_ma_worst(family, rec) -> float:
     return vb / (rec.pullup_ohms * (1 - rules.resistor_tolerance)) * 1e3
 
 
-def heater_ways(tube, windings) -> tuple[HeaterWay, ...]:
+def winding_hosts(tube, elevated_volts: float, follower=None) -> frozenset:
+    """What an envelope of ``tube`` on a winding elevated to ``elevated_volts`` may hold.
+
+    "grounded": sections with their cathode at 0 V (the heater-cathode
+    voltage is the elevation); "follower": the family's follower of the type
+    (``follower`` given), whose cathode spans its worst-case range. Checked
+    with :func:`planner.electrical.heater_cathode_excess`.
+    """
+    hosts = set()
+    if heater_cathode_excess(tube, elevated_volts, 0.0, 0.0) <= 0:
+        hosts.add("grounded")
+    if follower is not None and heater_cathode_excess(tube, elevated_volts, follower.cathode_volts_min,
+                                                      follower.cathode_volts_max) <= 0:
+        hosts.add("follower")
+    return frozenset(hosts)
+
+
+def heater_ways(tube, windings, follower=None) -> tuple[HeaterWay, ...]:
     """Every winding a type's heater may sit on: volts equal to the heater's, parallel or series.
 
     A heater with a centre tap (``heater_series``) has two connections:
-    "parallel" (the catalogue's ``heater_volts``) and "series".
+    "parallel" (the catalogue's ``heater_volts``) and "series". Each way
+    says what its envelopes may host (:func:`winding_hosts`); a winding
+    elevated so far that no section of the type may sit on it is left out.
     """
     ways = []
     connections = [("parallel" if tube.heater_series else "single", tube.heater_volts, tube.heater_amps)]
     if tube.heater_series:
         connections.append(("series",) + tuple(tube.heater_series))
     for winding in windings:
+        elevated = winding.elevated_volts
+        hosts = winding_hosts(tube, elevated, follower)
+        if (follower is None and "grounded" in hosts) or not tube.amplifying_sections:
+            hosts = HOSTS  # nothing follows on this type (or it holds diodes only): every way is alike
+        if not hosts:
+            continue
         for connection, volts, amps in connections:
             if abs(volts - winding.volts) <= 1e-9:
-                ways.append(HeaterWay(winding.id, connection, volts, amps))
+                ways.append(HeaterWay(winding.id, connection, volts, amps, elevated, hosts))
     return tuple(ways)
 
 
@@ -105,7 +132,7 @@ def tube_kinds(stock, family) -> tuple[TubeKind, ...]:
                 and not tube.shared_cathode):
             diodes = len(tube.diode_sections)
         kinds.append(TubeKind(tube.name, entry.count - entry.reserve, entry.scarce, tuple(sections), diodes,
-                              tube.shared_cathode, heater_ways(tube, stock.windings)))
+                              tube.shared_cathode, heater_ways(tube, stock.windings, family.followers.get(tube.name))))
     return tuple(sorted(kinds, key=lambda k: k.tube))
 
 
