@@ -22,7 +22,8 @@ and template):
   follower (the family's rule).
 
 A way is allowed when its template's ``fanout_limit`` covers the loads on the
-stage's output net.  Stages with the same set of allowed ways are one class.
+stage's output net and the family has a divider for every input: an input fed
+by a follower takes the follower-fed variant (:func:`branch_receivers`).  Stages with the same set of allowed ways are one class.
 """
 
 from __future__ import annotations
@@ -61,6 +62,35 @@ def branch_realisation(template: str, n_inputs: int) -> Realisation:
     if template == "diode":
         return Realisation("diode", ("diode",))
     raise ValueError(f"no branch in a {template} template")
+
+
+def branch_receivers(family, tube: str, template: str, inputs: tuple[str, ...], follower_nets) -> tuple | None:
+    """The receiver (divider) in front of each input of a branch, or None when one is missing.
+
+    An input whose net is a follower's output (``follower_nets``) takes the
+    family's follower-fed variant, designed for the follower's levels; any
+    other input the drivers' one. A diode AND has one divider after its
+    gate: the follower-fed one when every input comes from a follower, the
+    drivers' one when none does; a gate mixing the two has no divider proven
+    for both loads, so that way is not offered (None).
+
+    >>> class F:  # a family with one divider of each variant
+    ...     def receiver(self, tube, role, after_follower=False):
+    ...         return (role, after_follower)
+    >>> branch_receivers(F(), "12AU7", "dual", ("a", "f1"), {"f1"})
+    (('grid', False), ('grid3', True))
+    >>> branch_receivers(F(), "12AU7", "diode", ("a", "f1"), {"f1"}) is None
+    True
+    """
+    real = branch_realisation(template, len(inputs))
+    if real.means == "diode":
+        fed = {net in follower_nets for net in inputs}
+        if len(fed) > 1:
+            return None
+        rec = family.receiver(tube, "diode", fed.pop())
+        return None if rec is None else (rec,) * len(inputs)
+    out = tuple(family.receiver(tube, role, net in follower_nets) for role, net in zip(real.roles, inputs))
+    return None if any(r is None for r in out) else out
 
 
 def pullup_ma_worst(family, rec) -> float:
@@ -163,12 +193,12 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
             if template == "diode" and (diode_fanin < 2 or any(w > diode_fanin for w in widths)):
                 continue
             bias, plate, typical, diodes, missing = 0.0, 0.0, 0.0, 0, False
-            for width in widths:
-                for role in branch_realisation(template, width).roles:
-                    rec = family.receivers.get((tube, role))
-                    if rec is None:
-                        missing = True
-                        break
+            for branch, width in zip(stage.branches, widths):
+                recs = branch_receivers(family, tube, template, branch.inputs, follower_nets)
+                if recs is None:
+                    missing = True
+                    break
+                for rec in recs[:1] if template == "diode" else recs:
                     bias += rec.bias_ma_worst
                     if rec.pullup_ohms is not None:
                         plate += pullup_ma_worst(family, rec)

@@ -43,7 +43,7 @@ from planner.electrical.rules import DIODE_DROP_VOLTS
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
-from .problem import branch_realisation
+from .problem import branch_realisation, branch_receivers
 from .registers import COMPLEMENT
 
 #: The period is taken this much longer than the estimate: the estimate agrees with ngspice within
@@ -77,6 +77,7 @@ class _Nets:
         self.drop = 0.5 * (drop_lo + drop_hi)
         self.loads: dict[str, list[Load]] = {}
         self.farads: dict[str, float] = {}
+        self.followed = frozenset(s.output for s in network.stages if s.kind == "follower")
         heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
         self.heavy = Load(heavy.upper_ohms, heavy.lower_ohms, self.vc, self.tube(heavy.tube))
         for stage in network.stages:
@@ -88,9 +89,10 @@ class _Nets:
                 continue
             for branch in stage.branches:
                 self._add(stage.output, None, tube.c_out_pf or 0.0)
+                recs = branch_receivers(family, way.tube, way.template, branch.inputs, self.followed)
                 for position, net in enumerate(branch.inputs):
                     role = input_role(way.template, len(branch.inputs), position)
-                    rec = family.receivers[(way.tube, role)]
+                    rec = recs[position]
                     if role == "diode":
                         self._add(net, self.receiver_load(rec, tube), DIODE_PF)
                         continue
@@ -155,7 +157,7 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
     that input's midpoint crossing."""
     tube = nets.tube(way.tube)
     role = input_role(way.template, len(branch.inputs), position)
-    rec = nets.family.receivers[(way.tube, role)]
+    rec = branch_receivers(nets.family, way.tube, way.template, branch.inputs, nets.followed)[position]
     feed = None if driver.screen_series_ohms is None else ScreenFeed(driver.screen_series_ohms,
                                                                      driver.screen_shunt_ohms)
     model = InverterTiming(tube, nets.wear(way.tube), nets.stock.plate.volts, driver.plate_load_ohms,
