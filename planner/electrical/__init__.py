@@ -28,7 +28,7 @@ from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_
 from .family import design_family
 from .followers import heater_cathode_excess
 from .listing import format_template
-from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Template
+from .parts import Driver, Family, Follower, FollowerTemplate, NoTemplate, Receiver, Shortfall, Template
 from .roots import brent_root
 from .rules import DesignRules, Rails
 from .template import design_template
@@ -38,7 +38,7 @@ __all__ = [
     "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_PF", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "WIRING_PF",
     "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
-    "DesignRules", "Driver", "Family", "Follower", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
+    "DesignRules", "Driver", "Family", "Follower", "FollowerTemplate", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
     "Shortfall", "Template", "brent_root", "design_family", "heater_cathode_excess", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",
 ]

@@ -144,6 +144,31 @@ class Follower:
 
 
 @dataclass(frozen=True)
+class FollowerTemplate:
+    """A cathode follower of a template's type driving ``fanout`` loads of the template's kind.
+
+    Its input is the template's driver node (levels ``design_high_volts`` /
+    ``drive_low_volts``); its loads take ``receivers`` (dividers designed
+    for the follower's window: a high at or above ``design_high_volts``, a
+    low at or below ``accept_low_volts``). ``high_volts`` / ``low_volts``:
+    its worst-case cathode levels with ``fanout`` loads (high: worn tube,
+    lowest supply, Rk low, bias most negative, heaviest loads; low: new
+    tube, highest supply, Rk high, bias least negative, lightest load).
+    ``elevation_volts``: the heater reference it was checked against.
+    """
+
+    follower: Follower
+    receivers: tuple[Receiver, ...]
+    fanout: int
+    design_high_volts: float
+    drive_low_volts: float
+    accept_low_volts: float
+    high_volts: float
+    low_volts: float
+    elevation_volts: float = 0.0
+
+
+@dataclass(frozen=True)
 class Family:
     """A logic family: levels every driver meets and every receiver accepts.
 
@@ -191,6 +216,9 @@ class Template:
     a low input puts it. ``fanout_limit``: most loads these values carry.
     ``design_high_volts`` / ``design_low_volts``: the plate levels the
     values are designed to (worst case, with up to ``fanout_limit`` loads).
+    ``follower``: a cathode follower of the type fed by this stage and
+    driving ``fanout`` loads, or the Shortfall saying which limit fails and
+    by how much (None for a type that cannot follow).
     """
 
     tube: str
@@ -210,6 +238,7 @@ class Template:
     fanout_limit: int
     design_high_volts: float
     design_low_volts: float
+    follower: FollowerTemplate | Shortfall | None = None
 
     @property
     def plate_load_ohms(self) -> float:
@@ -244,7 +273,25 @@ class Template:
             "supply_ma_typical": d.supply_ma_typical,
             "section_watts_worst": d.section_watts_worst,
             "screen_watts_worst": d.screen_watts_worst,
+            "follower": _follower_json(self.follower),
             "rules": {"series": self.rules.series, "resistor_tolerance": self.rules.resistor_tolerance,
                       "supply_tolerance": self.rules.supply_tolerance, "wear": self.rules.wear,
                       "margin_volts": self.rules.margin_volts},
         }
+
+
+def _follower_json(f: FollowerTemplate | Shortfall | None) -> dict | None:
+    if f is None:
+        return None
+    if isinstance(f, Shortfall):
+        return {"passes": False, "limit": f.limit, "excess": f.amount, "unit": f.unit, "reason": f.message}
+    x = f.follower
+    return {"passes": True, "fanout": f.fanout, "fanout_limit": x.fanout_limit,
+            "cathode_load_ohms": x.cathode_load_ohms, "cathode_load_watts": x.cathode_load_watts,
+            "grid_stopper_ohms": x.grid_stopper_ohms,
+            "levels": {"high_volts": f.high_volts, "low_volts": f.low_volts,
+                       "accept_low_volts": f.accept_low_volts},
+            "cathode_volts": {"min": x.cathode_volts_min, "max": x.cathode_volts_max},
+            "elevation_volts": f.elevation_volts,
+            "dividers": [{"grid_role": r.grid_role, "upper_ohms": r.upper_ohms, "lower_ohms": r.lower_ohms,
+                          "pullup_ohms": r.pullup_ohms} for r in f.receivers]}
