@@ -46,6 +46,8 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
     the input node rises towards B+). Rk is scanned over the E series; the
     pair with the largest fan-out (then the least current) that also passes
     grid current, heater-cathode voltage, dissipation and watts wins.
+    Values whose cathode resistor would need more than a 2 W rating with
+    the whole span from B+ to the bias rail across it are tried last.
     ``elevations``: the DC references of the heater windings available
     (volts to ground; 0 for a grounded winding); the follower passes the
     heater-cathode check when its cathode's whole range fits the rating
@@ -83,7 +85,10 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
         if fanout < 1:
             high_fail = rk if high_fail is None else max(high_fail, rk)
             continue
-        candidates.append((-fanout, -rk))
+        # Rk takes nearly the whole span from B+ to the bias rail when the input rises to B+: values
+        # whose 2 W rating (at half load) that span would exceed are tried last.
+        hot = (vb_hi - vc_most) ** 2 / box.r(rk, -1) > 1.0
+        candidates.append((hot, -fanout, -rk))
     if not candidates:
         if high_fail is not None:
             rk = box.r(high_fail, -1)
@@ -98,7 +103,7 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
                          f"{accept_low_volts:.1f} V")
     candidates.sort()
     problem = None
-    for neg_f, neg_rk in candidates[:MAX_TRIES]:
+    for _hot, neg_f, neg_rk in candidates[:MAX_TRIES]:
         result = _verify(ctx, -neg_rk, -neg_f, high_volts, accept_low_volts, drive_low_volts, env, node_load_ohms,
                          elevations)
         if isinstance(result, Follower):
