@@ -48,7 +48,7 @@ from planner.catalogue.types import FrozenMap, TubeType
 from .context import TubeContext
 from .drivers import design_driver, make_envelope, precheck
 from .followers import design_follower
-from .parts import Family, Follower, Receiver, Shortfall
+from .parts import Family, Receiver, Shortfall
 from .receivers import design_receiver
 from .rules import DesignRules, Rails
 

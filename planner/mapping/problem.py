@@ -23,7 +23,8 @@ and template):
 
 A way is allowed when its template's ``fanout_limit`` covers the loads on the
 stage's output net and the family has a divider for every input: an input fed
-by a follower takes the follower-fed variant (:func:`branch_receivers`).  Stages with the same set of allowed ways are one class.
+by a follower takes the follower-fed variant (:func:`branch_receivers`).
+Stages with the same set of allowed ways are one class.
 """
 
 from __future__ import annotations
