@@ -7,6 +7,8 @@ catalogue's. ngspice (Debian) is the outside reference for the follower's levels
 
 from __future__ import annotations
 
+import itertools
+import random
 import re
 import shutil
 import subprocess
@@ -276,3 +278,63 @@ def test_follower_template_bounds_ngspice(name, plate, bias, fanout, tmp_path):
     assert low["k"] <= f.low_volts <= f.accept_low_volts  # ngspice nominal low below the worst-case low
     assert high["t0"] >= -0.05  # ngspice: a load's grid reaches 0 V (clamping) on the follower's high
     assert low["t0"] <= rec.cutoff_volts - t.rules.margin_volts  # ngspice: the margin below cut-off
+
+
+def _fits_hosted(envelopes, singles: int, followers: int, shared: bool) -> bool:
+    """Brute force: can the jobs go into these envelopes (each a ``hosts`` set, two sections)?"""
+    def place(i, jobs, room):
+        if i == len(jobs):
+            return True
+        for e, hosts in enumerate(envelopes):
+            kind = jobs[i]
+            if ("follower" if kind == "follower" else "grounded") not in hosts:
+                continue
+            need = 2 if (kind == "follower" and shared) else 1
+            if room[e] >= need:  # a follower on a shared cathode takes the whole envelope
+                taken = list(room)
+                taken[e] -= need
+                if place(i + 1, jobs, taken):
+                    return True
+        return False
+    jobs = ["follower"] * followers + ["single"] * singles
+    return place(0, jobs, [2] * len(envelopes))
+
+
+def test_ilp_hosting_matches_brute_force():
+    """Invented random cases: the least envelopes by the program equals brute force over heater choices."""
+    rng = random.Random(12)
+    choices = (S({"grounded"}), S({"follower"}), HOSTS)
+    for _ in range(40):
+        shared = rng.random() < 0.3
+        hosts = rng.sample(choices, rng.randint(1, 3))
+        caps = [rng.choice((1, 2, 9)) for _ in hosts]  # envelopes each winding can heat
+        singles, followers = rng.randint(0, 3), rng.randint(0, 3)
+        if not singles and not followers:
+            continue
+        heaters = tuple(HeaterWay(f"H{i}", "single", 6.3, 1.0, 0.0, h) for i, h in enumerate(hosts))
+        sections = (S({"single", "follower"}), S({"single", "follower"}))
+        kind = M.TubeKind("T", 12, False, sections, 0, shared, heaters)
+        classes = []
+        if singles:
+            classes.append(M.StageClass((0,), tuple(f"S{i}" for i in range(singles)),
+                                        (M.Way("T", "single", (("single", 1),), 0.0, 0.0, 0.0, 4),)))
+        if followers:
+            classes.append(M.StageClass((1,), tuple(f"F{i}" for i in range(followers)),
+                                        (M.Way("T", "follower", (("follower", 1),), 0.0, 0.0, 0.0, 8),)))
+        supplies = M.Supplies(1e6, 1e6, tuple((f"H{i}", 6.3, float(c)) for i, c in enumerate(caps)))
+        problem = M.Problem((kind,), tuple(classes), supplies, M.Weights(1.0, 0.0, 0.0))
+        brute = None
+        for n in range(0, 7):
+            for combo in itertools.combinations_with_replacement(range(len(hosts)), n):
+                if any(combo.count(i) > c for i, c in enumerate(caps)):
+                    continue
+                if _fits_hosted([hosts[i] for i in combo], singles, followers, shared):
+                    brute = n
+                    break
+            if brute is not None:
+                break
+        try:
+            got = M.solve_problem(problem).envelopes[0]
+        except M.Infeasible:
+            got = None
+        assert got == brute, (hosts, caps, singles, followers, shared)
