@@ -30,11 +30,12 @@ tube types with a driver that passes and over the followers that pass, of
 the fan-out (a type's best means; each counted up to the rules' fan-out
 goal); the least driver fan-out; the least receiver margin over its
 requirement. A coarse grid of (high, low) without followers comes first;
-then the neighbours of its best point at half the step, each with its
-followers, whose allowance ``follower_low_max - low_max`` is chosen per
+then the neighbours of its best point at half the step (and one more half
+step down in low when followers are possible), each with its followers,
+whose allowance ``follower_low_max - low_max`` is chosen per
 candidate (:func:`add_followers`). Drivers and their receivers do not
-depend on the allowance. Cost: about 36 evaluations of every receiver and
-driver, and for 9 of them 6 allowances of the follower-fed dividers and
+depend on the allowance. Cost: about 39 evaluations of every receiver and
+driver, and for 12 of them 6 allowances of the follower-fed dividers and
 the followers.
 """
 
@@ -245,8 +246,9 @@ def search_levels(ctxs: Sequence[TubeContext], means_filter=None, goal=None, bet
     """Best-scoring levels: a coarse grid without followers, then a finer one around its best.
 
     Stage 1 scores the coarse grid of (high, low) with no followers. Stage 2
-    scores the neighbours of the best point at half the step, each with its
-    followers (:func:`add_followers`; when some type can be a follower; not
+    scores the neighbours of the best point at half the step (and, with
+    followers, also one more half step down in low, so that a follower's
+    dividers find room), each with its followers (:func:`add_followers`; when some type can be a follower; not
     for templates, ``means_filter`` given). ``better(outcome) -> tuple``
     replaces the score as the sort key when given. Ties go to the candidate
     met first, so the result is deterministic.
@@ -270,7 +272,9 @@ def search_levels(ctxs: Sequence[TubeContext], means_filter=None, goal=None, bet
     first = best_of(_grid(vb, HIGH_FRACTIONS, LOW_FRACTIONS), False)
     h, lo = first.levels.high / vb, first.levels.drive_low / vb
     dh, dl = (HIGH_FRACTIONS[1] - HIGH_FRACTIONS[0]) / 2, (LOW_FRACTIONS[1] - LOW_FRACTIONS[0]) / 2
-    return best_of(_grid(vb, (h - dh, h, h + dh), (lo - dl, lo, lo + dl)), follow)
+    # Followers need room below the high level for their own dividers: a second step down in low.
+    lows = (lo - 2 * dl, lo - dl, lo, lo + dl) if follow else (lo - dl, lo, lo + dl)
+    return best_of(_grid(vb, (h - dh, h, h + dh), lows), follow)
 
 
 def design_family(rails: Rails, tubes: Sequence[tuple[TubeType, float]], rules: DesignRules = DesignRules(),
