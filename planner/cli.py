@@ -171,6 +171,9 @@ def _add_stage(subparsers) -> None:
     parser.add_argument("--means", choices=("single", "dual", "diode"), default="single",
                         help="branch: one grid, both control grids (g1 and g3), or a diode AND on g1")
     parser.add_argument("--series", choices=("E24", "E12"), default="E24", help="resistor values (IEC 60063)")
+    parser.add_argument("--heater-elevation", type=float, default=0.0, metavar="V",
+                        help="DC reference of the heater winding, volts (default 0), for the follower's "
+                             "heater-cathode check")
     parser.add_argument("--json", action="store_true", help="print the template as JSON")
     parser.set_defaults(run=_run_stage)
 
@@ -191,8 +194,12 @@ def _run_stage(args) -> int:
         rails = Rails(args.plate_volts, args.bias_volts)
     except ValueError as problem:
         raise InputError(where, 0, f"{problem}; expected e.g. --plate-volts 250 --bias-volts -100") from None
+    if not rails.bias_volts <= args.heater_elevation <= rails.plate_volts:
+        raise InputError(where, 0, f"--heater-elevation must lie between the bias supply and B+, "
+                                   f"got {args.heater_elevation:g} V")
     try:
-        template = design_template(tube, args.means, rails, args.fanout, DesignRules(series=args.series))
+        template = design_template(tube, args.means, rails, args.fanout, DesignRules(series=args.series),
+                                   elevation_volts=args.heater_elevation)
     except NoTemplate as problem:
         print(problem.reason, file=sys.stderr)
         return EXIT_INPUT

@@ -5,8 +5,9 @@ Public API:
 - ``Rails(plate_volts, bias_volts)``, ``DesignRules(...)``
 - E series (IEC 60063): ``e_series(name)``, ``series_values(name, lo, hi)``,
   ``nearest_values(r_ohms, series)``, ``resistor_rating_watts(watts)``
-- ``design_family(rails, tubes, rules) -> Family`` with ``Driver``,
-  ``Receiver``, ``Follower`` and ``Shortfall`` (why a part was rejected)
+- ``design_family(rails, tubes, rules, elevations) -> Family`` with ``Driver``,
+  ``Receiver``, ``Follower`` and ``Shortfall`` (why a part was rejected);
+  ``heater_cathode_excess(tube, elevation, low, high)`` (heater-cathode check)
 - ``design_template(tube, means, rails, fanout, rules) -> Template``,
   raising ``NoTemplate``
 - ``format_template(template) -> str`` (the ``tubeplan stage`` text)
@@ -28,8 +29,9 @@ from .bistable import (CAPACITOR_TOLERANCE, CLOCK_TOLERANCE, HOLD_FACTOR, RESET_
 from .circuit import Load, ScreenFeed
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
+from .followers import heater_cathode_excess
 from .listing import format_template
-from .parts import Driver, Family, Follower, NoTemplate, Receiver, Shortfall, Template
+from .parts import Driver, Family, Follower, FollowerTemplate, NoTemplate, Receiver, Shortfall, Template
 from .roots import brent_root
 from .rules import DIODE_DROP_VOLTS, DesignRules, Rails
 from .template import design_template
@@ -41,7 +43,8 @@ __all__ = [
     "NOMINAL_CORNER", "RESET_PULLUP_OHMS", "TimingCorner", "WIRING_PF", "slow_corner",
     "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
-    "DesignRules", "Driver", "Family", "Follower", "Load", "ScreenFeed", "NoTemplate", "RESISTOR_RATINGS_WATTS", "Rails", "Receiver",
-    "Shortfall", "Template", "brent_root", "design_family", "design_template", "e_series", "format_template", "nearest_values",
+    "DesignRules", "Driver", "Family", "Follower", "FollowerTemplate", "Load", "ScreenFeed", "NoTemplate",
+    "RESISTOR_RATINGS_WATTS", "Rails", "Receiver", "Shortfall", "Template", "brent_root", "design_family",
+    "heater_cathode_excess", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",
 ]

@@ -123,12 +123,13 @@ class Part:
 
 @dataclass(frozen=True)
 class WindingLoad:
-    """A heater winding and what the plan puts on it."""
+    """A heater winding and what the plan puts on it; ``elevated_volts``: its DC reference (0: grounded)."""
 
     id: str
     volts: float
     max_amps: float
     amps: float
+    elevated_volts: float = 0.0
 
 
 @dataclass(frozen=True)

@@ -221,7 +221,12 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     if not tubes:
         raise Shortage("the stock has no tube type with an amplifying section (triode, pentode or multigrid)")
     options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
-    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
+    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules,
+                           elevations=tuple(w.elevated_volts for w in stock.windings))
+    for (tube, what), why in sorted(family.rejected.items()):
+        if what == "follower":
+            options.say(f"mapping: no {tube} follower: {why.limit} short by {why.amount:.1f} {why.unit}: "
+                        f"{why.message}")
     weights = _weights(stock, options)
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)

@@ -51,7 +51,7 @@ from planner.electrical import (DIODE_DROP_VOLTS, DIODE_PF, ESTIMATE_TOLERANCE, 
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
-from .problem import branch_realisation
+from .problem import branch_realisation, branch_receivers
 from .registers import COMPLEMENT
 
 #: The worst-case bound is the slow corner's estimate this much longer: the estimate agrees with
@@ -84,6 +84,7 @@ class _Nets:
         self.drop = 0.5 * (drop_lo + drop_hi)
         self.loads: dict[str, list[Load]] = {}
         self.farads: dict[str, float] = {}
+        self.followed = frozenset(s.output for s in network.stages if s.kind == "follower")
         heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
         self.heavy = Load(heavy.upper_ohms, heavy.lower_ohms, self.vc, self.tube(heavy.tube))
         for stage in network.stages:
@@ -95,9 +96,10 @@ class _Nets:
                 continue
             for branch in stage.branches:
                 self._add(stage.output, None, tube.c_out_pf or 0.0)
+                recs = branch_receivers(family, way.tube, way.template, branch.inputs, self.followed)
                 for position, net in enumerate(branch.inputs):
                     role = input_role(way.template, len(branch.inputs), position)
-                    rec = family.receivers[(way.tube, role)]
+                    rec = recs[position]
                     if role == "diode":
                         self._add(net, self.receiver_load(rec, tube), DIODE_PF)
                         continue
@@ -167,7 +169,7 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
     that input's midpoint crossing."""
     tube = nets.tube(way.tube)
     role = input_role(way.template, len(branch.inputs), position)
-    rec = nets.family.receivers[(way.tube, role)]
+    rec = branch_receivers(nets.family, way.tube, way.template, branch.inputs, nets.followed)[position]
     feed = None if driver.screen_series_ohms is None else ScreenFeed(driver.screen_series_ohms,
                                                                      driver.screen_shunt_ohms)
     model = nets.corner.stage(InverterTiming(

@@ -132,10 +132,15 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
             rows.append(("supply", 0, f"heater winding {w.id} {w.volts:g} V: not used by this plan", [], None, None,
                          None))
             continue
+        elevated = ""
+        if w.elevated_volts:
+            elevated = (f"; elevated: the winding is referred to {w.elevated_volts:+g} V DC (a tap or divider off "
+                        f"the supplies, bypassed to ground), so its insulation to the other windings and the core "
+                        f"must be rated for that voltage on top of the mains (common practice)")
         rows.append(("supply", 1, f"heater winding {w.id} {w.volts:g} V, rated at least {w.rating_amps:.2f} A "
                                   f"({w.volts * w.rating_amps:.1f} VA): load {w.amps:.2f} A + {headroom}; "
                                   f"cold-start surge {w.surge_amps_low:.1f} to {w.surge_amps_high:.1f} A "
-                                  f"({low:g} to {high:g} times, common practice)",
+                                  f"({low:g} to {high:g} times, common practice){elevated}",
                      list(w.envelopes), None, None, None))
     return tuple(BomLine(i, group, quantity, text, tuple(refs), price, left, reserve)
                  for i, (group, quantity, text, refs, price, left, reserve) in enumerate(rows, start=1))

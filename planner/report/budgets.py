@@ -39,6 +39,12 @@ class WindingBudget:
     surge_amps_high: float
     rating_amps: float
     envelopes: tuple[str, ...]
+    elevated_volts: float = 0.0
+
+    @property
+    def volts_text(self) -> str:
+        """The winding's volts, with its DC reference when elevated ("6.3 V at +60 V DC")."""
+        return f"{self.volts:g} V" + (f" at {self.elevated_volts:+g} V DC" if self.elevated_volts else "")
 
 
 @dataclass(frozen=True)
@@ -119,7 +125,7 @@ def plan_budgets(plan: Plan) -> Budgets:
     windings = tuple(
         WindingBudget(w.id, w.volts, w.amps, w.max_amps, w.volts * w.amps, w.amps * low, w.amps * high,
                       w.amps * (1 + HEADROOM),
-                      tuple(e.ref for e in plan.envelopes if e.winding == w.id))
+                      tuple(e.ref for e in plan.envelopes if e.winding == w.id), w.elevated_volts)
         for w in b.windings)
     plate = RailBudget("B+", plan.plate_volts, b.plate_ma_worst, b.plate_ma_typical, b.plate_max_ma,
                        plan.plate_volts * b.plate_ma_worst / 1000.0, b.plate_ma_worst * (1 + HEADROOM))

@@ -145,7 +145,8 @@ def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
         "parts": [_part(part) for part in plan.parts],
         "budget": {"heater_watts": _num(budget.heater_watts),
                    "windings": [{"id": w.id, "volts": _num(w.volts), "amps": _num(w.amps),
-                                 "max_amps": _num(w.max_amps)} for w in budget.windings],
+                                 "max_amps": _num(w.max_amps), "elevated_volts": _num(w.elevated_volts)}
+                                for w in budget.windings],
                    "plate_ma_worst": _num(budget.plate_ma_worst),
                    "plate_ma_typical": _num(budget.plate_ma_typical),
                    "bias_ma": _num(budget.bias_ma),

@@ -59,7 +59,7 @@ _BAR_WIDTH, _LABEL_WIDTH, _ROW = 460, 170, 30
 def budget_chart(content: ReportContent) -> str:
     """An inline SVG bar chart: each supply's planned load as a share of what it may deliver."""
     b = content.budgets
-    rows = [(f"heater {w.id} ({w.volts:g} V)", w.amps, w.max_amps, f"{w.amps:.2f} of {w.max_amps:g} A")
+    rows = [(f"heater {w.id} ({w.volts_text})", w.amps, w.max_amps, f"{w.amps:.2f} of {w.max_amps:g} A")
             for w in b.windings]
     rows.append(("B+ worst case", b.plate.ma_worst, b.plate.max_ma,
                  f"{b.plate.ma_worst:.1f} of {b.plate.max_ma:g} mA"))

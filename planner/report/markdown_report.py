@@ -63,7 +63,7 @@ def report_markdown(content: ReportContent) -> str:
             "## Stock", "", markdown_table(stock_table(plan)), "",
             "## Budgets", "", "Supply loads:", ""]
     for w in b.windings:
-        out.append(f"- heater {w.id} ({w.volts:g} V): {_bar(w.amps, w.max_amps)} ({w.amps:.2f} of {w.max_amps:g} A)")
+        out.append(f"- heater {w.id} ({w.volts_text}): {_bar(w.amps, w.max_amps)} ({w.amps:.2f} of {w.max_amps:g} A)")
     out += [f"- B+ worst case: {_bar(b.plate.ma_worst, b.plate.max_ma)} ({b.plate.ma_worst:.1f} of "
             f"{b.plate.max_ma:g} mA)",
             f"- B+ typical: {_bar(b.plate.ma_typical, b.plate.max_ma)} ({b.plate.ma_typical:.1f} of "

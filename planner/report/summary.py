@@ -25,7 +25,7 @@ def plan_summary(plan: Plan) -> str:
     budgets = plan_budgets(plan)
     tube_rows = [[tube_label(s), s.used, s.on_hand - s.used, s.reserve, "yes" if s.scarce else ""]
                  for s in plan.stock]
-    supply_rows = [[f"heater {w.id}", f"{w.volts:g} V", f"{w.amps:.2f} A", f"{w.max_amps:g} A",
+    supply_rows = [[f"heater {w.id}", w.volts_text, f"{w.amps:.2f} A", f"{w.max_amps:g} A",
                     f"{w.watts:.1f} W", ranges(w.envelopes)] for w in budgets.windings]
     supply_rows.append(["plate B+ worst", f"{plan.plate_volts:g} V", f"{budgets.plate.ma_worst:.1f} mA",
                         f"{budgets.plate.max_ma:g} mA", f"{budgets.plate.watts_worst:.1f} W", ""])

@@ -40,7 +40,7 @@ def stock_table(plan: Plan) -> Table:
 def heater_table(budgets: Budgets) -> Table:
     return Table(("winding", "volts", "load", "available", "power", "cold-start surge", "rate at least",
                   "heaters"),
-                 tuple((w.id, f"{w.volts:g} V", f"{w.amps:.2f} A", f"{w.max_amps:g} A", f"{w.watts:.1f} W",
+                 tuple((w.id, w.volts_text, f"{w.amps:.2f} A", f"{w.max_amps:g} A", f"{w.watts:.1f} W",
                         f"{w.surge_amps_low:.1f} to {w.surge_amps_high:.1f} A", f"{w.rating_amps:.2f} A",
                         ranges(w.envelopes)) for w in budgets.windings), numeric=(1, 2, 3, 4, 6))
 
