@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from planner.mapping import MappingOptions, Shortage, plan_design
-from planner.report import check_target, plan_summary, write_plan
+from planner.report import PLAN_FILES, check_target, plan_summary, write_plan
 from planner.spec import load_design, load_stock
 
 
@@ -23,6 +23,10 @@ class PlanResult:
     planned: bool
     summary: str
     files: tuple[Path, ...] = ()
+
+
+def _progress(message: str) -> None:
+    print(f"tubeplan: {message}", file=sys.stderr, flush=True)
 
 
 def _progress_since(start: float):
@@ -44,7 +48,8 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
         progress(f"reading {design_path} and {stock_path}")
     design = load_design(design_path)
     stock = load_stock(stock_path)
-    check_target(Path(out_dir))  # refuse a foreign --out before the planning work, not after
+    inputs = (Path(design_path), Path(stock_path))
+    check_target(Path(out_dir), PLAN_FILES, inputs)  # refuse a bad --out before the planning work, not after
     options = options or MappingOptions()
     if progress and options.progress is None:
         options = dataclasses.replace(options, progress=progress)
@@ -55,5 +60,5 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     if progress:
         progress(f"writing the plan into {out_dir}")
     files = write_plan(plan, Path(out_dir), stock=stock, design_path=Path(design_path),
-                       stock_path=Path(stock_path))
+                       stock_path=Path(stock_path), notify=progress or _progress)
     return PlanResult(True, plan_summary(plan), tuple(files))

@@ -71,3 +71,9 @@ def test_cached_network_equals_a_fresh_one_and_a_changed_design_misses(tmp_path)
     assert network_key(changed, options) != network_key(design, options)
     assert network_key(design, SynthesisOptions(mode="nor")) != network_key(design, options)
     assert cached_network(changed, options, directory=tmp_path) == synthesise(changed, options).network
+
+
+def test_heater_elevations_are_part_of_the_key():
+    rails, rules = Rails(250, -100), DesignRules()
+    assert family_key(rails, _tubes(), rules, (0.0, 60.0)) != family_key(rails, _tubes(), rules)
+    assert family_key(rails, _tubes(), rules, (0.0,)) == family_key(rails, _tubes(), rules, ())

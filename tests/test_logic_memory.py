@@ -73,4 +73,5 @@ def test_a_block_past_the_limits_exits_2_with_a_clear_message(write, run_cli, mo
         """)
     status, out, err = run_cli("logic", path)
     assert status == 2
-    assert err.splitlines()[-1].startswith(f"{path}:4:") and "beyond the minimiser's limits" in err and "Traceback" not in err
+    assert err.splitlines()[-1].startswith(f"{path}:4:")
+    assert "beyond the minimiser's limits" in err and "Traceback" not in err

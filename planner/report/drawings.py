@@ -13,8 +13,12 @@ import re
 import sys
 from dataclasses import dataclass
 
+from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedStage, Plan
 
-def _import_schemdraw_svg_only():
+from .designators import natural_key
+
+
+def _import_schemdraw_svg_only() -> None:
     """Import schemdraw without its matplotlib backend: the drawings are SVG, and schemdraw's
     optional import of matplotlib costs about a second of every plan's start-up. The block
     (``sys.modules[name] = None`` makes that one import fail, as if matplotlib were absent)
@@ -34,10 +38,6 @@ _import_schemdraw_svg_only()
 import schemdraw  # noqa: E402
 import schemdraw.elements as elm  # noqa: E402
 from schemdraw.segments import Segment, SegmentCircle, SegmentText  # noqa: E402
-
-from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedStage, Plan
-
-from .designators import natural_key
 
 _GRID_Y = {"grid": -0.4, "screen": 0.0, "grid3": 0.4}
 #: Display scale of the drawings relative to schemdraw's default size.

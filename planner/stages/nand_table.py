@@ -62,33 +62,35 @@ def minimum_circuits(max_gates: int) -> dict[int, tuple[int, list[tuple[int, int
     Cost: about 7x more states per extra gate (5 s to 8 gates, minutes to 10).
     """
     best: dict[int, tuple[int, list[tuple[int, int]]]] = {class_of(f): (f, []) for f in INPUTS}
+    classes = len({class_of(f) for f in range(256)})
     for depth in range(1, max_gates + 1):
-        seen: dict[tuple[int, ...], int] = {}
-
-        def search(nodes: list[int], gates: list[tuple[int, int]], left: int) -> None:
-            key = _state_key(nodes)
-            if seen.get(key, -1) >= left:
-                return
-            seen[key] = left
-            n = len(nodes)
-            for i in range(n):
-                for j in range(i, n):
-                    f = FULL & ~(nodes[i] & nodes[j])
-                    if f in nodes:
-                        continue
-                    made = gates + [(i, j)]
-                    c = class_of(f)
-                    if c not in best or len(best[c][1]) > len(made):
-                        best[c] = (f, made)
-                    if left > 1:
-                        nodes.append(f)
-                        search(nodes, made, left - 1)
-                        nodes.pop()
-
-        search(list(INPUTS), [], depth)
-        if len(best) == len({class_of(f) for f in range(256)}):
+        _search_all(list(INPUTS), [], depth, {}, best)
+        if len(best) == classes:
             break
     return best
+
+
+def _search_all(nodes: list[int], gates: list[tuple[int, int]], left: int, seen: dict[tuple[int, ...], int],
+                best: dict[int, tuple[int, list[tuple[int, int]]]]) -> None:
+    """Depth-first over every circuit of up to ``left`` more gates, recording each class's smallest."""
+    key = _state_key(nodes)
+    if seen.get(key, -1) >= left:
+        return
+    seen[key] = left
+    n = len(nodes)
+    for i in range(n):
+        for j in range(i, n):
+            f = FULL & ~(nodes[i] & nodes[j])
+            if f in nodes:
+                continue
+            made = gates + [(i, j)]
+            c = class_of(f)
+            if c not in best or len(best[c][1]) > len(made):
+                best[c] = (f, made)
+            if left > 1:
+                nodes.append(f)
+                _search_all(nodes, made, left - 1, seen, best)
+                nodes.pop()
 
 
 def evaluate(gates: list[tuple[int, int]], start: tuple[int, ...]) -> int:

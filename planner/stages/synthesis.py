@@ -31,7 +31,8 @@ from typing import Callable, Mapping
 
 import sympy
 
-from planner.logic import EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, minimise, minimise_complement, table_from_expr
+from planner.logic import (EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, minimise, minimise_complement,
+                           table_from_expr)
 from planner.logic import design_support, design_table, output_support, output_table, used_inputs
 
 from .builder import Builder
