@@ -2,7 +2,8 @@
 
 Exit statuses: 0 done; 1 internal error (one line and a hint; traceback with
 ``--debug``); 2 bad input (one ``FILE:LINE: message``); 3 the stock or
-supplies cannot carry the design (with what is short).
+supplies cannot carry the design (with what is short); 4 ``prove`` found a
+wrong vector or a negative margin.
 """
 
 from __future__ import annotations
@@ -12,7 +13,7 @@ import json
 import sys
 from pathlib import Path
 
-EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT = 0, 1, 2, 3
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT, EXIT_UNPROVEN = 0, 1, 2, 3, 4
 
 #: The bundled demo, planned by ``tubeplan plan`` with no arguments.
 DEMO_DIR = Path(__file__).resolve().parent.parent / "inventory_demo"
@@ -77,6 +78,9 @@ def _add_plan(subparsers) -> None:
     parser.add_argument("--flatten", type=int, metavar="N",
                         help="flatten named signals into blocks of at most N inputs and minimise them again")
     parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    parser.add_argument("--prove", action="store_true",
+                        help="then prove the plan in ngspice (as tubeplan prove OUT; skipped, with a note, when "
+                             "ngspice is absent)")
     parser.set_defaults(run=_run_plan)
 
 
@@ -104,7 +108,58 @@ def _run_plan(args) -> int:
     print(result.summary)
     print()
     print(CAUTION)
-    return EXIT_OK if result.planned else EXIT_SHORT
+    if not result.planned:
+        return EXIT_SHORT
+    if args.prove:
+        from planner.prove import NgspiceMissing, find_ngspice
+
+        try:
+            find_ngspice()
+        except NgspiceMissing as missing:
+            print(f"tubeplan: --prove skipped: {missing}", file=sys.stderr)
+            return EXIT_OK
+        print()
+        return _prove(out, quiet=args.quiet)
+    return EXIT_OK
+
+
+# --- prove --------------------------------------------------------------------------------
+
+def _add_prove(subparsers) -> None:
+    from planner.prove import VECTOR_LIMIT
+
+    parser = subparsers.add_parser(
+        "prove", help="prove a plan directory's SPICE deck in ngspice at nominal and worst-case corners",
+        description="Run the plan directory's own plan.cir (as written) in ngspice over every input vector "
+                    f"(a seeded sample of {VECTOR_LIMIT} above {VECTOR_LIMIT}) at nominal and at corners (tube "
+                    "wear, supply and resistor tolerances); registers over clock cycles at the plan's clock. "
+                    "Writes prove.json and the reports' simulation section. Exit 0 proven, 4 a wrong vector or "
+                    "a negative margin, 2 a bad directory or no ngspice.")
+    parser.add_argument("directory", metavar="DIR", help="a plan directory (the --out of tubeplan plan)")
+    parser.add_argument("--seed", type=int, default=1, help="seed of the vector sample (default 1)")
+    parser.add_argument("--ngspice", metavar="PATH", help="the ngspice executable (default: ngspice on PATH)")
+    parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    parser.set_defaults(run=_run_prove)
+
+
+def _run_prove(args) -> int:
+    return _prove(Path(args.directory), quiet=args.quiet, executable=args.ngspice, seed=args.seed)
+
+
+def _prove(directory: Path, *, quiet: bool, executable: str | None = None, seed: int = 1) -> int:
+    from planner.prove import NgspiceFailed, NgspiceMissing, format_proof, prove_directory
+    from planner.prove.ngspice import say
+
+    try:
+        proof, _ = prove_directory(directory, executable=executable, seed=seed, say=None if quiet else say)
+    except NgspiceMissing as missing:
+        print(f"tubeplan: {missing}", file=sys.stderr)
+        return EXIT_INPUT
+    except NgspiceFailed as failed:
+        print(f"{directory / 'plan.cir'}:0: ngspice cannot run the deck: {failed.reason}", file=sys.stderr)
+        return EXIT_INPUT
+    print(format_proof(proof))
+    return EXIT_OK if proof.holds else EXIT_UNPROVEN
 
 
 # --- tubes --------------------------------------------------------------------------------
@@ -218,7 +273,7 @@ def _run_logic(args) -> int:
     return EXIT_OK
 
 
-_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_stage, _add_logic)
+_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_prove, _add_stage, _add_logic)
 
 
 def build_parser() -> argparse.ArgumentParser:

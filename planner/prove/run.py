@@ -193,11 +193,11 @@ class _Deck:
 def _check(plan, deck, corners, expected_rows, volts_rows, labels, vector_of, kinds) -> list[OutputCorner]:
     """Per output (label) and corner: right / total, extreme levels, first wrong vector."""
     results = []
-    for c, corner in enumerate(corners):
-        rows = volts_rows[c]
-        if rows is None:
-            continue
-        for label in labels:
+    for label in labels:
+        for c, corner in enumerate(corners):
+            rows = volts_rows[c]
+            if rows is None:
+                continue
             high_t = plan.high_volts
             low_t = plan.low_threshold(label) if kinds[label] == "output" else plan.low_volts
             middle = (high_t + low_t) / 2
@@ -292,7 +292,7 @@ def _prove_registers(plan, deck, corners, executable, say, seed) -> Proof:
     match = re.search(r"(?mi)^V_clk\s+(\S+)\s+(\S+)\s+.*$", deck.body)
     if match is None:
         raise InputError(str(plan.path / DECK_FILE), 0, "has no clock source V_clk; re-plan or restore the deck")
-    hold = min(2 ** len(plan.registers), 4)
+    hold = min(2 ** len(plan.registers), 4) + 1  # one more than the counter wraps in, up to 5
     space = 2 ** len(names)
     if space * hold <= CYCLE_LIMIT:
         sequence = [k ^ (k >> 1) for k in range(space) for _ in range(hold)]

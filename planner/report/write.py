@@ -26,12 +26,17 @@ from .content import report_content
 from .document import plan_json
 from .html_report import report_html
 from .markdown_report import report_markdown
+from .proof_section import PROVE_FILE
 from .spice import spice_deck
 from .wiring import wiring_csv
 
 #: The file that marks a directory as a plan written by tubeplan (safe to replace).
 MARKER = ".tubeplan-plan"
 MARKER_TEXT = "This directory was written by tubeplan plan and is replaced whole by the next run.\n"
+
+#: Every file tubeplan writes into a plan directory: ``plan`` writes all but prove.json, which ``tubeplan
+#: prove`` adds (rewriting the reports' simulation section); a re-plan replaces them all.
+PLAN_FILES = ("plan.json", "bom.csv", "bom.md", "wiring.csv", "plan.cir", "report.html", "report.md", PROVE_FILE)
 
 
 def check_target(out_dir: Path) -> bool:
