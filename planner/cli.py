@@ -126,12 +126,10 @@ def _run_plan(args) -> int:
 # --- prove --------------------------------------------------------------------------------
 
 def _add_prove(subparsers) -> None:
-    from planner.prove import VECTOR_LIMIT
-
     parser = subparsers.add_parser(
         "prove", help="prove a plan directory's SPICE deck in ngspice at nominal and worst-case corners",
         description="Run the plan directory's own plan.cir (as written) in ngspice over every input vector "
-                    f"(a seeded sample of {VECTOR_LIMIT} above {VECTOR_LIMIT}) at nominal and at corners (tube "
+                    "(a seeded sample of 4096 above 4096) at nominal and at corners (tube "
                     "wear, supply and resistor tolerances); registers over clock cycles at the plan's clock. "
                     "Writes prove.json and the reports' simulation section. Exit 0 proven, 4 a wrong vector or "
                     "a negative margin, 2 a bad directory or no ngspice.")

@@ -10,6 +10,7 @@ tests/test_registers.py.
 
 from __future__ import annotations
 
+import itertools
 import json
 import re
 import shutil
@@ -17,6 +18,9 @@ import subprocess
 from pathlib import Path
 
 import pytest
+from test_registers import COUNTER
+from test_registers import STOCK as REGISTER_STOCK
+from test_report_html import check_report_html, needs_chromium, render_in_chromium
 
 from planner.catalogue import builtin_catalogue, spice_subcircuit
 from planner.catalogue.models import plate_current_amps
@@ -24,9 +28,6 @@ from planner.cli import DEMO_DESIGN, DEMO_STOCK
 from planner.pipeline import plan_files
 from planner.prove import deck_params, input_vectors, plan_corners
 from planner.report import PROVE_FILE
-from test_registers import COUNTER
-from test_registers import STOCK as REGISTER_STOCK
-from test_report_html import check_report_html, needs_chromium, render_in_chromium
 
 pytestmark = [pytest.mark.ngspice,
               pytest.mark.skipif(shutil.which("ngspice") is None,
@@ -217,7 +218,7 @@ def test_bad_directories_give_one_line_and_exit_2(plans, run_cli, tmp_path):
     (unreadable / "plan.cir").write_bytes(b"* deck\n\xff\xfe\x00 broken\n.end\n")
     status, out, err = run_cli("prove", unreadable)
     assert status == 2 and len(err.strip().splitlines()) == 1 and "plan.cir:0: cannot be read" in err
-    status, out, err = run_cli("prove", tmp_path / "nowhere")
+    status, _, err = run_cli("prove", tmp_path / "nowhere")
     assert status == 2 and len(err.strip().splitlines()) == 1
 
 
@@ -225,7 +226,7 @@ def test_ngspice_absent_gives_one_line_with_how_to_install(plans, run_cli, monke
     status, out, err = run_cli("prove", plans["small"], "--ngspice", tmp_path / "no-such-ngspice")
     assert status == 2 and len(err.strip().splitlines()) == 1 and "apt-get install ngspice" in err
     monkeypatch.setenv("PATH", str(tmp_path))
-    status, out, err = run_cli("prove", plans["small"])
+    status, _, err = run_cli("prove", plans["small"])
     assert status == 2 and len(err.strip().splitlines()) == 1 and "ngspice is not on PATH" in err
 
 
@@ -264,7 +265,7 @@ def test_wear_scales_a_sections_current_in_ngspice(tmp_path):
              spice_subcircuit(tube, "triode"), ".op", ".end"]
     deck = tmp_path / "wear.cir"
     deck.write_text("\n".join(lines) + "\n")
-    done = subprocess.run(["ngspice", "-b", str(deck)], capture_output=True, text=True, timeout=60)
+    done = subprocess.run(["ngspice", "-b", str(deck)], capture_output=True, text=True, timeout=60, check=True)
     amps = abs(float(re.search(r"vm#branch\s+(\S+)", done.stdout).group(1)))
     # Reference: ngspice operating point; the planner's model of a worn tube is 0.7 x its current.
     assert amps == pytest.approx(0.7 * plate_current_amps(tube, plate_volts=150, grid_volts=-2), rel=0.01)
@@ -277,4 +278,14 @@ def test_vectors_above_the_limit_are_a_seeded_sample():
     assert input_vectors(13, seed=2)[0] != first
     gray, every = input_vectors(12)
     assert every and len(gray) == 4096
-    assert all(bin(a ^ b).count("1") == 1 for a, b in zip(gray, gray[1:]))  # one input changes at a time
+    assert all((a ^ b).bit_count() == 1 for a, b in itertools.pairwise(gray))  # one input changes at a time
+
+
+def test_proving_twice_gives_the_same_bytes(plans, run_cli, tmp_path):
+    directory = _copy(plans["small"], tmp_path)
+    assert run_cli("prove", directory, "--quiet")[0] == 0
+    first = {name: (directory / name).read_bytes() for name in (PROVE_FILE, "report.html", "report.md")}
+    assert run_cli("prove", directory, "--quiet")[0] == 0
+    # The plot is matplotlib's SVG with fixed ids and no date; the section is replaced, not added again.
+    assert all((directory / name).read_bytes() == data for name, data in first.items())
+    assert first["report.html"].count(b'<svg class="plot"') == 1

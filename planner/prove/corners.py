@@ -34,7 +34,7 @@ def deck_params(deck: str) -> dict[str, float]:
     """
     params = {}
     for line in re.findall(r"(?mi)^\s*\.param\s+(.*)$", deck):
-        for name, value in re.findall(r"(\w+)\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?)(?=\s|$)", line, re.I):
+        for name, value in re.findall(r"(\w+)\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?)(?=\s|$)", line, re.IGNORECASE):
             params[name.lower()] = float(value)
     return params
 

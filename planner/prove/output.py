@@ -13,7 +13,12 @@ from pathlib import Path
 
 from tabulate import tabulate
 
-from planner.report import PROVE_FILE, replace_section, simulation_html, simulation_markdown
+from planner.report import (
+    PROVE_FILE,
+    replace_section,
+    simulation_html,
+    simulation_markdown,
+)
 
 from .run import VECTOR_LIMIT, OutputCorner, Proof
 
@@ -168,9 +173,9 @@ def section_html(proof: Proof) -> str:
     body = "".join("<tr>" + "".join(f'<td{" class=num" if 2 <= k <= 5 else ""}>{escape(c)}</td>'
                                     for k, c in enumerate(row)) + "</tr>" for row in _rows(proof))
     return "\n".join([f"<p>{escape(scope_line(proof))}. {verdict}</p>",
-                      '<p class="note">Per output, the lowest simulated high and the highest simulated low at each '
-                      "corner, against the family's thresholds; the bar from a threshold to a level is its "
-                      "margin.</p>",
+                      ('<p class="note">Per output, the lowest simulated high and the highest simulated low at each '
+                       "corner, against the family's thresholds; the bar from a threshold to a level is its "
+                       "margin.</p>"),
                       f'<div class="drawing">{levels_svg(proof)}</div>',
                       f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>",
                       "<details><summary>Corners</summary><ul>"

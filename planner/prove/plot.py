@@ -70,10 +70,10 @@ def levels_svg(proof: Proof) -> str:
         figure.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None})
     text = buffer.getvalue()
     text = text[text.index("<svg"):]
-    text = re.sub(r"<metadata>.*?</metadata>", "", text, flags=re.S)
+    text = re.sub(r"<metadata>.*?</metadata>", "", text, flags=re.DOTALL)
     # The axes scale to the data, so nothing needs clipping; without the clip paths the page holds no
     # url() reference at all (the report's self-containment check looks for none).
     text = re.sub(r'\s*clip-path="url\(#[^)]*\)"', "", text)
-    text = re.sub(r"<clipPath\b.*?</clipPath>\s*", "", text, flags=re.S)
+    text = re.sub(r"<clipPath\b.*?</clipPath>\s*", "", text, flags=re.DOTALL)
     return text.replace("<svg ", '<svg class="plot" role="img" aria-label="simulated levels per output and corner" ',
                         1)

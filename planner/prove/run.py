@@ -181,7 +181,7 @@ class _Deck:
     def with_sources(self, table: Callable[[int, str, bool], str]) -> str:
         """The deck body with each input source replaced by ``table(k, node, inverted)``'s line."""
         body = self.body
-        for k, ((name, inverted), (line, node, _)) in enumerate(sorted(self.sources.items())):
+        for (name, inverted), (line, node, _) in sorted(self.sources.items()):
             index = [n for n, _ in self.plan.inputs].index(name)
             body = body.replace(line, table(index, node, inverted), 1)
         return body
@@ -190,7 +190,7 @@ class _Deck:
         return [f"alterparam {name}={value:.9g}" for name, value in corner_values(corner, self.params)] + ["reset"]
 
 
-def _check(plan, deck, corners, expected_rows, volts_rows, labels, vector_of, kinds) -> list[OutputCorner]:
+def _check(plan, corners, expected_rows, volts_rows, labels, vector_of, kinds) -> list[OutputCorner]:
     """Per output (label) and corner: right / total, extreme levels, first wrong vector."""
     results = []
     for label in labels:
@@ -280,7 +280,7 @@ def _prove_combinational(plan, deck, corners, executable, say, limit, seed) -> P
     def vector_of(k: int) -> tuple[tuple[str, int], ...]:
         return tuple((n, (vectors[k] >> i) & 1) for i, n in enumerate(names))
 
-    results = _check(plan, deck, corners, expected, volts_rows, labels, vector_of, dict.fromkeys(labels, "output"))
+    results = _check(plan, corners, expected, volts_rows, labels, vector_of, dict.fromkeys(labels, "output"))
     return Proof(plan.design, count, 2 ** len(names), every, seed, tuple(corners), tuple(results), tuple(failures))
 
 
@@ -356,7 +356,7 @@ def _prove_registers(plan, deck, corners, executable, say, seed) -> Proof:
             continue
         volts_rows.append(_sample(rows, labels, [(c + 0.47) * period for c in range(cycles)]))
     kinds = dict.fromkeys(deck.outputs, "output") | dict.fromkeys(registers, "register")
-    results = _check(plan, deck, corners, expected, volts_rows, labels, lambda k: vectors[k], kinds)
+    results = _check(plan, corners, expected, volts_rows, labels, lambda k: vectors[k], kinds)
     return Proof(plan.design, cycles, space, every, seed, tuple(corners), tuple(results), tuple(failures),
                  (period, clock.swing_volts, fall))
 
