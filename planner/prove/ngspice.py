@@ -47,7 +47,7 @@ def _first_error(text: str) -> str | None:
     """The first line of ngspice's output that reports an error, stripped."""
     for line in text.splitlines():
         low = line.lower()
-        if ("error" in low and "errors" not in low.split(":")[0]) or "unknown subckt" in low or "not found" in low:
+        if "error" in low or "unknown subckt" in low:
             return line.strip()
     return None
 
