@@ -289,3 +289,13 @@ def test_proving_twice_gives_the_same_bytes(plans, run_cli, tmp_path):
     # The plot is matplotlib's SVG with fixed ids and no date; the section is replaced, not added again.
     assert all((directory / name).read_bytes() == data for name, data in first.items())
     assert first["report.html"].count(b'<svg class="plot"') == 1
+
+
+def test_a_sample_is_run_and_stated_when_the_vectors_exceed_the_limit(plans):
+    from planner.prove import find_ngspice, format_proof, prove_plan, read_plan_directory
+
+    proof = prove_plan(read_plan_directory(plans["small"]), find_ngspice(), limit=3, seed=5)
+    # Reference: ngspice; three of the four vectors, drawn with the seed, each right at every corner.
+    assert not proof.exhaustive and proof.vectors == 3 and proof.space == 4 and proof.holds
+    assert all(r.total == 3 == r.right for r in proof.results)
+    assert "a sample of 3 of the 4 input vectors (every vector is run only up to 3; seed 5)" in format_proof(proof)

@@ -47,8 +47,8 @@ def scope_line(proof: Proof) -> str:
     elif proof.exhaustive:
         what = f"every one of the {proof.vectors} input vectors"
     else:
-        what = (f"a sample of {proof.vectors} of the {proof.space} input vectors (more than {VECTOR_LIMIT}; "
-                f"seed {proof.seed})")
+        what = (f"a sample of {proof.vectors} of the {proof.space} input vectors (every vector is run only up "
+                f"to {proof.vectors}; seed {proof.seed})")
     return f"{proof.design}: {what} at {len(proof.corners)} corners in ngspice"
 
 
