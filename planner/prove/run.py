@@ -30,6 +30,8 @@ VECTOR_LIMIT = 2 ** 12
 """Up to this many input vectors every vector is run; above it a seeded sample of this many."""
 
 DEFAULT_SEED = 1
+SWEEP_CHUNK = 256
+"""Vectors per DC sweep; a corner with more is swept in chunks, with a progress line after each."""
 CYCLE_LIMIT = 32
 """Most clock cycles of a register plan's transient."""
 
@@ -217,11 +219,18 @@ def _check(plan, corners, expected_rows, volts_rows, labels, vector_of, kinds) -
     return results
 
 
-def _progress_reader(say, corners, what):
+def _progress_reader(say, corners, what: str, vectors: int = 0):
+    """A line handler that turns the control block's markers into progress lines."""
     def on_line(line: str) -> None:
-        if say is not None and line.startswith("@@corner "):
+        if say is None:
+            return
+        if line.startswith("@@corner "):
             k = int(line.split()[1])
             say(f"corner {k + 1} of {len(corners)} done ({corners[k].name}, {what})")
+        elif line.startswith("@@vectors ") and vectors > SWEEP_CHUNK:
+            k, done = map(int, line.split()[1:3])
+            if done < vectors:
+                say(f"corner {k + 1} of {len(corners)} ({corners[k].name}): {done} of {vectors} vectors")
     return on_line
 
 
@@ -245,24 +254,29 @@ def _prove_combinational(plan, deck, corners, executable, say, limit, seed) -> P
                f"{_pwl_points(points)})"
 
     labels = sorted(deck.outputs)
+    chunks = [(start, min(start + SWEEP_CHUNK, count)) for start in range(0, count, SWEEP_CHUNK)]
     lines = [deck.with_sources(table), "V_prove_vec prove_vec 0 0", ".control", "set noaskquit",
              "set wr_singlescale"]
     for k, corner in enumerate(corners):
         lines += deck.corner_commands(corner)
-        lines += [f"dc V_prove_vec 0 {count - 1} 1",
-                  f"wrdata corner{k}.txt " + " ".join(f"v({deck.outputs[n]})" for n in labels),
-                  "destroy all", f"echo @@corner {k}"]
+        for c, (start, stop) in enumerate(chunks):  # sweeps of a chunk each, so progress comes often
+            lines += [f"dc V_prove_vec {start} {stop - 1} 1",
+                      f"wrdata corner{k}_{c}.txt " + " ".join(f"v({deck.outputs[n]})" for n in labels),
+                      "destroy all", f"echo @@vectors {k} {stop}"]
+        lines.append(f"echo @@corner {k}")
     lines += ["quit", ".endc", ".end", ""]
     if say:
         say(f"{plan.design}: {count} input vectors{'' if every else f' (a sample, seed {seed})'} at "
             f"{len(corners)} corners in ngspice")
-    files = tuple(f"corner{k}.txt" for k in range(len(corners)))
+    files = tuple(f"corner{k}_{c}.txt" for k in range(len(corners)) for c in range(len(chunks)))
     _, written = run_batch("\n".join(lines), executable, files=files,
-                           on_line=_progress_reader(say, corners, f"{count} vectors"),
+                           on_line=_progress_reader(say, corners, f"{count} vectors", count),
                            timeout_s=60.0 + 2.0 * count * len(corners))
     volts_rows, failures = [], []
     for k, corner in enumerate(corners):
-        rows = _read_table(written.get(f"corner{k}.txt"), count)
+        parts = [_read_table(written.get(f"corner{k}_{c}.txt"), stop - start)
+                 for c, (start, stop) in enumerate(chunks)]
+        rows = None if None in parts else [row for part in parts for row in part]
         if rows is None:
             if k == 0:
                 raise NgspiceFailed("ngspice found no operating point for the deck at nominal")
