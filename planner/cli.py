@@ -145,8 +145,7 @@ def _run_prove(args) -> int:
 
 
 def _prove(directory: Path, *, quiet: bool, executable: str | None = None, seed: int = 1) -> int:
-    from planner.prove import NgspiceFailed, NgspiceMissing, format_proof, prove_directory
-    from planner.prove.ngspice import say
+    from planner.prove import NgspiceFailed, NgspiceMissing, format_proof, prove_directory, say
 
     try:
         proof, _ = prove_directory(directory, executable=executable, seed=seed, say=None if quiet else say)
