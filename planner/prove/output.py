@@ -13,12 +13,7 @@ from pathlib import Path
 
 from tabulate import tabulate
 
-from planner.report import (
-    PROVE_FILE,
-    replace_section,
-    simulation_html,
-    simulation_markdown,
-)
+from planner.report import PROVE_FILE, claim_files, replace_section, simulation_html, simulation_markdown
 
 from .run import VECTOR_LIMIT, OutputCorner, Proof
 
@@ -219,13 +214,17 @@ def prove_directory(directory: Path, *, executable: str | None = None, limit: in
                     say=None) -> tuple[Proof, list[Path]]:
     """Read the plan ``directory``, prove its deck in ngspice and write prove.json and the reports' section.
 
-    Raises InputError for a bad directory (before looking for ngspice),
-    NgspiceMissing, and NgspiceFailed when ngspice cannot run the deck.
+    Raises InputError for a bad directory (before looking for ngspice) or a
+    prove.json that is the user's, NgspiceMissing, and NgspiceFailed when
+    ngspice cannot run the deck. prove.json is listed in the plan's marker, so
+    a re-plan replaces it.
     """
     from .directory import read_plan_directory
     from .ngspice import find_ngspice
     from .run import prove_plan
 
     plan = read_plan_directory(Path(directory))
-    proof = prove_plan(plan, find_ngspice(executable), say=say, limit=limit, seed=seed)
+    executable = find_ngspice(executable)
+    claim_files(Path(directory), (PROVE_FILE,))  # before the work: refuses a prove.json of the user's
+    proof = prove_plan(plan, executable, say=say, limit=limit, seed=seed)
     return proof, write_proof(Path(directory), proof)
