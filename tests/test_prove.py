@@ -77,6 +77,16 @@ def demo(tmp_path_factory):
     return _plan(root, "demo", DEMO_DESIGN, DEMO_STOCK)
 
 
+@pytest.fixture(scope="module")
+def counter(plans):
+    """The counter's plan directory, proven once (prove_directory: what tubeplan prove runs)."""
+    from planner.prove import prove_directory
+
+    directory = _plan(plans["root"], "counter", COUNTER, REGISTER_STOCK)
+    prove_directory(directory)
+    return directory
+
+
 def _copy(plan: Path, tmp_path: Path) -> Path:
     target = tmp_path / plan.name
     shutil.copytree(plan, target)
@@ -124,8 +134,21 @@ def test_corner_parameters_move_the_levels_as_documented(demo, run_cli):
         assert worst_low > rows[(output, "tubes worn")]["highest_low_volts"]
         assert worst_high < nominal["lowest_high_volts"]
         assert rows[(output, "B+ 95 %, bias 95 %")]["lowest_high_volts"] < nominal["lowest_high_volts"]
-    assert any(rows[(o, "resistors against highs")]["lowest_high_volts"] < rows[(o, "nominal")]["lowest_high_volts"]
-               for o in ("cout", "equal", "s0", "s1"))
+
+
+def test_corner_parameters_move_a_loaded_nodes_highs_as_documented(counter):
+    # The demo's outputs drive nothing, so their highs sit at B+; a register's plate carries the other
+    # side's divider, so its high moves with the resistors and the tubes.
+    rows = _by(_proof(counter))
+    for register in ("q0", "q1"):
+        nominal = rows[(register, "nominal")]
+        # Reference: ngspice. The deck's header: rdir=+1 (a larger plate load, a smaller divider upper)
+        # lowers the highs, rdir=-1 raises the lows; worn tubes raise the lows.
+        assert rows[(register, "resistors against highs")]["lowest_high_volts"] < nominal["lowest_high_volts"]
+        assert rows[(register, "resistors against lows")]["highest_low_volts"] > nominal["highest_low_volts"]
+        assert rows[(register, "tubes worn")]["highest_low_volts"] > nominal["highest_low_volts"]
+        worst = min(rows[(register, f"worst for highs, bias {b} %")]["lowest_high_volts"] for b in (95, 105))
+        assert worst < rows[(register, "resistors against highs")]["lowest_high_volts"]
 
 
 def test_the_plot_is_in_the_report_and_renders(demo, run_cli, tmp_path):
@@ -159,11 +182,10 @@ def test_the_plot_renders_in_headless_chromium(demo, run_cli, tmp_path):
         assert (abs(pixels - rgb).sum(axis=-1) <= 6).sum() > 50, rgb
 
 
-def test_counter_is_proven_over_clock_cycles_at_every_corner(plans, run_cli):
-    directory = _plan(plans["root"], "counter", COUNTER, REGISTER_STOCK)
-    status, out, err = run_cli("prove", directory, "--quiet")
+def test_counter_is_proven_over_clock_cycles_at_every_corner(counter, run_cli):
+    status, out, err = run_cli("prove", counter, "--quiet")
     assert status == 0, out + err
-    proof = _proof(directory)
+    proof = _proof(counter)
     assert proof["clock"] is not None and proof["vectors"] == 10  # en = 0 for 5 cycles, then 1 for 5
     rows = _by(proof)
     # Reference: ngspice transient of the plan's own deck at the plan's clock; the counter's states are

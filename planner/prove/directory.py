@@ -39,11 +39,13 @@ class Register:
 
 @dataclass(frozen=True)
 class ClockPlan:
-    """The clock the plan recommends: falling ``swing_volts`` within ``fall_seconds``, ``period_seconds``."""
+    """The clock the plan recommends: falling ``swing_volts`` within ``fall_seconds``, ``period_seconds``;
+    ``reset_net`` the line a momentary contact to BIAS resets the registers with."""
 
     swing_volts: float
     fall_seconds: float
     period_seconds: float
+    reset_net: str = "RESET"
 
 
 @dataclass(frozen=True)
@@ -108,7 +110,8 @@ def _clock(document, where: str) -> ClockPlan | None:
     hz = timing.get("max_clock_hz")
     period = 1.0 / float(hz) if hz else 1.5 * _number(document, where, "timing", "min_period_seconds")
     return ClockPlan(_number(document, where, "clock", "swing_volts"),
-                     _number(document, where, "clock", "fall_seconds_max"), period)
+                     _number(document, where, "clock", "fall_seconds_max"), period,
+                     str(clock.get("reset_net") or "RESET"))
 
 
 def read_plan_directory(directory: Path) -> PlanDirectory:
