@@ -310,3 +310,20 @@ def test_planned_shift_register_shifts_in_ngspice(shift, tmp_path):
     states = [_bits(plan, v) for v in _transient(plan, {"d": 1}, 3, tmp_path)]
     # Reference: ngspice transient; the reset state 001 (s0 s1 s2) takes a 1 into s0 on each edge.
     assert [(s["s0"], s["s1"], s["s2"]) for s in states] == [(0, 0, 1), (1, 0, 0), (1, 1, 0), (1, 1, 1)]
+
+
+def test_the_register_is_drawn_in_the_report(counter):
+    from planner.report.html_report import report_html
+    from test_report_html import check_report_html
+
+    _, _, plan = counter
+    page = report_html(report_content(plan, builtin_catalogue()))
+    text = check_report_html(page)
+    assert "register (bistable, reset to 0) on 12AU7 (q0, q1)" in text
+    drawing = page[page.index("register (bistable"):]
+    drawing = drawing[:drawing.index("</svg>")]
+    # Drawn from the parts list: both steering diodes, the reset diode and the steering capacitors of q0.
+    refs = [p.ref for p in plan.parts if p.stage == "reg:q0" and p.role in ("steering diode", "reset diode",
+                                                                             "steering", "plate load")]
+    assert len(refs) >= 7 and all(re.search(rf">{r}\b", drawing) for r in refs), refs
+    assert ">RESET<" in drawing and ">CLK<" in drawing and ">~q0<" in drawing and 'viewBox="' in drawing

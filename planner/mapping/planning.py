@@ -257,7 +257,11 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     options.say("mapping: estimating the timing")
     timing, flips = plan_timing(plan, cand.network, placement, family, stock, rules, setting)
     registers = tuple(replace(r, clock_to_q_seconds=flips[r.name]) for r in plan.registers)
-    return replace(plan, timing=timing, registers=registers)
+    wear: dict[str, float] = {}
+    for tube, condition in tubes:
+        wear[tube.name] = min(condition, wear.get(tube.name, condition))
+    return replace(plan, timing=timing, registers=registers, tube_wear=tuple(sorted(wear.items())),
+                   supply_tolerance=rules.supply_tolerance)
 
 
 def _section_word(tube) -> str:
