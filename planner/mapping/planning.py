@@ -179,11 +179,12 @@ def _repaired(label, network, family, stock, fanin, limits, names, options):
 
     Each cap of :func:`_repair_caps` with each strategy of
     :func:`planner.stages.repair_fanout` (followers only where a stocked
-    follower drives two loads or more); the integer program then chooses.
+    follower drives two loads or more, and first: among equal plans the first
+    found wins, and a follower adds no inversion delay); the integer program then chooses.
     """
     strategies = ["buffers", "duplicates"]
     if _fanout_limits(family, stock, fanin)(_FOLLOWER_PROBE) >= 2:
-        strategies.append("followers")
+        strategies.insert(0, "followers")
     out, seen = [], set()
     for cap in _repair_caps(family, stock):
         limit = _fanout_limits(family, stock, fanin, cap)

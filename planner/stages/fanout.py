@@ -49,6 +49,8 @@ def describe_net(network: Network, net: str, names: Mapping[str, str] | None = N
             if net in _cone(out, users):
                 words.append(f"inside output {name}")
                 break
+    if len(words) > 3:
+        words = words[:3] + [f"{len(words) - 3} more"]
     return f"net {net} ({', '.join(words)})" if words else f"net {net}"
 
 
