@@ -5,21 +5,19 @@ A stage is one plate node with one plate load; it computes
 (a follower).  This package turns a :class:`planner.spec.Design` into a proven
 :class:`Network` under the limits of :class:`SynthesisOptions`, offers every
 block's candidates for the integer program, repairs fan-out (buffer trees,
-duplicated drivers, followers),
-and simulates and proves networks.  See ``docs/stages.md``.
+duplicated drivers, followers) and simulates and proves networks.  See ``docs/stages.md``.
 
 Public API
 ----------
 - :class:`Branch`, :class:`Stage`, :class:`Network`, :class:`NetworkCost`, :func:`stage_view`, :data:`MEANS`
 - :class:`SynthesisOptions`, :data:`DEFAULT_MAX_BRANCHES`
 - :func:`synthesise` -> :class:`Synthesis` (``network``, ``candidates``: :class:`Candidate`)
-- :func:`insert_followers`; :func:`repair_fanout` (buffer trees, duplicated drivers, followers),
-  :class:`FanoutError`, :data:`STRATEGIES`, :func:`describe_net`
+- :func:`repair_fanout` (buffer trees, duplicated drivers, followers), :class:`FanoutError`,
+  :data:`STRATEGIES`, :func:`describe_net`
 - :func:`simulate`, :func:`input_patterns`, :func:`prove`, :class:`ProofError`
 """
 
 from .fanout import STRATEGIES, FanoutError, describe_net, repair_fanout
-from .followers import insert_followers
 from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, Stage, stage_view
 from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
 from .simulate import ProofError, input_patterns, prove, simulate
@@ -28,5 +26,5 @@ from .synthesis import Candidate, Synthesis, synthesise
 __all__ = [
     "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "FanoutError", "MEANS", "MODES", "Network", "NetworkCost",
     "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis", "SynthesisOptions", "describe_net",
-    "input_patterns", "insert_followers", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
+    "input_patterns", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
 ]

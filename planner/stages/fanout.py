@@ -133,13 +133,13 @@ class _Nets:
         self._add_uses(net, record)
 
     def remove(self, net: str) -> None:
+        """Take a stage out (its input may be gone already when a chain of them is removed)."""
         kind, body = self.records.pop(net)
-        if kind == "follower":
-            self.slots[body].discard((net, 0, 0))
-        else:
-            for b, (inputs, _means) in enumerate(body):
-                for p, used in enumerate(inputs):
-                    self.slots[used].discard((net, b, p))
+        uses = [(body, 0, 0)] if kind == "follower" else [
+            (used, b, p) for b, (inputs, _means) in enumerate(body) for p, used in enumerate(inputs)]
+        for used, b, p in uses:
+            if used in self.slots:
+                self.slots[used].discard((net, b, p))
         del self.slots[net]
 
     def name(self, prefix: str) -> str:
@@ -148,7 +148,8 @@ class _Nets:
 
     def rewire(self, slot: tuple, old: str, new: str) -> None:
         consumer, b, p = slot
-        self.slots[old].discard(slot)
+        if old in self.slots:  # a removed inverter's loads are dealt anew
+            self.slots[old].discard(slot)
         self.slots[new].add(slot)
         if consumer == "output":
             self.outputs[b] = new
@@ -318,8 +319,7 @@ def _repair_group(nets: _Nets, root: str, members: list[tuple[str, int]], limits
             while order[k][2] == 0:
                 k += 1
             order[k][2] -= 1
-            if order[k][0] != old:
-                nets.rewire(slot, old, order[k][0])
+            nets.rewire(slot, old, order[k][0])
 
 
 def repair_fanout(network: Network, fanout_limit: Callable[[Stage], int],
