@@ -18,6 +18,7 @@ from sympy.logic.inference import satisfiable
 
 from planner.catalogue import builtin_catalogue
 from planner.mapping import plan_design
+from planner.mapping.registers import register_view
 from planner.report import plan_document, spice_deck
 from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock, parse_expression
 from planner.stages import Branch, FanoutError, Network, Stage, prove, repair_fanout, synthesise
@@ -144,7 +145,7 @@ def _check_logic(design, doc) -> None:
     """Every output (and register next state) over every input vector (4,096 seeded random ones past 16
     inputs): plan.json's stages, evaluated by the stage model of DESIGN.md, against sympy's evaluation of
     the design's expressions."""
-    names = [entry["name"] for entry in doc["inputs"]]
+    names = [entry["name"] for entry in doc["inputs"]] + [r["name"] for r in doc["registers"]]
     n = len(names)
     if n <= 16:
         grid = np.array(list(product((False, True), repeat=n)), dtype=bool).reshape(-1, n)
@@ -152,6 +153,7 @@ def _check_logic(design, doc) -> None:
         grid = np.random.default_rng(5).integers(0, 2, size=(4096, n)).astype(bool)
     values = {name: grid[:, i] for i, name in enumerate(names)}
     values.update({"~" + e["name"]: ~values[e["name"]] for e in doc["inputs"] if e["complement_available"]})
+    values.update({r["complement"]: ~values[r["output"]] for r in doc["registers"]})
     for stage in doc["stages"]:
         if stage["kind"] == "follower":
             values[stage["output"]] = values[stage["input"]]
@@ -189,6 +191,11 @@ def test_repaired_plans_stay_within_every_limit(tmp_path, run_cli, case, plate, 
     design, doc, err = _plan_files(tmp_path, run_cli, DESIGNS[case], plate, bias, pentodes=2)
     _check_limits(design, doc)
     _check_logic(design, doc)
+    if design.registers:
+        # Before repair, some register output carried more loads than its bistable drives.
+        before = synthesise(register_view(design)).network.load_counts()
+        limit = doc["registers"][0]["fanout_limit"]
+        assert any(before[net] > limit for r in doc["registers"] for net in (r["output"], r["complement"]))
 
 
 @pytest.mark.parametrize("plate,bias", RAILS)
