@@ -374,16 +374,42 @@ def test_declared_fanout_is_read(write):
 # ---- ngspice ----
 
 @needs_ngspice
-@pytest.mark.parametrize("case", ["parity", "decoder"])
-def test_repaired_plans_reproduce_their_truth_tables_in_ngspice(tmp_path, case):
-    """ngspice (Debian package) DC operating points over every input vector; the plan holds a buffer tree."""
+@pytest.mark.parametrize("case,plate,bias,kind", [("parity", 150, -100, "buffers"), ("decoder", 150, -100, "buffers"),
+                                                  ("parity", 90, -60, "followers")])
+def test_repaired_plans_reproduce_their_truth_tables_in_ngspice(tmp_path, case, plate, bias, kind):
+    """ngspice (Debian package) DC operating points over every input vector, against sympy's evaluation of
+    the design. At +150 V / -100 V the plan holds a buffer tree; at +90 V / -60 V the built-in 12AT7
+    follower passes worst case (6 loads) and the plan holds followers."""
     design = _load(tmp_path, DESIGNS[case])
     path = tmp_path / "stock.yaml"
-    path.write_text("# Invented test data.\n" + STOCK % {"plate": 150, "bias": -100, "pentodes": 2})
+    path.write_text("# Invented test data.\n" + STOCK % {"plate": plate, "bias": bias, "pentodes": 2})
     stock = load_stock(str(path))
     plan = plan_design(design, stock)
-    assert _has_buffer_tree(plan_document(plan))
+    if kind == "buffers":
+        assert _has_buffer_tree(plan_document(plan))
+    else:
+        assert any(s.kind == "follower" for s in plan.stages)
+    _check_limits(design, plan_document(plan))
     deck = spice_deck(plan, builtin_catalogue())
     symbols = [sympy.Symbol(n) for n in design.input_names]
     exprs = {o.name: sympy.lambdify(symbols, design.flatten(o.expr)) for o in design.outputs}
     check_truth_table(plan, deck, lambda out, v: bool(exprs[out](*[bool(v[n]) for n in design.input_names])))
+
+
+def test_a_failing_repair_is_said_and_others_plan(tmp_path, monkeypatch):
+    """A repair that fails says so on the progress stream with its reason; the other repairs still plan."""
+    from planner.mapping import MappingOptions, planning
+    from planner.stages import repair_fanout as real
+
+    def refuse_buffers(network, limit, limits=None, *, strategy="buffers", names=None):
+        if strategy == "buffers":
+            raise FanoutError("net n4 (output p) cannot be spread (test)")
+        return real(network, limit, limits, strategy=strategy, names=names)
+    monkeypatch.setattr(planning, "repair_fanout", refuse_buffers)
+    design = _load(tmp_path, PARITY)
+    path = tmp_path / "stock.yaml"
+    path.write_text("# Invented test data.\n" + STOCK % {"plate": 150, "bias": -100, "pentodes": 2})
+    lines = []
+    plan = plan_design(design, load_stock(str(path)), MappingOptions(progress=lines.append))
+    assert any("fails: buffer trees: net n4 (output p) cannot be spread (test)" in line for line in lines), lines
+    assert "duplicated drivers" in plan.solution.network
