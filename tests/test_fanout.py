@@ -15,14 +15,29 @@ import numpy as np
 import pytest
 import sympy
 from sympy.logic.inference import satisfiable
+from test_report_spice import check_truth_table, needs_ngspice
 
 from planner.catalogue import builtin_catalogue
 from planner.mapping import plan_design
 from planner.mapping.registers import register_view
 from planner.report import plan_document, spice_deck
-from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock, parse_expression
-from planner.stages import Branch, FanoutError, Network, Stage, prove, repair_fanout, synthesise
-from test_report_spice import check_truth_table, needs_ngspice
+from planner.spec import (
+    Design,
+    InputSpec,
+    OutputSpec,
+    load_design,
+    load_stock,
+    parse_expression,
+)
+from planner.stages import (
+    Branch,
+    FanoutError,
+    Network,
+    Stage,
+    prove,
+    repair_fanout,
+    synthesise,
+)
 
 # Invented: a builder's box of dual triodes, a few pentodes and a bag of silicon diodes.
 STOCK = """\
@@ -188,7 +203,7 @@ def _has_buffer_tree(doc) -> bool:
 @pytest.mark.parametrize("case", ["parity", "decoder", "fan64", "counter", "machine"])
 def test_repaired_plans_stay_within_every_limit(tmp_path, run_cli, case, plate, bias):
     """Each plans (exit 0), its logic holds (sympy), and no net carries more grids than its driver's limit."""
-    design, doc, err = _plan_files(tmp_path, run_cli, DESIGNS[case], plate, bias, pentodes=2)
+    design, doc, _err = _plan_files(tmp_path, run_cli, DESIGNS[case], plate, bias, pentodes=2)
     _check_limits(design, doc)
     _check_logic(design, doc)
     if design.registers:
@@ -211,7 +226,7 @@ def test_regression_parity_and_decoder_with_few_pentodes(tmp_path, run_cli):
     for case in ("parity", "decoder"):
         folder = tmp_path / case
         folder.mkdir()
-        design, doc, err = _plan_files(folder, run_cli, DESIGNS[case], 150, -100, pentodes=2)
+        design, doc, _err = _plan_files(folder, run_cli, DESIGNS[case], 150, -100, pentodes=2)
         assert _has_buffer_tree(doc), case
         assert "buffer trees" in doc["solution"]["network"], doc["solution"]
         _check_limits(design, doc)
@@ -300,7 +315,7 @@ def test_register_like_pair_uses_its_complement():
 
 def test_followers_where_the_family_allows_them():
     network = _polarity_fixture()
-    limit = lambda s: 8 if s.kind == "follower" else 3  # noqa: E731
+    limit = lambda s: 8 if s.kind == "follower" else 3
     repaired = repair_fanout(network, limit, strategy="followers")
     assert any(s.kind == "follower" for s in repaired.stages)
     followers = {s.output for s in repaired.stages if s.kind == "follower"}
@@ -334,7 +349,7 @@ def test_each_strategy_gives_the_same_logic(tmp_path):
     d = _load(tmp_path, PARITY)
     network = synthesise(d).network
     for strategy in ("buffers", "duplicates", "followers"):
-        limit = lambda s: 4 if s.kind == "follower" else 2  # noqa: E731
+        limit = lambda s: 4 if s.kind == "follower" else 2
         repaired = repair_fanout(network, limit, strategy=strategy)
         assert all(repaired.load_counts()[s.output] <= limit(s) for s in repaired.stages)
         assert _same_outputs(network, repaired)
@@ -353,7 +368,7 @@ def test_bad_input_fanout_is_refused(write, run_cli, value, words):
         outputs:
           y: a & b
         """)
-    status, out, err = run_cli("check", path)
+    status, _out, err = run_cli("check", path)
     assert status == 2
     assert f"{path}:4:" in err and "fanout" in err and words in err and "Traceback" not in err
 
@@ -413,3 +428,11 @@ def test_a_failing_repair_is_said_and_others_plan(tmp_path, monkeypatch):
     plan = plan_design(design, load_stock(str(path)), MappingOptions(progress=lines.append))
     assert any("fails: buffer trees: net n4 (output p) cannot be spread (test)" in line for line in lines), lines
     assert "duplicated drivers" in plan.solution.network
+
+
+def test_doctests_of_the_repair():
+    import doctest
+
+    import planner.stages.fanout as module
+    result = doctest.testmod(module)
+    assert result.attempted and not result.failed

@@ -33,7 +33,7 @@ def _within(network: Network, limit) -> bool:
 def test_fewest_followers():
     """Seven loads on a NAND allowing 3, followers 6: one follower (3 - 1 + 6 = 8 slots) beats two copies
     of the NAND (its inputs are ideal) and three inverters (one first level, two second)."""
-    limit = lambda s: 6 if s.kind == "follower" else 3  # noqa: E731
+    limit = lambda s: 6 if s.kind == "follower" else 3
     network = repair_fanout(_fan(7), limit, strategy="followers")
     assert len(_followers(network)) == 1 and _within(network, limit)
     prove(network, _design(7))
@@ -41,7 +41,7 @@ def test_fewest_followers():
 
 def test_followers_are_never_chained():
     """Followers allowing 2 cannot feed followers (the family's rule): inverters carry the rest."""
-    limit = lambda s: 2  # noqa: E731
+    limit = lambda s: 2
     network = repair_fanout(_fan(20), limit, strategy="followers")
     followers = {s.output for s in _followers(network)}
     assert not any(s.input in followers for s in _followers(network))
@@ -55,7 +55,7 @@ def test_primary_inputs_drive_any_number_and_outputs_count_as_loads():
     network = synthesise(d).network
     driver = network.outputs["o0"]
     assert network.loads(driver) == 4                                       # four design outputs, one net
-    limit = lambda s: 3 if s.kind == "follower" else 2  # noqa: E731
+    limit = lambda s: 3 if s.kind == "follower" else 2
     spread = repair_fanout(network, limit, strategy="followers")
     prove(spread, d)
     assert _within(spread, limit)

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Callable, Mapping
 
 from .network import Branch, Network, Stage, renumber
 from .simulate import ProofError, simulate
@@ -196,10 +196,10 @@ def _shapes(strategy: str, need_true: int, need_complement: int, root_limit: int
         copies_range = range(1, -(-(need_true + need_complement) // root_limit) + 2)
     followers_range = [0]
     if strategy == "followers" and follower_limit >= 2:
-        followers_range = range(0, min(64, -(-need_true // (follower_limit - 1)) + 2))
+        followers_range = range(min(64, -(-need_true // (follower_limit - 1)) + 2))
     complement_range = [0]
     if strategy == "followers" and follower_limit >= 2 and need_complement:
-        complement_range = range(0, min(64, -(-need_complement // (follower_limit - 1)) + 2))
+        complement_range = range(min(64, -(-need_complement // (follower_limit - 1)) + 2))
     shapes = []
     for copies in copies_range:
         for ft in followers_range:
@@ -258,14 +258,15 @@ def _repair_group(nets: _Nets, root: str, members: list[tuple[str, int]], limits
     over = [net for net, _pol in members if len(nets.slots[net]) > limits[net]]
     if not over:
         return
+    buffers = set(removable)
     demand = {0: [], 1: []}
     for net, pol in members:
         for slot in nets.slots[net]:
-            if slot[0] in removable and slot[0] != "output":
+            if slot[0] in buffers:
                 continue
             demand[pol].append((slot, net))
-    for pol in demand:
-        demand[pol].sort(key=lambda item: _slot_key(item[0]))
+    for wanted in demand.values():
+        wanted.sort(key=lambda item: _slot_key(item[0]))
     need_true, need_complement = len(demand[0]), len(demand[1])
     root_limit = limits[root]
     complement_limit = limits[roots[1][0]] if len(roots) > 1 else 0
@@ -373,7 +374,7 @@ def repair_fanout(network: Network, fanout_limit: Callable[[Stage], int],
     primary_limits = dict(primary_limits or {})
     primary = set(network.primary_nets)
     nets = _Nets(network)
-    describe = lambda net: describe_net(network, net, names)  # noqa: E731
+    describe = lambda net: describe_net(network, net, names)
     follower_limit = fanout_limit(Stage("F?", "#f?", "follower", input="x"))
     buffer_limit = fanout_limit(Stage("B?", "#b?", "inverting", (Branch(("x",), "single"),)))
     # Polarity groups: the root of every net (through plain inverters) and the net's polarity.
