@@ -436,3 +436,16 @@ def test_doctests_of_the_repair():
     import planner.stages.fanout as module
     result = doctest.testmod(module)
     assert result.attempted and not result.failed
+
+
+def test_named_signals_follow_their_value(tmp_path):
+    """A signal on an inverter the repair rebuilds stays named, on a net of the same value (sympy)."""
+    d = _load(tmp_path, "design: t\ninputs: [a, b, c0, c1, c2, c3, c4, c5]\nsignals:\n  g: a & b\noutputs:\n"
+              + "".join(f"  y{k}: ~(g & c{k})\n" for k in range(6)))
+    network = synthesise(d).network
+    assert "g" in network.signals
+    repaired = repair_fanout(network, lambda s: 2)
+    assert "g" in repaired.signals
+    ours, theirs = _sympy_network(network), _sympy_network(repaired)
+    assert not satisfiable(sympy.Xor(ours[network.signals["g"]], theirs[repaired.signals["g"]]))
+    assert _same_outputs(network, repaired)

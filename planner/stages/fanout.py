@@ -117,6 +117,7 @@ class _Nets:
         for name, net in self.outputs.items():
             self.slots[net].add(("output", name, 0))
         self.fresh = 0
+        self.moved: dict[str, str] = {}  # removed net -> a net carrying the same value
 
     def _add_uses(self, net: str, record: tuple) -> None:
         kind, body = record
@@ -313,6 +314,11 @@ def _repair_group(nets: _Nets, root: str, members: list[tuple[str, int]], limits
                 "f" if is_follower else "b")
             parent = placed[node[4]][0]
             nets.add(node[0], ("follower", parent) if is_follower else ("inverting", (((parent,), "single"),)))
+    # A named signal on an inverter that is gone moves to a net of the same polarity.
+    for pol in (0, 1):
+        same = next((node[0] for node in placed if node[1] == pol), None)
+        for net in reuse[pol] if same is not None else ():
+            nets.moved[net] = same
     for pol in (0, 1):
         order = [node for node in placed if node[1] == pol]
         k = 0
@@ -401,8 +407,9 @@ def repair_fanout(network: Network, fanout_limit: Callable[[Stage], int],
     for root in roots:
         _repair_group(nets, root, members[root], limits, strategy, buffer_limit, follower_limit, describe,
                       primary)
+    moved = lambda mapping: {k: nets.moved.get(v, v) for k, v in mapping.items()}  # noqa: E731
     result = renumber(network.inputs, network.complements, nets.records, nets.outputs, network.forms,
-                      network.signals, network.inverted_signals)
+                      moved(network.signals), moved(network.inverted_signals))
     if len(network.inputs) <= 20:
         before, after = simulate(network), simulate(result)
         for name in network.outputs:
