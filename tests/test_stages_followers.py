@@ -31,8 +31,8 @@ def _within(network: Network, limit) -> bool:
 
 
 def test_fewest_followers():
-    """Seven loads on a NAND allowing 3, followers 6: one follower (3 - 1 + 6 = 8 slots) beats two copies
-    of the NAND (its inputs are ideal) and three inverters (one first level, two second)."""
+    """Seven loads on a NAND allowing 3, followers 6: one follower (3 - 1 + 6 = 8 slots) beats three
+    inverters (one first level, two second)."""
     limit = lambda s: 6 if s.kind == "follower" else 3
     network = repair_fanout(_fan(7), limit, strategy="followers")
     assert len(_followers(network)) == 1 and _within(network, limit)

@@ -193,7 +193,8 @@ def _shapes(strategy: str, need_true: int, need_complement: int, root_limit: int
             buffer_limit: int, follower_limit: int, can_copy: bool, copy_sections: int, copy_loads: float):
     """Candidate shapes for a group, cheapest first (sections, then fewer copies and followers)."""
     copies_range = [1]
-    if strategy != "buffers" and can_copy and root_limit > 0:
+    # Followers and copies both multiply the root's slots: each strategy searches one of them (bounded time).
+    if strategy == "duplicates" and can_copy and root_limit > 0:
         copies_range = range(1, -(-(need_true + need_complement) // root_limit) + 2)
     followers_range = [0]
     if strategy == "followers" and follower_limit >= 2:
@@ -342,8 +343,8 @@ def repair_fanout(network: Network, fanout_limit: Callable[[Stage], int],
     wanting the root's value, loads wanting its complement), then rebuilt as
     the cheapest tree, in sections, of:
 
-    * ``copies`` of the root's stage (``strategy`` "duplicates" or
-      "followers", stages of at most :data:`DUPLICATE_SECTIONS` sections), each
+    * ``copies`` of the root's stage (``strategy`` "duplicates", stages of
+      at most :data:`DUPLICATE_SECTIONS` sections), each
       driving its share of the loads; the copies load the stage's inputs again;
     * inverters giving the complement (hung on a true node: the root, a copy
       or a follower) and inverters giving the true polarity again (hung on a
