@@ -222,7 +222,7 @@ def _shapes(strategy: str, need_true: int, need_complement: int, root_limit: int
 
 
 def _place(shape: _Shape, roots: list[tuple[str, int, int]], buffer_limit: int, follower_limit: int):
-    """Hang the shape's nodes on the roots, breadth first; (nodes, new) or None when they do not fit.
+    """Hang the shape's nodes on the roots, breadth first: every node (roots first), or None when they do not fit.
 
     ``roots``: (net, polarity 0 true / 1 complement, limit).  A node is
     [net-or-None, polarity, free slots, is follower, parent index].
