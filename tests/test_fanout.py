@@ -14,30 +14,18 @@ from itertools import product
 import numpy as np
 import pytest
 import sympy
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from sympy.logic.inference import satisfiable
-from test_report_spice import check_truth_table, needs_ngspice
 
 from planner.catalogue import builtin_catalogue
 from planner.mapping import plan_design
 from planner.mapping.registers import register_view
 from planner.report import plan_document, spice_deck
-from planner.spec import (
-    Design,
-    InputSpec,
-    OutputSpec,
-    load_design,
-    load_stock,
-    parse_expression,
-)
-from planner.stages import (
-    Branch,
-    FanoutError,
-    Network,
-    Stage,
-    prove,
-    repair_fanout,
-    synthesise,
-)
+from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock, parse_expression
+from planner.stages import STRATEGIES, Branch, FanoutError, Network, Stage, prove, repair_fanout, synthesise
+from test_report_spice import check_truth_table, needs_ngspice
+from test_stages_fuzz import designs
 
 # Invented: a builder's box of dual triodes, a few pentodes and a bag of silicon diodes.
 STOCK = """\
@@ -433,6 +421,33 @@ def test_a_failing_repair_is_said_and_others_plan(tmp_path, monkeypatch):
     plan = plan_design(design, load_stock(str(path)), MappingOptions(progress=lines.append))
     assert any("fails: buffer trees: net n4 (output p) cannot be spread (test)" in line for line in lines), lines
     assert "duplicated drivers" in plan.solution.network
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs(), st.sampled_from(STRATEGIES), st.integers(1, 4), st.integers(2, 4), st.integers(2, 5),
+       st.data())
+def test_random_designs_any_limits(d, strategy, driver, inverter, follower, data):
+    """Random designs (test_stages_fuzz's generator), random limits per stage kind and on inputs: every net
+    within its limit, followers never chained, the outputs unchanged (the project's proof and sympy)."""
+    def limit(stage):
+        if stage.kind == "follower":
+            return follower
+        return inverter if stage.view == "inverter" else driver
+    network = synthesise(d).network
+    limits = {}
+    for spec in d.inputs:
+        if data.draw(st.booleans()):
+            limits[spec.name] = data.draw(st.integers(1, 3))
+            if spec.complement:
+                limits["~" + spec.name] = data.draw(st.integers(1, 3))
+    repaired = repair_fanout(network, limit, limits, strategy=strategy)
+    counts = repaired.load_counts()
+    assert all(counts[s.output] <= limit(s) for s in repaired.stages)
+    assert all(counts[net] <= n for net, n in limits.items())
+    followers = {s.output for s in repaired.stages if s.kind == "follower"}
+    assert not any(s.kind == "follower" and s.input in followers for s in repaired.stages)
+    prove(repaired, d)
+    assert _same_outputs(network, repaired)
 
 
 def test_doctests_of_the_repair():
