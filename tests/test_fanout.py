@@ -141,7 +141,9 @@ def _check_limits(design, doc) -> None:
     for reg in doc["registers"]:
         for net in (reg["output"], reg["complement"]):
             assert loads.get(net, 0) <= reg["fanout_limit"], (reg["name"], net)
+    stated = {entry["name"]: entry["fanout_limit"] for entry in doc["inputs"]}
     for spec in design.inputs:
+        assert stated[spec.name] == spec.fanout  # the design file's declaration, or null (ideal)
         if spec.fanout is not None:
             assert loads.get(spec.name, 0) <= spec.fanout
             assert loads.get("~" + spec.name, 0) <= spec.fanout

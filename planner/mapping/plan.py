@@ -294,6 +294,8 @@ class Plan:
     ``follower_low_volts`` or less from a follower. ``registers`` and
     ``clock``: the clocked registers (none for a combinational design);
     ``timing``: the delay estimate and, with registers, the highest safe clock.
+    ``input_fanout_limits``: input -> the loads its source drives, where the
+    design declares it (the others are ideal sources).
     """
 
     design: str
@@ -314,3 +316,4 @@ class Plan:
     registers: tuple[PlacedRegister, ...] = ()
     clock: Clock | None = None
     timing: Timing | None = None
+    input_fanout_limits: tuple[tuple[str, int], ...] = ()

@@ -93,7 +93,8 @@ def plan_document(plan: Plan) -> dict:
     return {
         "schema": SCHEMA,
         "design": plan.design,
-        "inputs": [{"name": name, "complement_available": complement} for name, complement in plan.inputs],
+        "inputs": [{"name": name, "complement_available": complement,
+                    "fanout_limit": dict(plan.input_fanout_limits).get(name)} for name, complement in plan.inputs],
         "outputs": dict(plan.outputs),
         "forms": dict(plan.forms),
         "levels": {"plate_volts": _num(plan.plate_volts), "bias_volts": _num(plan.bias_volts),
