@@ -323,6 +323,8 @@ class Plan:
     for, per amplifying type in the stock (its condition, else the rules'
     wear); ``supply_tolerance``: the fractional supply tolerance it was
     designed for (resistor tolerances are on the parts).
+    ``input_fanout_limits``: input -> the loads its source drives, where the
+    design declares it (the others are ideal sources).
     """
 
     design: str
@@ -345,3 +347,4 @@ class Plan:
     timing: Timing | None = None
     tube_wear: tuple[tuple[str, float], ...] = ()
     supply_tolerance: float = 0.0
+    input_fanout_limits: tuple[tuple[str, int], ...] = ()

@@ -7,18 +7,19 @@ from dataclasses import dataclass, replace
 
 from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, cached_family, design_bistables
 from planner.electrical import is_dual_triode
-from planner.stages import SynthesisOptions, cached_network, insert_followers, prove
+from planner.stages import FanoutError, Stage, SynthesisOptions, cached_network, describe_net, prove, repair_fanout
 
 from .assemble import place
 from .build import build_plan
 from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
 from .options import MappingOptions
 from .plan import Plan, Solution
-from .problem import DIODE_FANIN, build_problem
+from .problem import DIODE_FANIN, build_problem, stage_ways, tube_kinds
 from .registers import COMPLEMENT, RegisterSetting, clock_nets, register_classes, register_view
 from .timing import plan_timing
 
 _DIODE_RULES = {"solid-state": "solid-state", "vacuum-only": "vacuum", "none": "none"}
+_FOLLOWER_PROBE = Stage("F?", "#f?", "follower", input="x")
 
 
 class Shortage(Exception):
@@ -96,25 +97,35 @@ def _synthesis_variants(stock, family, rules: DesignRules, options: MappingOptio
     return out, fanin
 
 
-def _fanout_limits(family, names):
-    """Most loads any stocked template of the stage's kind may drive (for inserting followers)."""
-    follower = max((family.followers[n].fanout_limit for n in names if n in family.followers), default=0)
+def _fanout_limits(family, stock, diode_fanin: int, cap: int | None = None):
+    """The most loads a stage may drive: the best stocked way that builds it (see
+    :func:`planner.mapping.problem.stage_ways`), at most ``cap``; a follower, the best stocked follower."""
+    kinds = tube_kinds(stock, family)
+    follower = max((family.followers[k.tube].fanout_limit for k in kinds if k.tube in family.followers), default=0)
+    best: dict[tuple, int] = {}
 
     def limit(stage) -> int:
         if stage.kind == "follower":
             return follower
-        widths = [len(b.inputs) for b in stage.branches]
-        best = 0
-        for (tube, template), driver in family.drivers.items():
-            if tube not in names:
-                continue
-            if template == "single" and any(w != 1 for w in widths):
-                continue
-            if template == "dual" and any(w > 2 for w in widths):
-                continue
-            best = max(best, driver.fanout_limit)
-        return best
+        shape = tuple(len(b.inputs) for b in stage.branches)
+        if shape not in best:
+            ways = stage_ways(stage, 0, family, kinds, frozenset(), diode_fanin)
+            best[shape] = max((w.fanout_limit for w in ways), default=0)
+        return best[shape] if cap is None else min(best[shape], cap)
     return limit
+
+
+def _repair_caps(family, stock) -> list[int | None]:
+    """Load limits to repair to: each stocked template's (None: the best way of each stage), so a network
+    whose nets the plentiful lower-limit types can drive is among the candidates."""
+    names = {t.tube for t in stock.tubes}
+    limits = sorted({d.fanout_limit for (tube, _t), d in family.drivers.items() if tube in names
+                     and d.fanout_limit >= 2}, reverse=True)
+    return [None] + limits[1:]
+
+
+#: How each repair strategy is named in progress messages and plan labels.
+_STRATEGY_WORDS = {"buffers": "buffer trees", "duplicates": "duplicated drivers", "followers": "followers"}
 
 
 def _register_setting(design, stock, family, tubes) -> RegisterSetting:
@@ -145,49 +156,97 @@ def _reset_ma(stock, rules: DesignRules) -> float:
     return span / (RESET_PULLUP_OHMS * (1 - rules.resistor_tolerance)) * 1e3
 
 
+def _primary_limits(design, setting) -> tuple[dict, dict]:
+    """Limits on primary nets (registers' outputs, inputs declaring a fan-out) and their names for messages."""
+    limits, names = {}, {}
+    for spec in design.inputs:
+        if spec.fanout is not None:
+            limits[spec.name] = spec.fanout
+            if spec.complement:
+                limits[COMPLEMENT + spec.name] = spec.fanout
+    if setting is not None:
+        # A register's outputs carry no more loads than the best stocked bistable drives.
+        most = max(b.fanout_limit for b in setting.bistables.values())
+        for reg in design.registers:
+            limits[reg.name] = limits[COMPLEMENT + reg.name] = most
+            names[reg.name] = f"register {reg.name}"
+            names[COMPLEMENT + reg.name] = f"the complement of register {reg.name}"
+    return limits, names
+
+
+def _repaired(label, network, family, stock, fanin, limits, names, options):
+    """``network`` repaired for fan-out every way worth trying: [(label, network or None, reason)], deduplicated.
+
+    Each cap of :func:`_repair_caps` with each strategy of
+    :func:`planner.stages.repair_fanout` (followers only where a stocked
+    follower drives two loads or more, and first: among equal plans the first
+    found wins, and a follower adds no inversion delay); the integer program then chooses.
+    """
+    strategies = ["buffers", "duplicates"]
+    if _fanout_limits(family, stock, fanin)(_FOLLOWER_PROBE) >= 2:
+        strategies.insert(0, "followers")
+    out, seen = [], set()
+    for cap in _repair_caps(family, stock):
+        limit = _fanout_limits(family, stock, fanin, cap)
+        for strategy in strategies:
+            try:
+                repaired = repair_fanout(network, limit, limits, strategy=strategy, names=names)
+            except FanoutError as problem:
+                reason = f"{_STRATEGY_WORDS[strategy]}: {problem}"
+                options.say(f"mapping: network '{label}' fails: {reason}")
+                out.append((label, None, reason))
+                continue
+            key = (repaired.stages, tuple(sorted(repaired.outputs.items())))
+            if key in seen:
+                continue
+            seen.add(key)
+            if repaired == network:
+                out.append((label, repaired, ""))
+            else:
+                at = "" if cap is None else f" to {cap} loads"
+                out.append((f"{label}, {_STRATEGY_WORDS[strategy]}{at}", repaired, ""))
+    return out
+
+
 def _candidates(design, stock, family, rules, options, weights, setting=None) -> list[_Candidate]:
-    """Every stage-layer network the stock allows for ``design`` (its registers' view), proven, with its problem."""
+    """Every stage-layer network the stock allows for ``design`` (its registers' view), repaired for
+    fan-out, proven, with its problem."""
     view = register_view(design)
-    names = tuple(t.tube for t in stock.tubes)
-    limit = _fanout_limits(family, names)
     found, seen = [], set()
     variants, fanin = _synthesis_variants(stock, family, rules, options)
-    # A register's outputs carry no more loads than the best stocked bistable drives; followers take the rest.
-    held = {}
-    if setting is not None:
-        most = max(b.fanout_limit for b in setting.bistables.values())
-        held = {net: most for reg in design.registers for net in (reg.name, COMPLEMENT + reg.name)}
-    for label, synth in variants:
-        options.say(f"mapping: synthesising and proving network '{label}'")
-        network = cached_network(view, synth)
-        try:
-            network = insert_followers(network, limit, held)
-        except ValueError as problem:
-            found.append(_Candidate(label, network, None, {}, f"{problem}"))
-            continue
-        key = (network.stages, tuple(sorted(network.outputs.items())))
-        if key in seen:
-            continue
-        seen.add(key)
-        prove(network, view)  # outputs, next states and their complements, before any plan is made
-        registers, stuck_registers = ((), [])
-        reset_ma = 0.0
-        if setting is not None:
-            registers, stuck_registers = register_classes(design, network, setting.bistables, stock.tubes)
-            reset_ma = _reset_ma(stock, rules)
-        # Every network may use every template the stock allows (diode ANDs included).
-        problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin, registers=registers,
-                                      fixed_plate_ma=reset_ma, fixed_bias_ma=reset_ma)
-        loads = network.load_counts()
-        stuck = [f"stage {s.id} ({s.view}, {loads[s.output]} loads)" for s in network.stages if not ways[s.id]]
-        stuck += stuck_registers
-        reason = ""
-        if stuck:
-            reason = "no stocked type has a template for " + ", ".join(stuck[:5]) + (
-                f" and {len(stuck) - 5} more" if len(stuck) > 5 else "")
-        found.append(_Candidate(label, network, None if stuck else problem, ways, reason))
-        options.say(f"mapping: network '{label}': {len(network.stages)} stages, "
-                    f"{len(problem.classes)} stage classes")
+    limits, names = _primary_limits(design, setting)
+    for variant, synth in variants:
+        options.say(f"mapping: synthesising and proving network '{variant}'")
+        for label, network, reason in _repaired(variant, cached_network(view, synth), family, stock, fanin,
+                                                limits, names, options):
+            if network is None:
+                found.append(_Candidate(label, None, None, {}, reason))
+                continue
+            key = (network.stages, tuple(sorted(network.outputs.items())))
+            if key in seen:
+                continue
+            seen.add(key)
+            prove(network, view)  # outputs, next states and their complements, before any plan is made
+            registers, stuck_registers = ((), [])
+            reset_ma = 0.0
+            if setting is not None:
+                registers, stuck_registers = register_classes(design, network, setting.bistables, stock.tubes)
+                reset_ma = _reset_ma(stock, rules)
+            # Every network may use every template the stock allows (diode ANDs included).
+            problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin, registers=registers,
+                                          fixed_plate_ma=reset_ma, fixed_bias_ma=reset_ma)
+            loads = network.load_counts()
+            stuck = [f"stage {s.id} ({s.view} driving {describe_net(network, s.output, names)}, "
+                     f"{loads[s.output]} loads)" for s in network.stages if not ways[s.id]]
+            stuck += stuck_registers
+            reason = ""
+            if stuck:
+                reason = "no stocked type has a template for " + ", ".join(stuck[:5]) + (
+                    f" and {len(stuck) - 5} more" if len(stuck) > 5 else "")
+                options.say(f"mapping: network '{label}' fails: {reason}")
+            found.append(_Candidate(label, network, None if stuck else problem, ways, reason))
+            options.say(f"mapping: network '{label}': {len(network.stages)} stages, "
+                        f"{len(problem.classes)} stage classes")
     return found
 
 
