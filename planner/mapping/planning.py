@@ -11,9 +11,10 @@ from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
 
 from .assemble import place
 from .build import build_plan
+from .multilevel import multilevel_networks
 from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
 from .options import MappingOptions
-from .plan import Plan, Solution
+from .plan import NetworkTried, Plan, Solution
 from .problem import DIODE_FANIN, build_problem
 from .registers import COMPLEMENT, RegisterSetting, clock_nets, register_classes, register_view
 from .timing import plan_timing
@@ -157,8 +158,12 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
     if setting is not None:
         most = max(b.fanout_limit for b in setting.bistables.values())
         held = {net: most for reg in design.registers for net in (reg.name, COMPLEMENT + reg.name)}
-    for label, synth in variants:
-        network = synthesise(view, synth).network
+    networks = [(label, synthesise(view, synth).network, "") for label, synth in variants]
+    networks += multilevel_networks(view, stock, family, variants, weights, options)
+    for label, network, failure in networks:
+        if network is None:
+            found.append(_Candidate(label, None, None, {}, failure))
+            continue
         try:
             network = insert_followers(network, limit, held)
         except ValueError as problem:
@@ -226,16 +231,20 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)
     best = None
+    tried = []
     for cand in candidates:
         if cand.problem is None:
+            tried.append(_tried(cand, None, cand.reason))
             continue
         try:
             counts = solve_problem(cand.problem, solver=options.solver, gap=options.gap,
                                    time_limit_s=max(1.0, deadline - time.monotonic()))
         except Infeasible:
             options.say(f"mapping: network '{cand.label}' does not fit the stock")
+            tried.append(_tried(cand, None, "does not fit the stock"))
             continue
         options.say(f"mapping: network '{cand.label}': {dict(counts.terms)['envelopes']:.0f} envelopes")
+        tried.append(_tried(cand, dict(counts.terms)["envelopes"], ""))
         if best is None or _rank(counts, weights) < _rank(best[1], weights):
             best = (cand, counts)
     if best is None:
@@ -246,12 +255,20 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     solution = Solution(options.solver, counts.status, last.value, last.lp_bound, last.gap,
                         time.monotonic() - start, weights.mode,
                         tuple((lv.criterion, lv.value, lv.lp_bound, lv.gap) for lv in counts.levels),
-                        counts.terms, cand.label)
+                        counts.terms, cand.label, tuple(tried))
     plan = build_plan(design, cand.network, family, stock, cand.problem, counts, placement, solution, rules, setting)
     options.say("mapping: estimating the timing")
     timing, flips = plan_timing(plan, cand.network, placement, family, stock, rules, setting)
     registers = tuple(replace(r, clock_to_q_seconds=flips[r.name]) for r in plan.registers)
     return replace(plan, timing=timing, registers=registers)
+
+
+def _tried(cand: _Candidate, envelopes: float | None, note: str) -> NetworkTried:
+    """What one candidate network needed: stages, sections and its plan's envelopes."""
+    if cand.network is None:
+        return NetworkTried(cand.label, None, None, None, note)
+    return NetworkTried(cand.label, len(cand.network.stages), cand.network.cost().sections,
+                        None if envelopes is None else round(envelopes, 6), note)
 
 
 def _section_word(tube) -> str:

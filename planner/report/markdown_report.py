@@ -7,8 +7,8 @@ import planner
 from .budgets import HEADROOM, SURGE_FACTORS
 from .cautions import CAUTIONS
 from .content import ReportContent
-from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
-                     stock_table, wiring_table)
+from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
+                     stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
 
 _BAR = 30
@@ -57,6 +57,8 @@ def report_markdown(content: ReportContent) -> str:
             f"- tube choice: {sol.solver} {sol.status}, objective {sol.objective:.4g}, LP bound "
             f"{sol.lp_bound:.4g}, gap {sol.gap * 100:.2f} %", "",
             markdown_table(outputs_table(plan)), "",
+            f"Stage networks tried (the plan is built on `{sol.network}`):", "",
+            markdown_table(networks_table(plan)), "",
             "## Stock", "", markdown_table(stock_table(plan)), "",
             "## Budgets", "", "Supply loads:", ""]
     for w in b.windings:
