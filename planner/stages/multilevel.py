@@ -26,6 +26,8 @@ from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Mapping
 
+import sympy
+
 from .network import Network, renumber
 from .options import SynthesisOptions
 from .simulate import prove, simulate
@@ -113,7 +115,7 @@ def _templates(options: SynthesisOptions) -> dict[str, int]:
 
 
 def stage_library(options: SynthesisOptions, section_cost: Mapping[str, float] | None = None,
-                  diode_cost: float = 0.0) -> tuple[StageCell, ...]:
+                  diode_cost: float = 0.0, stage_cost: float = 0.0) -> tuple[StageCell, ...]:
     """Every stage shape the options allow, at most :data:`MAX_CELL_PINS` inputs, each on its cheapest template.
 
     Shapes: multisets of branch widths (widest first), at most ``options.branch_limit``
@@ -121,7 +123,7 @@ def stage_library(options: SynthesisOptions, section_cost: Mapping[str, float] |
     template (``single``: one-input branches; ``dual``: branches of one or two inputs;
     ``diode``: up to ``diode_fanin``), so its area is its branch count times that
     template's ``section_cost`` (default 1: area = sections) plus ``diode_cost`` per
-    diode.  Also the constant 1 (a plate load alone: no section) and the constant 0
+    diode, plus ``stage_cost`` per stage (a plate load and its dividers).  Also the constant 1 (a plate load alone: no section) and the constant 0
     (an inverter on it).  Cost: the number of shapes, under a few hundred.
 
     >>> [c.name for c in stage_library(SynthesisOptions(max_branches=2))]
@@ -132,12 +134,12 @@ def stage_library(options: SynthesisOptions, section_cost: Mapping[str, float] |
     allowed = _templates(options)
     widest = max(allowed.values())
     single = min(costs[t] for t in allowed)
-    cells = [StageCell("one", (), "single", 0.0), StageCell("zero", (), "single", single)]
+    cells = [StageCell("one", (), "single", stage_cost), StageCell("zero", (), "single", single + stage_cost)]
     for branches in range(1, options.branch_limit + 1):
         for widths in itertools.combinations_with_replacement(range(widest, 0, -1), branches):
             if sum(widths) > MAX_CELL_PINS:
                 continue
-            fits = [(costs[t] * branches + (diode_cost * sum(widths) if t == "diode" else 0.0), t)
+            fits = [(stage_cost + costs[t] * branches + (diode_cost * sum(widths) if t == "diode" else 0.0), t)
                     for t, most in allowed.items() if widths[0] <= most]
             area, template = min(fits)
             cells.append(StageCell(_cell_name(widths), widths, template, area))
@@ -167,23 +169,31 @@ def genlib_text(cells: tuple[StageCell, ...]) -> str:
     return "\n".join(lines) + "\n"
 
 
-def blif_text(design, options: SynthesisOptions) -> tuple[str, dict[str, str]]:
-    """BLIF of the design's minimised blocks (``.names`` covers over each block's support).
-
-    Nets are renamed ``i0``, ``s0``, ``o0``, ... (inputs, signals, outputs) so no
-    design name can clash with the engine's; returns the text and BLIF name -> design name.
-    """
-    block_list = _blocks(design, options)
-    blocks = {b.name: b for b in block_list}
-    signals = _needed_signals(design, blocks)
+def _design_names(design, signals: list[str]) -> dict[str, str]:
+    """Design name -> BLIF name: ``i0``, ``s0``, ``o0``, ... (inputs, signals, outputs), so no
+    design name can clash with the engine's own."""
     rename = {name: f"i{k}" for k, name in enumerate(design.input_names)}
     rename.update((name, f"s{k}") for k, name in enumerate(signals))
     rename.update((out.name, f"o{k}") for k, out in enumerate(design.outputs))
-    lines = [".model design", ".inputs " + " ".join(rename[n] for n in design.input_names),
-             ".outputs " + " ".join(rename[o.name] for o in design.outputs)]
+    return rename
+
+
+def _header(design, rename: Mapping[str, str]) -> list[str]:
+    return [".model design", ".inputs " + " ".join(rename[n] for n in design.input_names),
+            ".outputs " + " ".join(rename[o.name] for o in design.outputs)]
+
+
+def blif_text(design, options: SynthesisOptions) -> tuple[str, dict[str, str]]:
+    """BLIF of the design's don't-care-minimised blocks (``.names`` covers over each block's support).
+
+    Returns the text and BLIF name -> design name (see :func:`_design_names`).
+    """
+    blocks = {b.name: b for b in _blocks(design, options)}
+    signals = _needed_signals(design, blocks)
+    rename = _design_names(design, signals)
+    lines = _header(design, rename)
     for name in signals + [o.name for o in design.outputs]:
-        block = blocks[name]
-        cover = block.sop
+        cover = blocks[name].sop
         n = len(cover.names)
         lines.append(".names " + " ".join([rename[v] for v in cover.names] + [rename[name]]))
         for cube in cover.cubes:
@@ -194,37 +204,94 @@ def blif_text(design, options: SynthesisOptions) -> tuple[str, dict[str, str]]:
     return "\n".join(lines) + "\n", {v: k for k, v in rename.items()}
 
 
-def run_engine(blif: str, genlib: str, scripts: tuple[str, ...] = ENGINE_SCRIPTS,
-               timeout_s: float = ENGINE_TIMEOUT_S) -> list[str]:
-    """Run ABC once in a temporary directory: every script on ``blif`` mapped to ``genlib``.
+def expression_blif(design) -> str | None:
+    """BLIF of the design's expressions as written (AND, OR, NOT, XOR nodes; signals shared).
 
-    Returns the mapped BLIF of each script, in order.  ABC is deterministic: the
-    same inputs give the same netlists.  Raises :class:`EngineError` when the
-    binary is missing, fails, or exceeds ``timeout_s``.
+    The engine sees the structure the designer wrote (an XOR chain stays one)
+    besides the minimised sums of products.  Output don't-cares are not used
+    (implementing the on-set exactly is always right).  None when an expression
+    holds an operator other than those four or a constant (then only the minimised
+    form is used).  Names as in :func:`blif_text`.
+    """
+    signals = [s.name for s in design.signals]
+    rename = _design_names(design, signals)
+    lines = _header(design, rename)
+    made: dict = {}
+
+    def node(expr) -> str:
+        if isinstance(expr, sympy.Symbol):
+            return rename[expr.name]
+        if expr in made:
+            return made[expr]
+        if not isinstance(expr, (sympy.Not, sympy.And, sympy.Or, sympy.Xor)) and expr not in (sympy.true, sympy.false):
+            raise ValueError(type(expr).__name__)
+        args = sorted((node(a) for a in expr.args), key=_natural)
+        net = f"x{len(made)}"
+        made[expr] = net
+        n = len(args)
+        if expr is sympy.true or expr is sympy.false:
+            lines.append(f".names {net}" + ("\n1" if expr is sympy.true else ""))
+        elif isinstance(expr, sympy.Not):
+            lines.extend([f".names {args[0]} {net}", "0 1"])
+        elif isinstance(expr, sympy.And):
+            lines.extend([".names " + " ".join(args + [net]), "1" * n + " 1"])
+        elif isinstance(expr, sympy.Or):
+            lines.append(".names " + " ".join(args + [net]))
+            lines.extend("-" * k + "1" + "-" * (n - 1 - k) + " 1" for k in range(n))
+        else:
+            acc = args[0]
+            for k, other in enumerate(args[1:]):
+                out = net if k == n - 2 else f"{net}_{k}"
+                lines.extend([f".names {acc} {other} {out}", "01 1", "10 1"])
+                acc = out
+        return net
+
+    try:
+        for spec in list(design.signals) + list(design.outputs):
+            lines += [f".names {node(spec.expr)} {rename[spec.name]}", "1 1"]
+    except ValueError:
+        return None
+    lines.append(".end")
+    return "\n".join(lines) + "\n"
+
+
+def _natural(net: str) -> tuple[str, int]:
+    return net[0], int(net[1:].split("_")[0])
+
+
+def run_engine(sources: list[str], genlib: str, scripts: tuple[str, ...] = ENGINE_SCRIPTS,
+               timeout_s: float = ENGINE_TIMEOUT_S) -> list[list[str]]:
+    """Run ABC once in a temporary directory: every script on every BLIF source, mapped to ``genlib``.
+
+    Returns, per source, the mapped BLIF of each script in order.  ABC is
+    deterministic: the same inputs give the same netlists.  Raises
+    :class:`EngineError` when the binary is missing, fails, or exceeds ``timeout_s``.
     """
     binary = engine_binary()
     with tempfile.TemporaryDirectory(prefix="tubeplan-engine-") as folder:
         with open(os.path.join(folder, "stages.genlib"), "w", encoding="ascii") as f:
             f.write(genlib)
-        with open(os.path.join(folder, "design.blif"), "w", encoding="ascii") as f:
-            f.write(blif)
         commands = ["read_library stages.genlib"]
-        for k, script in enumerate(scripts):
-            commands += ["read_blif design.blif", script, f"write_blif mapped{k}.blif"]
+        for s, blif in enumerate(sources):
+            with open(os.path.join(folder, f"design{s}.blif"), "w", encoding="ascii") as f:
+                f.write(blif)
+            for k, script in enumerate(scripts):
+                commands += [f"read_blif design{s}.blif", script, f"write_blif mapped{s}_{k}.blif"]
         try:
             done = subprocess.run([binary, "-c", "; ".join(commands)], cwd=folder, capture_output=True,
-                                  check=False,
-                                  text=True, timeout=timeout_s)
+                                  check=False, text=True, timeout=timeout_s)
         except subprocess.TimeoutExpired:
             raise EngineError(f"the multi-level synthesis engine took longer than {timeout_s:.0f} s") from None
         results = []
-        for k in range(len(scripts)):
-            path = os.path.join(folder, f"mapped{k}.blif")
-            if done.returncode != 0 or not os.path.exists(path):
-                tail = (done.stdout + done.stderr).strip().splitlines()[-3:]
-                raise EngineError("the multi-level synthesis engine failed: " + " / ".join(tail))
-            with open(path, encoding="ascii") as f:
-                results.append(f.read())
+        for s in range(len(sources)):
+            results.append([])
+            for k in range(len(scripts)):
+                path = os.path.join(folder, f"mapped{s}_{k}.blif")
+                if done.returncode != 0 or not os.path.exists(path):
+                    tail = (done.stdout + done.stderr).strip().splitlines()[-3:]
+                    raise EngineError("the multi-level synthesis engine failed: " + " / ".join(tail))
+                with open(path, encoding="ascii") as f:
+                    results[-1].append(f.read())
     return results
 
 
@@ -332,7 +399,7 @@ class MultiLevel:
 
 
 def multilevel(design, options: SynthesisOptions = SynthesisOptions(),
-               section_cost: Mapping[str, float] | None = None, diode_cost: float = 0.0,
+               section_cost: Mapping[str, float] | None = None, diode_cost: float = 0.0, stage_cost: float = 0.0,
                scripts: tuple[str, ...] | None = None, timeout_s: float = ENGINE_TIMEOUT_S) -> MultiLevel:
     """The design restructured across outputs and mapped onto the stages ``options`` allow, proven.
 
@@ -350,19 +417,24 @@ def multilevel(design, options: SynthesisOptions = SynthesisOptions(),
     if scripts is None:
         small = len(design.input_names) <= COLLAPSE_MAX_INPUTS
         scripts = ENGINE_SCRIPTS + (COLLAPSE_SCRIPTS if small else ())
-    cells = stage_library(options, section_cost, diode_cost)
+    cells = stage_library(options, section_cost, diode_cost, stage_cost)
     by_name = {c.name: c for c in cells}
     blif, names = blif_text(design, options)
-    mapped = run_engine(blif, genlib_text(cells), scripts, timeout_s)
+    sources = [("minimised", blif)]
+    written = expression_blif(design)
+    if written is not None:
+        sources.append(("as written", written))
+    mapped = run_engine([text for _, text in sources], genlib_text(cells), scripts, timeout_s)
     best = None
     areas = {}
-    for k, (script, text) in enumerate(zip(scripts, mapped)):
-        network = read_mapped(text, by_name, names, design, options)
-        area = network_area(network, cells)
-        areas[script] = area
-        key = (round(area, 9), len(network.stages), k)
-        if best is None or key < best[0]:
-            best = (key, network, script, area)
+    for (source, _), texts in zip(sources, mapped):
+        for k, (script, text) in enumerate(zip(scripts, texts)):
+            network = read_mapped(text, by_name, names, design, options)
+            area = network_area(network, cells)
+            areas[f"{source}: {script}"] = area
+            key = (round(area, 9), len(network.stages), len(areas))
+            if best is None or key < best[0]:
+                best = (key, network, f"{source}: {script}", area)
     _, network, script, area = best
     network = _with_forms_and_signals(network, design, options)
     prove(network, design)
