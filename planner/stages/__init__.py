@@ -20,7 +20,7 @@ from .followers import insert_followers
 from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, Stage, stage_view
 from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
 from .simulate import ProofError, input_patterns, prove, simulate
-from .multilevel import (COLLAPSE_SCRIPTS, ENGINE_SCRIPTS, EngineError, MultiLevel, StageCell, engine_binary,
+from .engine import (COLLAPSE_SCRIPTS, ENGINE_SCRIPTS, EngineError, MultiLevel, StageCell, engine_binary,
                          genlib_text, multilevel, stage_library)
 from .synthesis import Candidate, Synthesis, synthesise
 

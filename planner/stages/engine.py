@@ -22,6 +22,7 @@ import itertools
 import os
 import subprocess
 import tempfile
+import time
 from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Mapping
@@ -55,7 +56,6 @@ ENGINE_SCRIPTS = (
 COLLAPSE_SCRIPTS = (
     "collapse; strash; dch -f; map -a; topo",
     "collapse; sop; fx; strash; dch -f; amap; topo",
-    "collapse; sop; fx; strash; dch -f; map -a; strash; dch -f; map -a; strash; dch -f; amap; topo",
 )
 COLLAPSE_MAX_INPUTS = 16
 _PINS = "abcdefghijklmnop"
@@ -169,30 +169,30 @@ def genlib_text(cells: tuple[StageCell, ...]) -> str:
     return "\n".join(lines) + "\n"
 
 
-def _design_names(design, signals: list[str]) -> dict[str, str]:
+def _design_names(design, signals: list[str], outputs: list[str]) -> dict[str, str]:
     """Design name -> BLIF name: ``i0``, ``s0``, ``o0``, ... (inputs, signals, outputs), so no
     design name can clash with the engine's own."""
     rename = {name: f"i{k}" for k, name in enumerate(design.input_names)}
     rename.update((name, f"s{k}") for k, name in enumerate(signals))
-    rename.update((out.name, f"o{k}") for k, out in enumerate(design.outputs))
+    rename.update((name, f"o{k}") for k, name in enumerate(outputs))
     return rename
 
 
-def _header(design, rename: Mapping[str, str]) -> list[str]:
+def _header(design, rename: Mapping[str, str], outputs: list[str]) -> list[str]:
     return [".model design", ".inputs " + " ".join(rename[n] for n in design.input_names),
-            ".outputs " + " ".join(rename[o.name] for o in design.outputs)]
+            ".outputs " + " ".join(rename[name] for name in outputs)]
 
 
-def blif_text(design, options: SynthesisOptions) -> tuple[str, dict[str, str]]:
-    """BLIF of the design's don't-care-minimised blocks (``.names`` covers over each block's support).
-
-    Returns the text and BLIF name -> design name (see :func:`_design_names`).
+def blif_text(design, blocks: Mapping[str, object], outputs: list[str]) -> tuple[str, dict[str, str]]:
+    """BLIF of the design's don't-care-minimised ``blocks`` (``.names`` covers over each block's
+    support) for the design outputs ``outputs`` (the others are constants, left out: the engine
+    cannot read a constant output).  Returns the text and BLIF name -> design name (see
+    :func:`_design_names`).
     """
-    blocks = {b.name: b for b in _blocks(design, options)}
     signals = _needed_signals(design, blocks)
-    rename = _design_names(design, signals)
-    lines = _header(design, rename)
-    for name in signals + [o.name for o in design.outputs]:
+    rename = _design_names(design, signals, outputs)
+    lines = _header(design, rename, outputs)
+    for name in signals + outputs:
         cover = blocks[name].sop
         n = len(cover.names)
         lines.append(".names " + " ".join([rename[v] for v in cover.names] + [rename[name]]))
@@ -204,7 +204,7 @@ def blif_text(design, options: SynthesisOptions) -> tuple[str, dict[str, str]]:
     return "\n".join(lines) + "\n", {v: k for k, v in rename.items()}
 
 
-def expression_blif(design) -> str | None:
+def expression_blif(design, outputs: list[str]) -> str | None:
     """BLIF of the design's expressions as written (AND, OR, NOT, XOR nodes; signals shared).
 
     The engine sees the structure the designer wrote (an XOR chain stays one)
@@ -214,8 +214,8 @@ def expression_blif(design) -> str | None:
     form is used).  Names as in :func:`blif_text`.
     """
     signals = [s.name for s in design.signals]
-    rename = _design_names(design, signals)
-    lines = _header(design, rename)
+    rename = _design_names(design, signals, outputs)
+    lines = _header(design, rename, outputs)
     made: dict = {}
 
     def node(expr) -> str:
@@ -247,7 +247,7 @@ def expression_blif(design) -> str | None:
         return net
 
     try:
-        for spec in list(design.signals) + list(design.outputs):
+        for spec in list(design.signals) + [o for o in design.outputs if o.name in outputs]:
             lines += [f".names {node(spec.expr)} {rename[spec.name]}", "1 1"]
     except ValueError:
         return None
@@ -260,39 +260,58 @@ def _natural(net: str) -> tuple[str, int]:
 
 
 def run_engine(sources: list[str], genlib: str, scripts: tuple[str, ...] = ENGINE_SCRIPTS,
-               timeout_s: float = ENGINE_TIMEOUT_S) -> list[list[str]]:
-    """Run ABC once in a temporary directory: every script on every BLIF source, mapped to ``genlib``.
+               timeout_s: float = ENGINE_TIMEOUT_S) -> list[list[str | None]]:
+    """Run ABC in a temporary directory: every script on every BLIF source, mapped to ``genlib``.
 
-    Returns, per source, the mapped BLIF of each script in order.  ABC is
+    Returns, per source, the mapped BLIF of each script in order (None where that
+    script failed on that source).  One engine call does all; if it fails, each
+    script is run alone so one script's failure costs only its own result.  ABC is
     deterministic: the same inputs give the same netlists.  Raises
-    :class:`EngineError` when the binary is missing, fails, or exceeds ``timeout_s``.
+    :class:`EngineError` when the binary is missing, exceeds ``timeout_s``, or no
+    script maps any source.
     """
     binary = engine_binary()
     with tempfile.TemporaryDirectory(prefix="tubeplan-engine-") as folder:
         with open(os.path.join(folder, "stages.genlib"), "w", encoding="ascii") as f:
             f.write(genlib)
-        commands = ["read_library stages.genlib"]
+        jobs = []
         for s, blif in enumerate(sources):
             with open(os.path.join(folder, f"design{s}.blif"), "w", encoding="ascii") as f:
                 f.write(blif)
-            for k, script in enumerate(scripts):
-                commands += [f"read_blif design{s}.blif", script, f"write_blif mapped{s}_{k}.blif"]
-        try:
-            done = subprocess.run([binary, "-c", "; ".join(commands)], cwd=folder, capture_output=True,
-                                  check=False, text=True, timeout=timeout_s)
-        except subprocess.TimeoutExpired:
-            raise EngineError(f"the multi-level synthesis engine took longer than {timeout_s:.0f} s") from None
-        results = []
-        for s in range(len(sources)):
-            results.append([])
-            for k in range(len(scripts)):
-                path = os.path.join(folder, f"mapped{s}_{k}.blif")
-                if done.returncode != 0 or not os.path.exists(path):
-                    tail = (done.stdout + done.stderr).strip().splitlines()[-3:]
-                    raise EngineError("the multi-level synthesis engine failed: " + " / ".join(tail))
-                with open(path, encoding="ascii") as f:
-                    results[-1].append(f.read())
+            jobs += [(s, k, [f"read_blif design{s}.blif", script, f"write_blif mapped{s}_{k}.blif"])
+                     for k, script in enumerate(scripts)]
+        deadline = time.monotonic() + timeout_s
+        log = _call(binary, folder, [c for _, _, commands in jobs for c in commands], deadline)
+        results = [[_read(folder, s, k) for k in range(len(scripts))] for s in range(len(sources))]
+        if any(r is None for row in results for r in row):
+            for s, k, commands in jobs:
+                if results[s][k] is None:
+                    log = _call(binary, folder, commands, deadline)
+                    results[s][k] = _read(folder, s, k)
+    if all(r is None for row in results for r in row):
+        raise EngineError("the multi-level synthesis engine failed: " + " / ".join(log.strip().splitlines()[-2:]))
     return results
+
+
+def _call(binary: str, folder: str, commands: list[str], deadline: float) -> str:
+    """One engine run of ``commands`` after reading the library; its output (for error messages)."""
+    left = deadline - time.monotonic()
+    try:
+        if left <= 0:
+            raise subprocess.TimeoutExpired(binary, 0)
+        done = subprocess.run([binary, "-c", "; ".join(["read_library stages.genlib"] + commands)], cwd=folder,
+                              capture_output=True, check=False, text=True, timeout=left)
+    except subprocess.TimeoutExpired:
+        raise EngineError("the multi-level synthesis engine ran out of time") from None
+    return done.stdout + done.stderr
+
+
+def _read(folder: str, source: int, script: int) -> str | None:
+    path = os.path.join(folder, f"mapped{source}_{script}.blif")
+    if not os.path.exists(path):
+        return None
+    with open(path, encoding="ascii") as f:
+        return f.read()
 
 
 def _logical_lines(text: str) -> list[list[str]]:
@@ -311,16 +330,18 @@ def _logical_lines(text: str) -> list[list[str]]:
 
 
 def read_mapped(text: str, cells: Mapping[str, StageCell], names: Mapping[str, str], design,
-                options: SynthesisOptions) -> Network:
+                options: SynthesisOptions, constants: Mapping[str, bool]) -> Network:
     """The :class:`Network` of a mapped BLIF netlist.
 
     Every ``.gate`` is one inverting stage (its pins grouped into branches by
     the cell's widths; a net on two pins of one branch counts once, a branch
     containing another is absorbed).  ``.names`` lines the engine leaves are
-    buffers, inverters or constants.  An inverter on an input whose complement
+    buffers, inverters or constants; ``.barbuf`` lines are wires.  An inverter on an input whose complement
     the design declares is replaced by the ``~name`` net.  Nets are then
-    renumbered as :func:`planner.stages.network.renumber` does.
+    renumbered as :func:`planner.stages.network.renumber` does.  ``constants``: design
+    outputs left out of the netlist -> their value (1: a plate load alone; 0: an inverter on it).
     """
+    output_net = {name: net for net, name in names.items() if net.startswith("o")}
     declared = {spec.name for spec in design.inputs if spec.complement}
     names = {net: name for net, name in names.items() if name in design.input_names}
     alias: dict[str, str] = {}
@@ -340,6 +361,8 @@ def read_mapped(text: str, cells: Mapping[str, StageCell], names: Mapping[str, s
                 continue
             letters = iter(_PINS)
             drivers[out] = tuple(tuple(pins[next(letters)] for _ in range(w)) for w in cell.widths)
+        elif words[0] in (".barbuf", ".buf"):
+            alias[words[2]] = words[1]
         elif words[0] == ".names":
             nets = words[1:]
             rows = []
@@ -375,7 +398,12 @@ def read_mapped(text: str, cells: Mapping[str, StageCell], names: Mapping[str, s
             continue
         final[net] = ("inverting", tuple((tuple(complement_of.get(x, x) for x in b), options.means_for(len(b)))
                                          for b in body))
-    outputs = {o.name: complement_of.get(resolve(f"o{k}"), resolve(f"o{k}")) for k, o in enumerate(design.outputs)}
+    if constants:
+        final["#one"] = ("inverting", ())
+        final["#zero"] = ("inverting", ((("#one",), "single"),))
+    outputs = {o.name: ("#one" if constants[o.name] else "#zero") if o.name in constants
+               else complement_of.get(resolve(output_net[o.name]), resolve(output_net[o.name]))
+               for o in design.outputs}
     complements = tuple(spec.name for spec in design.inputs if spec.complement)
     forms = {o.name: o.name for o in design.outputs}
     return renumber(design.input_names, complements, final, outputs, forms, {}, {})
@@ -419,31 +447,38 @@ def multilevel(design, options: SynthesisOptions = SynthesisOptions(),
         scripts = ENGINE_SCRIPTS + (COLLAPSE_SCRIPTS if small else ())
     cells = stage_library(options, section_cost, diode_cost, stage_cost)
     by_name = {c.name: c for c in cells}
-    blif, names = blif_text(design, options)
+    blocks = {b.name: b for b in _blocks(design, options)}
+    constants = {o.name: bool(blocks[o.name].sop.cubes) for o in design.outputs
+                 if not blocks[o.name].sop.cubes or not blocks[o.name].inverted.cubes}
+    outputs = [o.name for o in design.outputs if o.name not in constants]
+    blif, names = blif_text(design, blocks, outputs)
     sources = [("minimised", blif)]
-    written = expression_blif(design)
+    written = expression_blif(design, outputs)
     if written is not None:
         sources.append(("as written", written))
-    mapped = run_engine([text for _, text in sources], genlib_text(cells), scripts, timeout_s)
+    if outputs:
+        mapped = run_engine([text for _, text in sources], genlib_text(cells), scripts, timeout_s)
+        results = [(f"{source}: {script}", text) for (source, _), texts in zip(sources, mapped)
+                   for script, text in zip(scripts, texts) if text is not None]
+    else:
+        results = [("constants only", "")]
     best = None
     areas = {}
-    for (source, _), texts in zip(sources, mapped):
-        for k, (script, text) in enumerate(zip(scripts, texts)):
-            network = read_mapped(text, by_name, names, design, options)
-            area = network_area(network, cells)
-            areas[f"{source}: {script}"] = area
-            key = (round(area, 9), len(network.stages), len(areas))
-            if best is None or key < best[0]:
-                best = (key, network, f"{source}: {script}", area)
+    for label, text in results:
+        network = read_mapped(text, by_name, names, design, options, constants)
+        area = network_area(network, cells)
+        areas[label] = area
+        key = (round(area, 9), len(network.stages), len(areas))
+        if best is None or key < best[0]:
+            best = (key, network, label, area)
     _, network, script, area = best
-    network = _with_forms_and_signals(network, design, options)
+    network = _with_forms_and_signals(network, design, blocks)
     prove(network, design)
     return MultiLevel(network, script, area, MappingProxyType(areas))
 
 
-def _with_forms_and_signals(network: Network, design, options: SynthesisOptions) -> Network:
+def _with_forms_and_signals(network: Network, design, blocks: Mapping[str, object]) -> Network:
     """``network`` with each output's minimised form and the nets that carry named signals."""
-    blocks = {b.name: b for b in _blocks(design, options)}
     forms = {o.name: blocks[o.name].sop.text() if blocks[o.name].sop.cubes else "0" for o in design.outputs}
     signals, inverted = {}, {}
     if len(design.input_names) <= 20 and design.signals:
