@@ -7,6 +7,7 @@ circuits written out by us, checked here against Python integer arithmetic first
 from __future__ import annotations
 
 import itertools
+import json
 import math
 from pathlib import Path
 
@@ -206,3 +207,20 @@ def test_above_twenty_inputs_the_proof_is_by_sat():
     swapped = type(network)(network.inputs, network.stages, {"y": network.outputs["z"], "z": network.outputs["y"]})
     with pytest.raises(ProofError, match="differs"):
         prove(swapped, design)
+
+
+def test_logic_command_lists_the_candidate_networks(run_cli):
+    """``tubeplan logic --networks``: each candidate's stages and sections, the chosen one the fewest
+    sections; with --stock, the planner's candidates and envelopes, the chosen one the plan's."""
+    path = str(FIXTURES / "compare2.yaml")
+    status, out, err = run_cli("logic", path, "--networks", "--json")
+    assert status == 0, err
+    doc = json.loads(out)["networks"]
+    rows = {n["network"]: n for n in doc["networks"]}
+    assert set(rows) == {"two-level", "multi-level"}
+    assert rows[doc["chosen"]]["sections"] == min(n["sections"] for n in rows.values())
+    status, out, err = run_cli("logic", path, "--networks", "--stock", str(FIXTURES / "triode.yaml"))
+    assert status == 0, err
+    assert "stage network chosen: multi-level" in out and "can kill" in out
+    status, out, err = run_cli("logic", path, "--stock", str(FIXTURES / "triode.yaml"))
+    assert status == 2 and "--networks" in err
