@@ -259,12 +259,13 @@ def _natural(net: str) -> tuple[str, int]:
     return net[0], int(net[1:].split("_")[0])
 
 
-def run_engine(sources: list[str], genlib: str, scripts: tuple[str, ...] = ENGINE_SCRIPTS,
+def run_engine(sources: list[tuple[str, tuple[str, ...]]], genlib: str,
                timeout_s: float = ENGINE_TIMEOUT_S) -> list[list[str | None]]:
-    """Run ABC in a temporary directory: every script on every BLIF source, mapped to ``genlib``.
+    """Run ABC in a temporary directory: each BLIF source with each of its scripts, mapped to ``genlib``.
 
-    Returns, per source, the mapped BLIF of each script in order (None where that
-    script failed on that source).  One engine call does all; if it fails, each
+    ``sources``: (BLIF text, scripts).  Returns, per source, the mapped BLIF of each
+    of its scripts in order (None where that script failed on that source).  One
+    engine call does all; if it fails, each
     script is run alone so one script's failure costs only its own result.  ABC is
     deterministic: the same inputs give the same netlists.  Raises
     :class:`EngineError` when the binary is missing, exceeds ``timeout_s``, or no
@@ -275,14 +276,14 @@ def run_engine(sources: list[str], genlib: str, scripts: tuple[str, ...] = ENGIN
         with open(os.path.join(folder, "stages.genlib"), "w", encoding="ascii") as f:
             f.write(genlib)
         jobs = []
-        for s, blif in enumerate(sources):
+        for s, (blif, scripts) in enumerate(sources):
             with open(os.path.join(folder, f"design{s}.blif"), "w", encoding="ascii") as f:
                 f.write(blif)
             jobs += [(s, k, [f"read_blif design{s}.blif", script, f"write_blif mapped{s}_{k}.blif"])
                      for k, script in enumerate(scripts)]
         deadline = time.monotonic() + timeout_s
         log = _call(binary, folder, [c for _, _, commands in jobs for c in commands], deadline)
-        results = [[_read(folder, s, k) for k in range(len(scripts))] for s in range(len(sources))]
+        results = [[_read(folder, s, k) for k in range(len(scripts))] for s, (_, scripts) in enumerate(sources)]
         if any(r is None for row in results for r in row):
             for s, k, commands in jobs:
                 if results[s][k] is None:
@@ -452,14 +453,15 @@ def multilevel(design, options: SynthesisOptions = SynthesisOptions(),
                  if not blocks[o.name].sop.cubes or not blocks[o.name].inverted.cubes}
     outputs = [o.name for o in design.outputs if o.name not in constants]
     blif, names = blif_text(design, blocks, outputs)
-    sources = [("minimised", blif)]
+    sources = [("minimised", blif, scripts)]
     written = expression_blif(design, outputs)
     if written is not None:
-        sources.append(("as written", written))
+        # Collapsing forgets the structure as written: those scripts would repeat the minimised source's.
+        sources.append(("as written", written, tuple(s for s in scripts if not s.startswith("collapse"))))
     if outputs:
-        mapped = run_engine([text for _, text in sources], genlib_text(cells), scripts, timeout_s)
-        results = [(f"{source}: {script}", text) for (source, _), texts in zip(sources, mapped)
-                   for script, text in zip(scripts, texts) if text is not None]
+        mapped = run_engine([(text, own) for _, text, own in sources], genlib_text(cells), timeout_s)
+        results = [(f"{source}: {script}", text) for (source, _, own), texts in zip(sources, mapped)
+                   for script, text in zip(own, texts) if text is not None]
     else:
         results = [("constants only", "")]
     best = None
