@@ -224,3 +224,34 @@ def test_logic_command_lists_the_candidate_networks(run_cli):
     assert "stage network chosen: multi-level" in out and "can kill" in out
     status, out, err = run_cli("logic", path, "--stock", str(FIXTURES / "triode.yaml"))
     assert status == 2 and "--networks" in err
+
+
+def test_stock_costs_send_scarce_dual_sections_where_they_save_most():
+    """At the scarce stock's objective costs a dual-control section (a scarce 5915 envelope: weight
+    1 + 4 scarce + heater, over its sections) costs more than a 12AU7 section, so the costed
+    network uses fewer dual-control branches than the one at area = sections, and mixes means."""
+    from planner.electrical import Rails, design_family
+    from planner.mapping import MappingOptions
+    from planner.mapping.model import Weights
+    from planner.mapping.multilevel import section_costs
+    from planner.mapping.planning import design_rules
+    from planner.spec import load_stock
+
+    stock = load_stock(FIXTURES / "scarce.yaml")
+    rules = design_rules(stock, MappingOptions())
+    tubes = [(stock.catalogue.get(t.tube), rules.wear) for t in stock.tubes]
+    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
+    costs, diode = section_costs(stock, family, Weights(1.0, 0.05, 4.0))
+    au7, heptode = stock.catalogue.get("12AU7"), stock.catalogue.get("5915")
+    assert costs["single"] == pytest.approx((1 + 0.05 * au7.heater_volts * au7.heater_amps)
+                                            / len(au7.amplifying_sections))
+    assert costs["dual"] == pytest.approx((1 + 4 + 0.05 * heptode.heater_volts * heptode.heater_amps)
+                                          / len(heptode.amplifying_sections))
+    assert costs["dual"] > 2 * costs["single"]
+    design = load_design(FIXTURES / "compare3.yaml")
+    duals = lambda n: sum(b.means == "dual" for s in n.stages for b in s.branches)  # noqa: E731
+    plain = multilevel(design, SynthesisOptions()).network
+    costed = multilevel(design, SynthesisOptions(), section_cost=costs, diode_cost=diode).network
+    prove(costed, design)
+    assert duals(costed) < duals(plain)
+    assert {b.means for s in costed.stages for b in s.branches} >= {"single"}
