@@ -242,11 +242,11 @@ def test_stock_costs_send_scarce_dual_sections_where_they_save_most():
     tubes = [(stock.catalogue.get(t.tube), rules.wear) for t in stock.tubes]
     family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
     costs, diode = section_costs(stock, family, Weights(1.0, 0.05, 4.0))
-    au7, heptode = stock.catalogue.get("12AU7"), stock.catalogue.get("5915")
-    assert costs["single"] == pytest.approx((1 + 0.05 * au7.heater_volts * au7.heater_amps)
-                                            / len(au7.amplifying_sections))
-    assert costs["dual"] == pytest.approx((1 + 4 + 0.05 * heptode.heater_volts * heptode.heater_amps)
-                                          / len(heptode.amplifying_sections))
+    per_section = lambda t, scarce=0: ((1 + scarce + 0.05 * t.heater_volts * t.heater_amps)  # noqa: E731
+                                       / len(t.amplifying_sections))
+    heptode = stock.catalogue.get("5915")
+    assert costs["single"] == pytest.approx(min(per_section(stock.catalogue.get(t)) for t in ("12AU7", "6SN7")))
+    assert costs["dual"] == pytest.approx(per_section(heptode, 4))
     assert costs["dual"] > 2 * costs["single"]
     design = load_design(FIXTURES / "compare3.yaml")
     duals = lambda n: sum(b.means == "dual" for s in n.stages for b in s.branches)  # noqa: E731
