@@ -15,8 +15,8 @@ import pytest
 import sympy
 
 from planner.spec import Design, InputSpec, OutputSpec, load_design
-from planner.stages import (EngineError, ProofError, SynthesisOptions, engine_binary, genlib_text, multilevel, prove, simulate,
-                            stage_library, synthesise)
+from planner.stages import (EngineError, ProofError, SynthesisOptions, engine_binary, genlib_text, multilevel, prove,
+                            simulate, stage_library, synthesise)
 import planner.stages.engine as engine
 
 FIXTURES = Path(__file__).resolve().parent / "fixtures" / "synthesis"

@@ -123,8 +123,9 @@ def stage_library(options: SynthesisOptions, section_cost: Mapping[str, float] |
     template (``single``: one-input branches; ``dual``: branches of one or two inputs;
     ``diode``: up to ``diode_fanin``), so its area is its branch count times that
     template's ``section_cost`` (default 1: area = sections) plus ``diode_cost`` per
-    diode, plus ``stage_cost`` per stage (a plate load and its dividers).  Also the constant 1 (a plate load alone: no section) and the constant 0
-    (an inverter on it).  Cost: the number of shapes, under a few hundred.
+    diode, plus ``stage_cost`` per stage (a plate load and its dividers).  Also the
+    constant 1 (a plate load alone: no section) and the constant 0 (an inverter on
+    it).  Cost: the number of shapes, under a few hundred.
 
     >>> [c.name for c in stage_library(SynthesisOptions(max_branches=2))]
     ['one', 'zero', 'inv', 'nor2', 'nand2', 'aoi21', 'aoi22']
@@ -134,7 +135,7 @@ def stage_library(options: SynthesisOptions, section_cost: Mapping[str, float] |
     allowed = _templates(options)
     widest = max(allowed.values())
     single = min(costs[t] for t in allowed)
-    cells = [StageCell("one", (), "single", stage_cost), StageCell("zero", (), "single", single + stage_cost)]
+    cells = [StageCell("one", (), "single", stage_cost), StageCell("zero", (), "single", single + 2 * stage_cost)]
     for branches in range(1, options.branch_limit + 1):
         for widths in itertools.combinations_with_replacement(range(widest, 0, -1), branches):
             if sum(widths) > MAX_CELL_PINS:
@@ -337,10 +338,12 @@ def read_mapped(text: str, cells: Mapping[str, StageCell], names: Mapping[str, s
     Every ``.gate`` is one inverting stage (its pins grouped into branches by
     the cell's widths; a net on two pins of one branch counts once, a branch
     containing another is absorbed).  ``.names`` lines the engine leaves are
-    buffers, inverters or constants; ``.barbuf`` lines are wires.  An inverter on an input whose complement
-    the design declares is replaced by the ``~name`` net.  Nets are then
-    renumbered as :func:`planner.stages.network.renumber` does.  ``constants``: design
-    outputs left out of the netlist -> their value (1: a plate load alone; 0: an inverter on it).
+    buffers, inverters or constants; ``.barbuf`` lines are wires.  An inverter
+    on an input whose complement the design declares is replaced by the
+    ``~name`` net.  Nets are then renumbered as
+    :func:`planner.stages.network.renumber` does.  ``constants``: design outputs
+    left out of the netlist -> their value (1: a plate load alone; 0: an
+    inverter on it).  Forms are filled in by the caller.
     """
     output_net = {name: net for net, name in names.items() if net.startswith("o")}
     declared = {spec.name for spec in design.inputs if spec.complement}
@@ -380,6 +383,7 @@ def read_mapped(text: str, cells: Mapping[str, StageCell], names: Mapping[str, s
                 drivers[out] = ((nets[0],),)
             else:
                 raise EngineError(f"the engine left an unmapped node {out} ({rows})")
+
     def resolve(net: str) -> str:
         while net in alias:
             net = alias[net]
