@@ -11,8 +11,8 @@ from planner.stages import SynthesisOptions, insert_followers, prove, synthesise
 
 from .assemble import place
 from .build import build_plan
-from .multilevel import multilevel_networks
 from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
+from .multilevel import multilevel_networks
 from .options import MappingOptions
 from .plan import NetworkTried, Plan, Solution
 from .problem import DIODE_FANIN, build_problem
@@ -209,7 +209,8 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     the rules' wear); with registers, a bistable for each stocked dual triode
     on one shared clock and the logic between the registers
     (:func:`planner.mapping.registers.register_view`); the stage networks the
-    stock allows (see :func:`_synthesis_variants`), each with followers
+    stock allows (see :func:`_synthesis_variants`) and the multi-level ones
+    (:func:`planner.mapping.multilevel.multilevel_networks`), each with followers
     wherever no stocked template can drive a net's loads, each proven against
     the design (next states and their complements included); the
     aggregated integer program for each (:mod:`planner.mapping.model`); the
