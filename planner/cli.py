@@ -1,21 +1,26 @@
 """The ``tubeplan`` command: argument parsing and output only; the work is in the packages.
 
-Exit statuses: 0 done; 1 internal error (one line and a hint; traceback with
-``--debug``); 2 bad input (one ``FILE:LINE: message``); 3 the stock or
-supplies cannot carry the design (with what is short).
+Exit statuses: 0 done (also bare ``tubeplan``, which prints the help); 1
+internal error (one line and a hint; traceback with ``--debug``); 2 a mistake
+in the user's files, options or output path (one ``FILE:LINE: message`` on
+stderr); 3 the stock or supplies cannot carry the design (what is short, on
+stderr).
 """
 
 from __future__ import annotations
 
 import argparse
 import json
+import math
+import os
 import sys
 from pathlib import Path
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT = 0, 1, 2, 3
 
-#: The bundled demo, planned by ``tubeplan plan`` with no arguments.
-DEMO_DIR = Path(__file__).resolve().parent.parent / "inventory_demo"
+#: The bundled demo, planned by ``tubeplan plan`` with no arguments: package data, a link to the
+#: project's top-level ``inventory_demo/`` in the source tree.
+DEMO_DIR = Path(__file__).resolve().parent / "inventory_demo"
 DEMO_DESIGN = DEMO_DIR / "design.yaml"
 DEMO_STOCK = DEMO_DIR / "stock.yaml"
 DEMO_OUT = Path("plan_out")
@@ -65,7 +70,7 @@ def _add_plan(subparsers) -> None:
     parser.add_argument("design", nargs="?", help="design file (YAML); default: the bundled demo")
     parser.add_argument("--stock", help="stock file (YAML); default: the demo's stock")
     parser.add_argument("--out", help=f"output directory; default: ./{DEMO_OUT}")
-    parser.add_argument("--time-limit", type=float, metavar="SECONDS",
+    parser.add_argument("--time-limit", type=_positive_seconds, metavar="SECONDS",
                         help="budget of the integer solves (default 60 s); past it the best plan found "
                              "is kept and its optimality gap reported")
     parser.add_argument("--solver", choices=("cbc", "highs"), default="cbc",
@@ -76,8 +81,16 @@ def _add_plan(subparsers) -> None:
                         help="stage shapes allowed: any AND-OR-INVERT (default), NAND-only or NOR-only")
     parser.add_argument("--flatten", type=int, metavar="N",
                         help="flatten named signals into blocks of at most N inputs and minimise them again")
-    parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    parser.add_argument("--quiet", action="store_true",
+                        help="no progress lines on stderr; the last line still says where the report is")
     parser.set_defaults(run=_run_plan)
+
+
+def _positive_seconds(text: str) -> float:
+    seconds = float(text)  # argparse reports a ValueError as an invalid value
+    if not math.isfinite(seconds) or seconds <= 0:
+        raise argparse.ArgumentTypeError(f"must be a positive number of seconds, got {text}")
+    return seconds
 
 
 def _run_plan(args) -> int:
@@ -101,10 +114,14 @@ def _run_plan(args) -> int:
     options = MappingOptions(time_limit_s=args.time_limit or DEFAULT_TIME_LIMIT_S, solver=args.solver,
                              mode=args.objective, synthesis_mode=args.gates, flatten_limit=args.flatten)
     result = plan_files(design, stock, out, options, quiet=args.quiet)
+    if not result.planned:
+        print(result.summary, file=sys.stderr)
+        return EXIT_SHORT
     print(result.summary)
     print()
     print(CAUTION)
-    return EXIT_OK if result.planned else EXIT_SHORT
+    print(f"plan written to {out}{os.sep}; report: {out / 'report.html'}")
+    return EXIT_OK
 
 
 # --- tubes --------------------------------------------------------------------------------
@@ -121,14 +138,20 @@ def _add_tubes(subparsers) -> None:
 def _run_tubes(args) -> int:
     from planner.catalogue import builtin_catalogue, catalogue_document, format_catalogue
 
+    from planner.electrical import DesignRules
+
+    plate_volts = (150.0, 250.0)
     if args.stock:
         from planner.spec import load_stock
 
-        catalogue = load_stock(args.stock).catalogue
+        stock = load_stock(args.stock)
+        catalogue = stock.catalogue
+        # Cut-off at the stock's plate supply: nominal and at the top of its tolerance.
+        plate_volts = (stock.plate.volts, stock.plate.volts * (1 + DesignRules().supply_tolerance))
     else:
         catalogue = builtin_catalogue()
     if args.json:
-        _print_json(catalogue_document(catalogue))
+        _print_json(catalogue_document(catalogue, plate_volts))
     else:
         sys.stdout.write(format_catalogue(catalogue))
     return EXIT_OK
@@ -148,6 +171,9 @@ def _add_stage(subparsers) -> None:
     parser.add_argument("--means", choices=("single", "dual", "diode"), default="single",
                         help="branch: one grid, both control grids (g1 and g3), or a diode AND on g1")
     parser.add_argument("--series", choices=("E24", "E12"), default="E24", help="resistor values (IEC 60063)")
+    parser.add_argument("--heater-elevation", type=float, default=0.0, metavar="V",
+                        help="DC reference of the heater winding, volts (default 0), for the follower's "
+                             "heater-cathode check")
     parser.add_argument("--json", action="store_true", help="print the template as JSON")
     parser.set_defaults(run=_run_stage)
 
@@ -168,8 +194,12 @@ def _run_stage(args) -> int:
         rails = Rails(args.plate_volts, args.bias_volts)
     except ValueError as problem:
         raise InputError(where, 0, f"{problem}; expected e.g. --plate-volts 250 --bias-volts -100") from None
+    if not rails.bias_volts <= args.heater_elevation <= rails.plate_volts:
+        raise InputError(where, 0, f"--heater-elevation must lie between the bias supply and B+, "
+                                   f"got {args.heater_elevation:g} V")
     try:
-        template = design_template(tube, args.means, rails, args.fanout, DesignRules(series=args.series))
+        template = design_template(tube, args.means, rails, args.fanout, DesignRules(series=args.series),
+                                   elevation_volts=args.heater_elevation)
     except NoTemplate as problem:
         print(problem.reason, file=sys.stderr)
         return EXIT_INPUT
@@ -247,14 +277,24 @@ def _run_logic(args) -> int:
 _SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_stage, _add_logic)
 
 
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose mistakes are one line, like every other mistake (exit 2)."""
+
+    def error(self, message):
+        self.exit(EXIT_INPUT, f"<command line>:0: {message}; see {self.prog} --help\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    from planner import __version__
+
+    parser = _Parser(
         prog="tubeplan",
         description="Plan digital logic built from vacuum tubes: minimise the logic, map it onto "
                     "tube stages, design every resistor, choose tube types within your stock, "
                     "prove the result and report budgets, parts and wiring.",
         epilog=CAUTION)
     parser.add_argument("--debug", action="store_true", help="show a traceback on internal errors")
+    parser.add_argument("--version", action="version", version=f"tubeplan {__version__}")
     subparsers = parser.add_subparsers(dest="command", metavar="COMMAND")
     for add in _SUBCOMMANDS:
         add(subparsers)
@@ -274,10 +314,13 @@ def _main(argv) -> int:
     from planner.spec import InputError
 
     parser = build_parser()
-    args = parser.parse_args(argv)
-    if not getattr(args, "run", None):
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as stop:  # --help, --version, or a one-line mistake already printed
+        return stop.code
+    if not getattr(args, "run", None):  # bare ``tubeplan``: asking what it does is no mistake
         parser.print_help()
-        return EXIT_INPUT
+        return EXIT_OK
     try:
         return args.run(args)
     except InputError as problem:

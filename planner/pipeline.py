@@ -11,7 +11,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from planner.mapping import MappingOptions, Shortage, plan_design
-from planner.report import check_target, plan_summary, write_plan
+from planner.report import PLAN_FILES, check_target, plan_summary, write_plan
 from planner.spec import load_design, load_stock
 
 
@@ -38,7 +38,8 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     progress = None if quiet else _progress
     design = load_design(design_path)
     stock = load_stock(stock_path)
-    check_target(Path(out_dir))  # refuse a foreign --out before the planning work, not after
+    inputs = (Path(design_path), Path(stock_path))
+    check_target(Path(out_dir), PLAN_FILES, inputs)  # refuse a bad --out before the planning work, not after
     options = options or MappingOptions()
     if progress and options.progress is None:
         options = dataclasses.replace(options, progress=progress)
@@ -49,7 +50,7 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     if progress:
         progress(f"writing the plan into {out_dir}")
     files = write_plan(plan, Path(out_dir), stock=stock, design_path=Path(design_path),
-                       stock_path=Path(stock_path))
+                       stock_path=Path(stock_path), notify=_progress)
     return PlanResult(True, plan_summary(plan), tuple(files))
 
 

@@ -2,7 +2,9 @@
 
 import json
 
-from planner.catalogue import builtin_catalogue
+import pytest
+
+from planner.catalogue import builtin_catalogue, cutoff_grid_volts
 from planner.cli import main
 
 # Invented fixture: a stock file with one invented custom type.
@@ -60,3 +62,29 @@ def test_bad_custom_type_is_an_input_error(tmp_path, capsys):
     assert main(["tubes", "--stock", str(stock)]) == 2
     err = capsys.readouterr().err
     assert f"{stock}:" in err and "heater.amps" in err and "greater than zero" in err
+
+
+def test_tubes_names_the_conservative_choices_and_the_types_from_memory(capsys):
+    assert main(["tubes"]) == 0
+    out = capsys.readouterr().out
+    assert "Where sources disagree" in out
+    assert "6SN7: plate dissipation: 3.5 W" in out and "5.0 W" in out
+    assert "12AX7: output capacitance: 0.46 pF" in out and "0.33 pF" in out
+    assert "6J6: plate/grid pairing" in out
+    assert "Models from memory (no source read): 5915, 6AK5, 6AL5, 6AS6, 6AU6, 6CS6" in out
+
+
+def test_tubes_json_gives_cutoff_at_the_stock_supply(tmp_path, capsys):
+    stock = tmp_path / "stock.yaml"
+    stock.write_text(STOCK)
+    assert main(["tubes", "--json", "--stock", str(stock)]) == 0
+    doc = {t["name"]: t for t in json.loads(capsys.readouterr().out)["types"]}
+    au7 = doc["12AU7"]
+    # The stock's plate supply, nominal and 5 % up; the catalogue's own cut-off (10 uA) there.
+    assert [c["plate_volts"] for c in au7["cutoff"]] == [200.0, 210.0]
+    for c in au7["cutoff"]:
+        expected = cutoff_grid_volts(builtin_catalogue().get("12AU7"), plate_volts=c["plate_volts"])
+        assert c["grid"] == pytest.approx(expected, abs=0.01) and c["grid3"] is None
+    assert doc["6AS6"]["cutoff"][0]["grid3"] < 0 and doc["6AS6"]["model_from_memory"] is True
+    assert doc["6AL5"]["cutoff"] == [] and doc["12AU7"]["model_from_memory"] is False
+    assert any("0.46 pF" in n for n in doc["12AX7"]["notes"])

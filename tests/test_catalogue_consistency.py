@@ -23,7 +23,7 @@ CAT = builtin_catalogue()
 TYPES = [CAT.get(n) for n in CAT.names()]
 AMPLIFIERS = [t for t in TYPES if t.model.equation != "diode"]
 DATA_FIELDS = [f.name for f in dataclasses.fields(TubeType)
-               if f.name not in ("name", "description", "sources")]
+               if f.name not in ("name", "description", "sources", "notes")]
 
 
 def test_the_required_types_are_present_and_the_broadcast_converter_is_not():

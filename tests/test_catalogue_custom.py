@@ -78,6 +78,9 @@ BAD = [
     ("sources", KeyError, "sources", "no source for"),
     ("sources.default", "", "sources.default", "datasheet"),
     ("colour", "red", "colour", "unknown key"),
+    ("model.tail_volts", 0.5, "model.tail_volts", "only the koren-triode"),
+    ("model.vct", 1.0, "model.vct", "only the koren-triode"),
+    ("notes", "one text", "notes", "list of texts"),
 ]
 
 

@@ -2,7 +2,8 @@
 
 The design picks each worst corner from the monotonicity of the circuit
 equations; here every resistor (each load's own resistors independently),
-both supplies and the tube wear are walked over both ends, every number of
+both supplies and the tube wear (with the wider allowance of a type whose
+data are from memory) are walked over both ends, every number of
 loads from one to the fan-out is tried, and the extremes must be the ones
 the design reported.
 """
@@ -67,7 +68,8 @@ def walk(tube, means, rails, rules, driver, receivers, ctx_of, max_loads):
         for n in range(1, max_loads + 1):
             for combo in itertools.product(choices, repeat=n):
                 loads = tuple((1, ld) for _, ld in combo)
-                for feed, wear in itertools.product(_feeds(driver, t), (ctx.wear, 1.0)):
+                # Worn and strong ends of the tube (wider for a type with data from memory).
+                for feed, wear in itertools.product(_feeds(driver, t), (ctx.wear, ctx.strong)):
                     for g1, g3 in _off_grids(ctx, means, rules):
                         v = solve_plate(vb, rl, ((nb, SectionState(tube, g1, g3, wear, feed)),), loads)
                         out["high"] = min(out["high"], v)
@@ -138,13 +140,17 @@ def test_receivers_accept_every_family_level():
     fam = design_family(rails, tubes, rules)
     ctx_of = {t.name: TubeContext(t, w, rails, rules) for t, w in tubes}
     s = rules.supply_tolerance
-    for rec in fam.receivers.values():
+    # Drivers' loads accept up to low_max; a follower's loads (their own dividers) up to follower_low_max.
+    variants = [(r, fam.low_max_volts) for r in fam.receivers.values()]
+    variants += [(r, fam.follower_low_max_volts) for r in fam.follower_receivers.values()]
+    assert fam.follower_receivers or not fam.followers
+    for rec, low_level in variants:
         for sc, sb in itertools.product(PM, PM):
             vc, vb = rails.bias_volts * (1 + sc * s), rails.plate_volts * (1 + sb * s)
             for ld in _load_corners(ctx_of, rec, vc, vb, rules.resistor_tolerance, rules):
                 high = load_state(ld, fam.high_min_volts)
                 assert thevenin(ld.divider, high.gate_volts)[0] >= 0 and high.grid_volts >= 0  # brute force
-                low = load_state(ld, fam.follower_low_max_volts)
+                low = load_state(ld, low_level)
                 assert low.grid_volts <= rec.cutoff_volts - rules.margin_volts  # brute force
 
 

@@ -9,7 +9,7 @@ import sympy
 from planner.catalogue import ModelParams, builtin_catalogue
 from planner.electrical import brent_root
 from planner.electrical.circuit import Load, SectionState, clamp_grid_volts, load_amps, solve_plate
-from planner.electrical.roots import NoBracket
+from planner.electrical.roots import NoBracket, NoConvergence
 
 CAT = builtin_catalogue()
 
@@ -18,8 +18,14 @@ def test_brent_root_simple_functions():
     assert brent_root(lambda x: x**3 - 2 * x - 5, 2.0, 3.0) == pytest.approx(2.0945514815, abs=1e-7)  # the classic cubic of Wallis; root from memory
     assert brent_root(math.cos, 0.0, 3.0) == pytest.approx(math.pi / 2, abs=1e-7)
     assert brent_root(lambda x: x - 1.0, 1.0, 4.0) == 1.0
-    with pytest.raises(NoBracket):
+    with pytest.raises(NoBracket, match=r"^no sign change on \[-1.0, 1.0\]"):
         brent_root(lambda x: x * x + 1, -1.0, 1.0)
+
+
+def test_brent_root_raises_when_it_does_not_converge():
+    # Two steps cannot shrink [0, 2] to 1e-7 around sqrt(2): the finder says so instead of guessing.
+    with pytest.raises(NoConvergence, match=r"^no root within 1e-07 on \[0.0, 2.0\] after 2 steps"):
+        brent_root(lambda x: x * x - 2.0, 0.0, 2.0, max_iter=2)
 
 
 def test_plate_node_matches_sympy_child_langmuir():
@@ -38,10 +44,11 @@ def test_plate_node_with_loads_matches_sympy_koren():
     vb, rl, bias, r1, r2 = 250.0, 82e3, -100.0, 910e3, 750e3
     wear, n = 0.7, 3
     v = solve_plate(vb, rl, ((1, SectionState(tube, 0.0, 0.0, wear, None)),), ((n, Load(r1, r2, bias, tube)),))
-    # Koren 1996 triode, written out again in sympy; the grid at 0 V; loads unclamped (their taps are negative).
+    # Koren 1996 triode with his grid offset vct and our tail knee, written out again in sympy; the grid
+    # at 0 V; loads unclamped (their taps are negative).
     x = sympy.Symbol("x")
-    e1 = x / m.kp * sympy.log(1 + sympy.exp(m.kp * (1 / m.mu)))
-    ip = wear * 2 * e1**m.ex / m.kg1
+    e1 = x / m.kp * sympy.log(1 + sympy.exp(m.kp * (1 / m.mu + m.vct / sympy.sqrt(m.kvb + x**2))))
+    ip = wear * 2 * e1**m.ex / m.kg1 * e1**2 / (e1**2 + m.tail_volts**2)
     loads = n * (x - bias) / (r1 + r2)
     ref = float(sympy.nsolve((vb - x) / rl - ip - loads, x, 40))  # sympy nsolve
     assert v == pytest.approx(ref, abs=1e-5)

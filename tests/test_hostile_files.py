@@ -149,8 +149,8 @@ def test_exit_statuses(tmp_path, write, run_cli, monkeypatch):
     assert status == 2 and err.startswith(str(tmp_path / "bad.yaml") + ":1:")
     short = write("short.yaml", SMALL_STOCK.replace("12AT7: {count: 6}", "12AT7: {count: 0}")
                    .replace("6AU6: {count: 4}", "6AU6: {count: 1}"))
-    status, out, _ = run_cli("plan", design, "--stock", short, "--out", tmp_path / "short", "--quiet")
-    assert status == 3 and "needs" in out
+    status, out, err = run_cli("plan", design, "--stock", short, "--out", tmp_path / "short", "--quiet")
+    assert status == 3 and "needs" in err and out == ""  # the reason goes to stderr
     assert not (tmp_path / "short").exists()
 
     import planner.pipeline

@@ -15,9 +15,9 @@ HERE = Path(__file__).resolve().parent
 
 
 def test_required_fields_of_the_contract():
-    """Every field DESIGN.md's plan document requires, with its type (contract: schema 1)."""
+    """Every field DESIGN.md's plan document requires, with its type (contract; schema 2 since issue 15)."""
     doc = json.loads(plan_json(fixture_plan()))
-    assert doc["schema"] == SCHEMA == 1
+    assert doc["schema"] == SCHEMA == 2
     assert doc["design"] == "fixture-gates"
     assert doc["inputs"] == [{"name": "a", "complement_available": False},
                              {"name": "b", "complement_available": True}]
@@ -36,9 +36,9 @@ def test_required_fields_of_the_contract():
         [("V1", "12AU7", "H1"), ("V2", "5915", "H1"), ("V3", "12AU7", "H2")]
     budget = doc["budget"]
     assert set(budget) >= {"heater_watts", "windings", "plate_ma_worst", "plate_ma_typical", "bias_ma"}
-    assert budget["windings"][0] == {"id": "H1", "volts": 6.3, "amps": 0.6, "max_amps": 8.0}
+    assert budget["windings"][0] == {"id": "H1", "volts": 6.3, "amps": 0.6, "max_amps": 8.0, "elevated_volts": 0}
     assert budget["plate_ma_worst"] == 12.7 and budget["bias_ma"] == 4.0
-    assert {"tube": "5915", "on_hand": 2, "reserve": 0, "used": 1, "scarce": True} in doc["stock"]
+    assert {"tube": "5915", "on_hand": 2, "reserve": 0, "used": 1, "scarce": True, "from_memory": True} in doc["stock"]
 
 
 def test_json_is_sorted_indented_and_rounds_binary_noise():

@@ -74,7 +74,9 @@ def fixture_plan(*, prices: bool = False) -> Plan:
                     windings=(WindingLoad("H1", 6.3, 8.0, 0.6), WindingLoad("H2", 12.6, 2.5, 0.15)),
                     plate_ma_worst=12.7, plate_ma_typical=7.4, bias_ma=4.0, plate_max_ma=200.0,
                     bias_max_ma=50.0)
-    stock = (StockUse("12AU7", 4, 1, 2, False, ), StockUse("5915", 2, 0, 1, True), StockUse("6AL5", 3, 0, 0, False))
+    # The 5915 and 6AL5 models are from memory in the catalogue (TubeType.model_from_memory).
+    stock = (StockUse("12AU7", 4, 1, 2, False), StockUse("5915", 2, 0, 1, True, True),
+             StockUse("6AL5", 3, 0, 0, False, True))
     return Plan(design="fixture-gates", inputs=(("a", False), ("b", True)),
                 outputs=(("w", "n3"), ("y", "n1"), ("z", "n2")),
                 forms=(("w", "~(a | b)"), ("y", "~(a | b)"), ("z", "~(a & ~b)")),
@@ -143,6 +145,6 @@ def fixture_diode_plan() -> Plan:
     budget = Budget(1.89, (WindingLoad("H1", 6.3, 2.0, 0.3),), 3.9, 2.6, 0.2, 100.0, 20.0)
     return Plan(design="fixture-diode", inputs=(("a", False), ("b", False), ("c", False)),
                 outputs=(("q", "n1"),), forms=(("q", "~(a & b & c)"),), stages=(stage,), envelopes=(envelope,),
-                parts=tuple(parts), budget=budget, stock=(StockUse("6AU6", 2, 0, 1, False),),
+                parts=tuple(parts), budget=budget, stock=(StockUse("6AU6", 2, 0, 1, False, True),),
                 solution=Solution("CBC", "Optimal", 1.1, 1.1, 0.0, 0.05),
                 plate_volts=225.0, bias_volts=-95.0, high_volts=67.5, low_volts=20.25)

@@ -264,7 +264,7 @@ def test_files_agree_with_the_plan(planned, case):
     check_bom_against_plan(plan, bom_lines(plan, prices=prices, tube_prices=tube_prices))
     check_wiring_against_plan(plan, wiring_rows(plan, stock.catalogue))
     doc = json.loads((out / "plan.json").read_text())
-    assert doc["schema"] == 1 and doc["design"] == design.name
+    assert doc["schema"] == 2 and doc["design"] == design.name
     assert sorted(doc["outputs"]) == sorted(o.name for o in design.outputs)
     text = check_report_html((out / "report.html").read_text())
     assert str(design_path) in text and str(stock_path) in text

@@ -72,15 +72,85 @@ def test_an_empty_directory_receives_a_plan(tmp_path):
     assert (target / MARKER).is_file()
 
 
-def test_an_earlier_plan_is_replaced_whole(tmp_path):
+@pytest.mark.parametrize("swap", [True, False])
+def test_a_replan_replaces_only_the_tools_files(tmp_path, monkeypatch, swap):
+    """The earlier plan's own files (listed in its marker) are replaced; what the user added is kept.
+
+    Both with the atomic swap and with the rename-aside fallback.
+    """
+    if not swap:
+        monkeypatch.setattr(write_module, "_exchange", lambda first, second: False)
     out = tmp_path / "plan"
     write_plan(fixture_plan(), out)
+    assert (out / MARKER).read_text().splitlines()[-len(FILES):] == FILES  # the marker lists what it wrote
     (out / "scribble.txt").write_text("left by hand in the old plan")
+    (out / "photos").mkdir()
+    (out / "photos" / "chassis.jpg").write_bytes(b"\xff\xd8")
+    (out / "latest").symlink_to("photos")
     (out / "plan.json").write_text("old")
-    write_plan(fixture_plan(), out)
-    assert sorted(p.name for p in out.iterdir()) == sorted(FILES + [MARKER])
+    notes = []
+    write_plan(fixture_plan(), out, notify=notes.append)
+    assert sorted(p.name for p in out.iterdir()) == sorted(FILES + [MARKER, "latest", "photos", "scribble.txt"])
     assert (out / "plan.json").read_text().startswith("{")
+    assert (out / "scribble.txt").read_text() == "left by hand in the old plan"
+    assert (out / "photos" / "chassis.jpg").read_bytes() == b"\xff\xd8"
+    assert os.readlink(out / "latest") == "photos"
+    assert len(notes) == 1 and "latest, photos, scribble.txt" in notes[0]
     assert _leftovers(tmp_path) == []
+
+
+def test_a_file_of_the_users_with_a_plan_files_name_is_refused(tmp_path):
+    """A marker that does not list report.md means the user put it there: refused, not replaced."""
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    marker = out / MARKER
+    marker.write_text(marker.read_text().replace("report.md\n", ""))
+    (out / "report.md").write_text("my own report")
+    with pytest.raises(InputError) as caught:
+        write_plan(fixture_plan(), out)
+    assert caught.value.path == str(out / "report.md") and "not written by tubeplan" in caught.value.message
+    assert (out / "report.md").read_text() == "my own report" and _leftovers(tmp_path) == []
+
+
+def test_an_older_marker_without_a_list_means_the_plan_files(tmp_path):
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    (out / MARKER).write_text("This directory was written by tubeplan plan and is replaced whole by the next run.\n")
+    (out / "notes.txt").write_text("mine")
+    write_plan(fixture_plan(), out)
+    assert (out / "notes.txt").read_text() == "mine" and FILES[0] in (out / MARKER).read_text()
+
+
+def test_an_input_file_among_the_replaced_files_is_refused(tmp_path):
+    """The design and stock files are never inside what is replaced."""
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    design = out / "plan.json"  # the user's design saved under a name the plan writes
+    with pytest.raises(InputError) as caught:
+        write_plan(fixture_plan(), out, design_path=design)
+    assert caught.value.path == str(design) and "would be replaced" in caught.value.message
+    kept = out / "design.yaml"
+    kept.write_text("design: mine\n")
+    write_plan(fixture_plan(), out, design_path=kept)
+    assert kept.read_text() == "design: mine\n"
+
+
+def test_what_changes_during_the_swap_is_kept_beside(tmp_path, monkeypatch):
+    """A file written into the old plan between mirror and swap is not deleted with the old plan."""
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    real_install = write_module._install
+
+    def late_writer(new, out_dir, replace):
+        (out_dir / "late.txt").write_text("written at the last moment")
+        real_install(new, out_dir, replace)
+
+    monkeypatch.setattr(write_module, "_install", late_writer)
+    notes = []
+    write_plan(fixture_plan(), out, notify=notes.append)
+    kept = [p for p in tmp_path.iterdir() if ".tubeplan-kept-" in p.name]
+    assert len(kept) == 1 and (kept[0] / "late.txt").read_text() == "written at the last moment"
+    assert str(kept[0]) in notes[-1]
 
 
 def test_replacement_without_an_atomic_swap(tmp_path, monkeypatch):
@@ -136,3 +206,14 @@ def test_a_failed_swap_restores_the_old_plan(tmp_path, monkeypatch):
         write_plan(fixture_plan(), out)
     monkeypatch.setattr(write_module.os, "rename", real_rename)
     assert _snapshot(out) == before and _leftovers(tmp_path) == []
+
+
+def test_a_directory_is_never_taken_for_a_plan_file(tmp_path):
+    """tubeplan writes no directories: one named in the marker (edited by hand) is still kept."""
+    out = tmp_path / "plan"
+    write_plan(fixture_plan(), out)
+    (out / MARKER).write_text((out / MARKER).read_text() + "photos\n")
+    (out / "photos").mkdir()
+    (out / "photos" / "v1.jpg").write_bytes(b"\xff\xd8")
+    write_plan(fixture_plan(), out)
+    assert (out / "photos" / "v1.jpg").read_bytes() == b"\xff\xd8" and _leftovers(tmp_path) == []

@@ -4,8 +4,11 @@ Each entry goes through ``tube_type_from_mapping`` like a user's own type.
 ``sources`` names the datasheet or handbook a value was read from; "from
 memory" marks values recalled from the manufacturers' data but not read
 while writing this file. Model parameters were fitted by
-benchmarks/fit_koren.py to the typical operating points named in
-``sources.model``. The 7-pin pentagrid converter of broadcast receivers is
+benchmarks/fit_koren.py: the 12AT7, 12AU7 and 12AX7 to the published plate
+curves of the ECC81, ECC82 and ECC83 (all but two held-out curves each),
+the others to the typical operating points named in ``sources.model``.
+``notes`` say which value a type keeps where sources disagree (the
+conservative one for design). The 7-pin pentagrid converter of broadcast receivers is
 deliberately not in this catalogue.
 """
 
@@ -40,6 +43,20 @@ ECC81_PAGE = "vacuumtubes.io ECC81/12AT7 data summary"
 EH_6SN7 = "Electro-Harmonix 6SN7EH data sheet"
 RU_6SN7 = "RCA 6SN7 class A1 data as tabulated in the Russian Wikipedia 6SN7 article"
 OP316_5965 = "op316.com 5965 data page (tube manual values)"
+COMPILATION = ("Muhaarnox/AVT5229_TubeTester_GUI@7c13d3c8 external_sources/lamp_datasheets/{}.md "
+               "(secondary compilation of Philips/RCA/Mullard sheets, low confidence)")
+JJ_ECC83S = "JJ ECC83S data sheet pin table (quoted at docs.architolk.nl/ac5/12AX7)"
+CURVES = ("the {} plate curves digitized from a manufacturer's datasheet in "
+          "andmarti1424/loadline_plotter@6e7038f valves_data.csv")
+
+
+def curve_fit_source(curves: str, held_out: str) -> str:
+    """The source line of a model fitted by ``benchmarks/fit_koren.py --curves``."""
+    return (f"fitted by benchmarks/fit_koren.py --curves (least squares on log current over points of "
+            f"0.5 mA and more, the 0 V curve weighted twice, plus the 10 uA cut-off) to {CURVES.format(curves)}, "
+            f"curves at {held_out} held out; started from Koren's published Tube.lib set; tail_volts is our "
+            "addition")
+
 
 BUILTIN_DATA = {
     "12AU7": {
@@ -51,11 +68,10 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.75, "max_heater_cathode_volts": 250},
         "capacitance_pf": {"input": 1.6, "output": 0.5, "grid_plate": 1.5},
         "model": {"equation": "koren-triode",
-                  "mu": 19.66, "ex": 1.274, "kg1": 1343, "kp": 106.2, "kvb": 239.4,
+                  "mu": 18.09, "ex": 1.72, "kg1": 5755, "kp": 91.36, "kvb": 50.37, "tail_volts": 0.8173, "vct": 1.969,
                   "grid_perveance": GRID_DIODE},
-        "sources": {"default": BRIMAR_12AU7, "capacitance_pf": MEMORY,
-                    "model": "fitted to the RCA 12AU7 typical operation points (100 V 0 V 11.8 mA; "
-                             "250 V -8.5 V 10.5 mA; cut-off -24 V), points from memory"},
+        "sources": {"default": BRIMAR_12AU7, "capacitance_pf": COMPILATION.format("12AU7"),
+                    "model": curve_fit_source("ECC82", "-6 V and -14 V")},
     },
     "12AX7": {
         "description": "high-mu dual triode (ECC83)",
@@ -66,13 +82,16 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 300, "max_plate_watts": 1.0, "max_heater_cathode_volts": 180},
         "capacitance_pf": {"input": 1.6, "output": 0.46, "grid_plate": 1.7},
         "model": {"equation": "koren-triode",
-                  "mu": 105.3, "ex": 0.9848, "kg1": 949.7, "kp": 708.3, "kvb": 7843,
+                  "mu": 100.8, "ex": 0.9443, "kg1": 815.4, "kp": 473.9, "kvb": 77.35, "tail_volts": 2.426, "vct": 1.115,
                   "grid_perveance": GRID_DIODE},
-        "sources": {"default": SYLVANIA_12AX7, "sections": MEMORY, "heater.pins": MEMORY,
-                    "heater.centre_tap": MEMORY, "ratings.max_heater_cathode_volts": MEMORY,
-                    "capacitance_pf": MEMORY,
-                    "model": "fitted to the Sylvania 12AX7 point 250 V -2 V 1.2 mA (read) and the "
-                             "RCA point 100 V -1 V 0.5 mA (from memory)"},
+        "sources": {"default": SYLVANIA_12AX7, "sections": JJ_ECC83S, "heater.pins": JJ_ECC83S,
+                    "heater.centre_tap": JJ_ECC83S, "ratings.max_heater_cathode_volts": MEMORY,
+                    "capacitance_pf.input": COMPILATION.format("12AX7"),
+                    "capacitance_pf.output": MEMORY, "capacitance_pf.grid_plate": MEMORY,
+                    "model": curve_fit_source("ECC83", "-0.5 V and -1.5 V")},
+        "notes": ["output capacitance: 0.46 pF (from memory, RCA) kept for design against 0.33 pF "
+                  "(Philips ECC83 column of the compilation): the larger value gives the slower, "
+                  "conservative timing; grid-plate 1.7 pF kept against 1.6 pF for the same reason"],
     },
     "12AT7": {
         "description": "high-mu dual triode for high current (ECC81)",
@@ -83,12 +102,18 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 300, "max_plate_watts": 2.5, "max_heater_cathode_volts": 90},
         "capacitance_pf": {"input": 2.2, "output": 0.5, "grid_plate": 1.5},
         "model": {"equation": "koren-triode",
-                  "mu": 130.5, "ex": 1.056, "kg1": 188.1, "kp": 180.5, "kvb": 5401,
+                  "mu": 88.4, "ex": 0.8755, "kg1": 157, "kp": 267.6, "kvb": 16550, "tail_volts": 0.01932, "vct": -0.9651,
                   "grid_perveance": GRID_DIODE},
         "sources": {"default": ECC81_PAGE, "ratings.max_heater_cathode_volts": MEMORY,
-                    "capacitance_pf": MEMORY,
-                    "model": "fitted to the RCA 12AT7 typical operation points (100 V 270 ohm 3.7 mA; "
-                             "250 V 200 ohm 10 mA; cut-off -12 V), points from memory"},
+                    "capacitance_pf.input": COMPILATION.format("12AT7"),
+                    "capacitance_pf.grid_plate": COMPILATION.format("12AT7"),
+                    "capacitance_pf.output": MEMORY,
+                    "model": curve_fit_source("ECC81", "-1 V and -5 V")},
+        "notes": ["output capacitance: 0.5 pF (from memory) kept for design against 0.45 pF (compilation): "
+                  "the larger value gives the slower, conservative timing",
+                  "plate resistance: the model follows the ECC81 curves, whose slope at 250 V -2 V gives "
+                  "11.4 kilohm against 11 kilohm (data summaries) and 10.9 kilohm (compilation); the design "
+                  "keeps the model's higher figure (the weaker pull-down, conservative)"],
     },
     "5965": {
         "description": "computer dual triode, medium-high mu, long life in cut-off",
@@ -118,11 +143,16 @@ BUILTIN_DATA = {
         "ratings": {"max_plate_volts": 450, "max_plate_watts": 3.5, "max_heater_cathode_volts": 200},
         "capacitance_pf": {"input": 3.0, "output": 1.2, "grid_plate": 4.0},
         "model": {"equation": "koren-triode",
-                  "mu": 21.22, "ex": 1.269, "kg1": 1250, "kp": 175.7, "kvb": 271.5,
+                  "mu": 21.06, "ex": 1.332, "kg1": 1432, "kp": 158.8, "kvb": 269.6,
                   "grid_perveance": GRID_DIODE},
         "sources": {"default": MEMORY, "sections": EH_6SN7, "heater": EH_6SN7,
-                    "model": f"fitted to the point 250 V -8 V 9 mA ({RU_6SN7}) and the RCA point "
-                             "90 V 0 V 10 mA (from memory)"},
+                    "ratings.max_plate_volts": COMPILATION.format("6SN7"),
+                    "model": f"fitted by benchmarks/fit_koren.py to the point 250 V -8 V 9 mA ({RU_6SN7}) and "
+                             "every other Sylvania 6SN7 point of Koren's Tuparam file 6SN7Sylv.m (as converted "
+                             "in Muhaarnox/AVT5229_TubeTester_GUI@7c13d3c8), the rest held out"},
+        "notes": ["plate dissipation: 3.5 W (6SN7GT, from memory) kept for design against 5.0 W "
+                  "(RCA 6SN7GTB column of a low-confidence compilation): the lower rating is the "
+                  "conservative one"],
     },
     "6J6": {
         "description": "dual triode with a common cathode, 7-pin miniature",
@@ -139,9 +169,15 @@ BUILTIN_DATA = {
         "model": {"equation": "koren-triode",
                   "mu": 39.1, "ex": 1.147, "kg1": 444.3, "kp": 187.8, "kvb": 303.3,
                   "grid_perveance": GRID_DIODE},
-        "sources": {"default": MEMORY,
-                    "model": "fitted to the RCA 6J6 point 100 V, 50 ohm common cathode resistor, "
-                             "8.5 mA per unit, gm 5.3 mA/V, mu 38 (from memory)"},
+        "sources": {"default": MEMORY, "heater": COMPILATION.format("ECC91"),
+                    "ratings.max_plate_volts": COMPILATION.format("ECC91"),
+                    "ratings.max_plate_watts": COMPILATION.format("ECC91"),
+                    "model": "fitted to the 6J6 point 100 V, 50 ohm common cathode resistor, "
+                             "8.5 mA per unit, gm 5.3 mA/V, mu 38 (RCA, recalled; the same figures in "
+                             + COMPILATION.format("ECC91") + ", Mullard ECC91 column)"},
+        "notes": ["plate/grid pairing: the catalogue pairs plate 2 with grid 5 and plate 1 with grid 6 "
+                  "(basing 7BF, from memory); the ECC91 compilation pairs plate 1 with grid 2 and plate 5 "
+                  "with grid 6. Unresolved: check the pairing on your tube's datasheet before wiring"],
     },
     "6AU6": {
         "description": "sharp cut-off pentode, suppressor on its own pin",

@@ -38,13 +38,13 @@ MODEL_KEYS = {
     "child-langmuir": ("mu", "perveance"),
     "diode": ("perveance",),
 }
-OPTIONAL_MODEL_KEYS = ("grid_perveance", "g3_zero_volts", "g3_ex")
+OPTIONAL_MODEL_KEYS = ("grid_perveance", "g3_zero_volts", "g3_ex", "tail_volts", "vct")
 EQUATIONS_FOR_KIND = {"triode": ("koren-triode", "child-langmuir"),
                       "pentode": ("koren-pentode",), "dual-control": ("koren-pentode",),
                       "diode": ("diode",)}
 
 TOP_KEYS = ("description", "kind", "base", "sections", "shared_cathode", "heater",
-            "ratings", "capacitance_pf", "model", "sources")
+            "ratings", "capacitance_pf", "model", "sources", "notes")
 HEATER_KEYS = ("volts", "amps", "pins", "centre_tap", "series_volts", "series_amps")
 RATING_KEYS = ("max_plate_volts", "max_plate_watts", "max_plate_ma", "max_screen_volts",
                "max_screen_watts", "max_grid_ma", "max_heater_cathode_volts")
@@ -269,6 +269,11 @@ def _model(data: Mapping, kind: str) -> ModelParams:
         for key in ("g3_zero_volts", "g3_ex"):
             if values[key] is not None:
                 raise CatalogueDataError(f"model.{key}", "only dual-control sections take a g3 gate")
+    values["tail_volts"] = _number(model, "tail_volts", "model", required=False)
+    values["vct"] = _number(model, "vct", "model", required=False, positive=False)
+    for key in ("tail_volts", "vct"):
+        if values[key] is not None and equation != "koren-triode":
+            raise CatalogueDataError(f"model.{key}", "only the koren-triode equation takes it")
     return ModelParams(equation=equation, **values)
 
 
@@ -348,4 +353,12 @@ def tube_type_from_mapping(name: str, data: Mapping) -> TubeType:
         model=_model(data, sections[0].kind),
     )
     fields["sources"] = _sources(data, fields)
+    fields["notes"] = _notes(data)
     return TubeType(**fields)
+
+
+def _notes(data: Mapping) -> tuple[str, ...]:
+    notes = data.get("notes", [])
+    if not isinstance(notes, list) or not all(isinstance(n, str) and n.strip() for n in notes):
+        raise CatalogueDataError("notes", f"expected a list of texts, got {notes!r}")
+    return tuple(notes)

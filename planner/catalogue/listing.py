@@ -7,7 +7,11 @@ from collections import Counter
 from tabulate import tabulate
 
 from .custom import SOURCE_PATHS
+from .models import CUTOFF_AMPS, cutoff_grid_volts
 from .types import Catalogue, TubeType
+
+LISTING_PLATE_VOLTS = (150.0, 250.0)
+"""Plate voltages of the cut-off figures when no supply is given."""
 
 CAUTION = ("Caution: tube plate supplies are high voltage and can kill; heaters carry amperes and "
            "glass runs hot. Values marked 'from memory' were not read from a datasheet: check them "
@@ -53,11 +57,45 @@ def format_catalogue(catalogue: Catalogue) -> str:
             for t in (catalogue.get(n) for n in catalogue.names())]
     table = tabulate(rows, headers=("type", "kind", "sections", "heater", "base", "source"),
                      tablefmt="simple")
-    return f"{table}\n\n{CAUTION}\n"
+    notes = [f"  {t.name}: {note}" for t in (catalogue.get(n) for n in catalogue.names()) for note in t.notes]
+    memory = [n for n in catalogue.names() if catalogue.get(n).model_from_memory]
+    text = table
+    if notes:
+        text += "\n\nWhere sources disagree (the design keeps the conservative value):\n" + "\n".join(notes)
+    if memory:
+        text += (f"\n\nModels from memory (no source read): {', '.join(memory)}; plans with them carry a "
+                 "wider worst-case allowance (docs/electrical.md).")
+    return f"{text}\n\n{CAUTION}\n"
 
 
-def tube_document(tube: TubeType) -> dict:
-    """Every value of a type as plain JSON-ready data, with its sources keyed by field path."""
+def cutoff_figures(tube: TubeType, plate_volts: float) -> dict | None:
+    """Grid voltages (to cathode) where the plate current falls to 10 uA, at ``plate_volts``.
+
+    Screen (if any) at the plate voltage or its rating, whichever is lower;
+    the other control grid at 0 V. None for a diode type. Cost: a bisection
+    per grid (``cutoff_grid_volts``).
+    """
+    if not tube.amplifying_sections:
+        return None
+    screen = None
+    if tube.model.equation == "koren-pentode":
+        screen = min(plate_volts, tube.max_screen_volts or plate_volts)
+
+    def cut(grid3: bool) -> float | None:
+        try:
+            return round(cutoff_grid_volts(tube, plate_volts=plate_volts, screen_volts=screen, grid3=grid3), 2)
+        except ValueError:
+            return None
+    return {"plate_volts": plate_volts, "screen_volts": screen, "threshold_amps": CUTOFF_AMPS,
+            "grid": cut(False), "grid3": cut(True) if tube.model.g3_zero_volts is not None else None}
+
+
+def tube_document(tube: TubeType, plate_volts: tuple[float, ...] = LISTING_PLATE_VOLTS) -> dict:
+    """Every value of a type as plain JSON-ready data, with its sources keyed by field path.
+
+    ``cutoff``: ``cutoff_figures`` at each of ``plate_volts`` (a plan's
+    rails, or 150 V and 250 V).
+    """
     return {
         "name": tube.name,
         "description": tube.description,
@@ -76,10 +114,16 @@ def tube_document(tube: TubeType) -> dict:
         "capacitance_pf": {"input": tube.c_in_pf, "output": tube.c_out_pf, "grid_plate": tube.c_gp_pf},
         "model": {k: v for k, v in vars(tube.model).items() if v is not None},
         "sources": {SOURCE_PATHS[k]: v for k, v in tube.sources.items()},
+        "notes": list(tube.notes),
+        "model_from_memory": tube.model_from_memory,
+        "cutoff": [c for v in plate_volts if (c := cutoff_figures(tube, v)) is not None],
     }
 
 
-def catalogue_document(catalogue: Catalogue) -> dict:
-    """The whole catalogue as JSON-ready data: {"schema": 1, "types": [...], "caution": ...}."""
-    return {"schema": 1, "types": [tube_document(catalogue.get(n)) for n in catalogue.names()],
+def catalogue_document(catalogue: Catalogue, plate_volts: tuple[float, ...] = LISTING_PLATE_VOLTS) -> dict:
+    """The whole catalogue as JSON-ready data: {"schema": 1, "types": [...], "caution": ...}.
+
+    Cut-off figures at ``plate_volts`` (``tube_document``).
+    """
+    return {"schema": 1, "types": [tube_document(catalogue.get(n), plate_volts) for n in catalogue.names()],
             "caution": CAUTION}

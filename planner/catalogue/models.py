@@ -3,8 +3,16 @@
 Triode (N. Koren, "Improved VT models for SPICE simulations", Glass Audio
 1996, eq. for the triode)::
 
-    E1 = (Ep / kp) * ln(1 + exp(kp * (1/mu + Eg / sqrt(kvb + Ep^2))))
+    E1 = (Ep / kp) * ln(1 + exp(kp * (1/mu + (Eg + vct) / sqrt(kvb + Ep^2))))
     Ip = 2 * E1^ex / kg1                     (Koren's (1 + sgn E1) factor)
+    Ip = Ip * E1^2 / (E1^2 + tail_volts^2)   (our tail knee, when given)
+
+``vct`` (Koren's contact-potential offset, as in his later triode sets) is
+0 when not given. The tail knee is our addition: Koren's soft rounding
+gives an exponential tail that falls too slowly for the published curves of
+some types (their current vanishes 2 to 3 V before the plain model's 10 uA
+cut-off); the factor is 1 to within 1e-3 once E1 exceeds 30 tail_volts and
+steepens the tail below. Both fitted by benchmarks/fit_koren.py.
 
 Pentode (Koren 1996, eq. for the pentode)::
 
@@ -74,7 +82,7 @@ def _koren_e1(model: ModelParams, volts: float, grid_volts: float, triode: bool)
     if volts <= 0.0:
         return 0.0
     if triode:
-        arg = 1.0 / model.mu + grid_volts / math.sqrt(model.kvb + volts * volts)
+        arg = 1.0 / model.mu + (grid_volts + (model.vct or 0.0)) / math.sqrt(model.kvb + volts * volts)
     else:
         arg = 1.0 / model.mu + grid_volts / volts
     return volts / model.kp * softplus(model.kp * arg)
@@ -150,7 +158,9 @@ def plate_current_amps(
     if m.equation == "koren-triode":
         if plate_volts <= 0.0:
             return 0.0
-        return 2.0 * _koren_e1(m, plate_volts, grid_volts, triode=True) ** m.ex / m.kg1
+        e1 = _koren_e1(m, plate_volts, grid_volts, triode=True)
+        tail = 1.0 if m.tail_volts is None else e1 * e1 / (e1 * e1 + m.tail_volts**2)
+        return 2.0 * e1**m.ex / m.kg1 * tail
     if m.equation == "koren-pentode":
         ip, _ = _pentode_parts(tube, plate_volts, grid_volts, _screen_volts(tube, screen_volts))
         return ip * g3_gate(m, grid3_volts) if _is_dual(tube) else ip

@@ -73,6 +73,13 @@ def _softplus(x: str) -> str:
     return f"(max({x},0)+ln(1+exp(-abs({x}))))"
 
 
+def _tail(m: ModelParams) -> str:
+    """The cut-off tail factor E1^2 / (E1^2 + tail_volts^2), as in ``models``; empty without one."""
+    if m.tail_volts is None:
+        return ""
+    return f"*v(e1)*v(e1)/(v(e1)*v(e1)+{_num(m.tail_volts ** 2)})"
+
+
 def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
     """B-source lines for the plate (and screen) currents of one section."""
     ep = "max(v(p,k),0)"
@@ -82,10 +89,10 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
         drive = f"max(v(g,k)+{ep}/{_num(m.mu)},0)"
         return [f"Bp p k I={_num(m.perveance)}*pow({drive},1.5)"]
     if m.equation == "koren-triode":
-        arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+v(g,k)/sqrt({_num(m.kvb)}+{ep}*{ep}))"
+        arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+(v(g,k)+{_num(m.vct or 0.0)})/sqrt({_num(m.kvb)}+{ep}*{ep}))"
         return [f"Be1 e1 0 V={ep}/{_num(m.kp)}*{_softplus(arg)}",
                 "Re1 e1 0 1G",
-                f"Bp p k I=2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}"]
+                f"Bp p k I=2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]
     # Koren pentode; the screen voltage floor keeps Eg1/Eg2 finite at 0 V.
     es = f"max(v(s,k),{_EPSILON_VOLTS})"
     arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+v(g,k)/{es})"

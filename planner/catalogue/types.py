@@ -99,6 +99,12 @@ class ModelParams:
     ``g3_zero_volts`` and ``g3_ex``: the gating factor of the second control
     grid of a dual-control section (zero point in volts, exponent); None for
     other sections.
+    ``vct``: Koren's grid offset (contact potential, volts) added to the grid
+    voltage of a Koren triode; None for none.
+    ``tail_volts``: knee of the cut-off tail of a Koren triode (our
+    addition): the current is multiplied by ``E1^2 / (E1^2 + tail_volts^2)``,
+    which leaves it unchanged well above cut-off and steepens the
+    exponential tail of Koren's soft rounding below it; None for none.
     """
 
     equation: str
@@ -112,6 +118,8 @@ class ModelParams:
     grid_perveance: float | None = None
     g3_zero_volts: float | None = None
     g3_ex: float | None = None
+    tail_volts: float | None = None
+    vct: float | None = None
 
 
 @dataclass(frozen=True)
@@ -125,6 +133,8 @@ class TubeType:
     Ratings are per section; a diode type gives ``max_plate_ma`` (average
     current per plate) and may leave ``max_plate_watts`` None. ``sources`` maps each field name of this class
     to the datasheet or handbook it was read from, or "from memory".
+    ``notes``: where sources disagree, which value the type keeps for
+    design and why (shown by ``tubeplan tubes``).
     """
 
     name: str
@@ -149,6 +159,15 @@ class TubeType:
     c_gp_pf: float | None
     model: ModelParams
     sources: Mapping[str, str] = field(default_factory=FrozenMap)
+    notes: tuple[str, ...] = ()
+
+    @property
+    def model_from_memory(self) -> bool:
+        """True when the model's source says it rests on figures from memory (no source read).
+
+        The design gives such types a wider allowance (``DesignRules.unsourced_allowance``).
+        """
+        return "from memory" in self.sources.get("model", "")
 
     @property
     def pin_count(self) -> int:

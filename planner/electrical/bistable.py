@@ -54,7 +54,7 @@ import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType
 
 from .circuit import Load, ScreenFeed, SectionState, load_state, section_amps, thevenin
 from .context import TubeContext

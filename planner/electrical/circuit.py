@@ -24,8 +24,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from planner.catalogue.models import grid_current_amps, plate_current_amps, screen_current_amps
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType, grid_current_amps, plate_current_amps, screen_current_amps
 
 from .roots import brent_root
 

@@ -8,8 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import cached_property
 
-from planner.catalogue.models import cutoff_grid_volts
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType, cutoff_grid_volts
 
 from .circuit import ScreenFeed, SectionState, has_screen, section_amps
 from .eseries import resistor_rating_watts, series_values
@@ -74,7 +73,11 @@ class TubeContext:
     def __init__(self, tube: TubeType, wear: float, rails: Rails, rules: DesignRules):
         if not 0 < wear <= 1:
             raise ValueError(f"{tube.name}: condition must be in (0, 1], got {wear}")
-        self.tube, self.wear, self.rules = tube, wear, rules
+        # Types whose model rests on recalled figures get the rules' wider allowance.
+        self.allowance = rules.unsourced_allowance if tube.model_from_memory else 0.0
+        self.tube, self.wear, self.rules = tube, wear * (1.0 - self.allowance), rules
+        self.strong = 1.0 + self.allowance
+        """Current of the strongest tube, as a fraction of the model's."""
         self.box = Box(rails, rules)
         self.screened = has_screen(tube)
         self.dual = tube.model.g3_zero_volts is not None
@@ -128,7 +131,7 @@ class TubeContext:
         g3_states = (vg, self.box.vc(+1)) if self.dual else (0.0,)
         watts = drop = 0.0
         for g3 in g3_states:
-            s = self.section(vg, g3, 1.0, feed, +1)
+            s = self.section(vg, g3, self.strong, feed, +1)
             _, i_s, vs = section_amps(s, vb, vb)
             watts, drop = max(watts, vs * i_s), max(drop, vb - vs)
         return watts, drop
@@ -196,7 +199,8 @@ class TubeContext:
         the other control grid (dual-control types) at its highest high
         level: all make cut-off deeper. Cut-off is where the plate current
         falls to the catalogue's ``CUTOFF_AMPS`` (``cutoff_grid_volts``, a
-        bisection to 1 mV). KeyError for a role the type does not have.
+        bisection to 1 mV), taken (1 + allowance) times deeper for a type
+        whose model is from memory. KeyError for a role the type does not have.
         """
         return self._cutoffs[role]
 
@@ -212,8 +216,9 @@ class TubeContext:
 
     def _cutoff(self, role: str) -> float:
         other = self.grid_high_max_volts if self.dual else 0.0
-        return cutoff_grid_volts(self.tube, plate_volts=self.box.vb(+1), screen_volts=self.screen_cutoff_volts,
-                                 grid3=role == "grid3", other_grid_volts=other)
+        volts = cutoff_grid_volts(self.tube, plate_volts=self.box.vb(+1), screen_volts=self.screen_cutoff_volts,
+                                  grid3=role == "grid3", other_grid_volts=other)
+        return volts * (1.0 + self.allowance)
 
     def has_role(self, role: str) -> bool:
         """True when the grid in ``role`` exists and can be cut off."""

@@ -94,12 +94,12 @@ class _Option:
         self.on_weak = {vb: section_amps(self.weak[vb], box.vb(vb), low_volts)[0] for vb in SIGNS}
         self.leak_state, self.leak = {}, {}
         for vb in SIGNS:
-            states = [ctx.section(g1, g3, 1.0, feed, +1) for g1, g3 in off_grids]
+            states = [ctx.section(g1, g3, ctx.strong, feed, +1) for g1, g3 in off_grids]
             amps = [section_amps(s, box.vb(vb), high_volts)[0] for s in states]
             k = max(range(len(amps)), key=lambda i: amps[i])
             self.leak_state[vb], self.leak[vb] = states[k], amps[k]
         vh = 0.0 if means == "diode" else ctx.grid_high_max_volts
-        self.strong = ctx.section(vh, vh if means == "dual" else 0.0, 1.0, feed, +1)
+        self.strong = ctx.section(vh, vh if means == "dual" else 0.0, ctx.strong, feed, +1)
         self.nominal_on = ctx.section(0.0, 0.0, 1.0, feed, 0)
         self.nominal_off = ctx.section(off_grids[0][0], off_grids[0][1], 1.0, feed, 0)
         if feed is None:

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import math
 
-from planner.catalogue.models import plate_current_amps
+from planner.catalogue import plate_current_amps
 
 from .circuit import follower_cathode_volts, follower_on_node, load_amps
 from .context import TubeContext
@@ -36,7 +36,8 @@ MAX_TRIES = 12
 """Candidate cathode resistors verified (in order of preference) before giving up."""
 
 def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float, drive_low_volts: float,
-                    env: Envelope, node_load_ohms: float) -> Follower | Shortfall:
+                    env: Envelope, node_load_ohms: float,
+                    elevations: tuple[float, ...] = (0.0,)) -> Follower | Shortfall:
     """Cathode resistor of a follower on ``ctx.tube`` for the levels, or why none passes.
 
     ``env`` must be the family's envelope at (``high_volts``,
@@ -45,6 +46,12 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
     the input node rises towards B+). Rk is scanned over the E series; the
     pair with the largest fan-out (then the least current) that also passes
     grid current, heater-cathode voltage, dissipation and watts wins.
+    Values whose cathode resistor would need more than a 2 W rating with
+    the whole span from B+ to the bias rail across it are tried last.
+    ``elevations``: the DC references of the heater windings available
+    (volts to ground; 0 for a grounded winding); the follower passes the
+    heater-cathode check when its cathode's whole range fits the rating
+    around one of them (:func:`heater_cathode_excess`).
     Cost: O(values) closed forms plus a few nested solves per value tried.
     """
     tube, box = ctx.tube, ctx.box
@@ -53,11 +60,6 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
     if ctx.plate_rating_problem:
         limit, excess, unit = ctx.plate_rating_problem
         return Shortfall(limit, excess, unit, f"the plate supply exceeds the {ctx.name}'s plate rating by {excess:.1f} V")
-    hk = tube.max_heater_cathode_volts
-    if hk is not None and high_volts > hk:
-        return Shortfall("heater-cathode voltage", high_volts - hk, "V",
-                         f"a follower's cathode must reach {high_volts:.1f} V, over the {ctx.name}'s "
-                         f"{hk:g} V heater-cathode rating")
     delta = accept_low_volts - drive_low_volts
     if delta <= 0:
         return Shortfall("follower allowance", 0.0, "V",
@@ -83,7 +85,10 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
         if fanout < 1:
             high_fail = rk if high_fail is None else max(high_fail, rk)
             continue
-        candidates.append((-fanout, -rk))
+        # Rk takes nearly the whole span from B+ to the bias rail when the input rises to B+: values
+        # whose 2 W rating (at half load) that span would exceed are tried last.
+        hot = (vb_hi - vc_most) ** 2 / box.r(rk, -1) > 1.0
+        candidates.append((hot, -fanout, -rk))
     if not candidates:
         if high_fail is not None:
             rk = box.r(high_fail, -1)
@@ -98,8 +103,9 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
                          f"{accept_low_volts:.1f} V")
     candidates.sort()
     problem = None
-    for neg_f, neg_rk in candidates[:MAX_TRIES]:
-        result = _verify(ctx, -neg_rk, -neg_f, high_volts, accept_low_volts, drive_low_volts, env, node_load_ohms)
+    for _hot, neg_f, neg_rk in candidates[:MAX_TRIES]:
+        result = _verify(ctx, -neg_rk, -neg_f, high_volts, accept_low_volts, drive_low_volts, env, node_load_ohms,
+                         elevations)
         if isinstance(result, Follower):
             return result
         problem = problem or result
@@ -107,7 +113,8 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
 
 
 def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_low_volts: float,
-            drive_low_volts: float, env: Envelope, node_load_ohms: float) -> Follower | Shortfall:
+            drive_low_volts: float, env: Envelope, node_load_ohms: float,
+            elevations: tuple[float, ...]) -> Follower | Shortfall:
     tube, box = ctx.tube, ctx.box
     vb_lo, vb_hi = box.vb(-1), box.vb(+1)
     vc_most, vc_least = box.vc(+1), box.vc(-1)
@@ -128,10 +135,12 @@ def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_
                          f"{STOPPER_OHMS[-1] / 1e3:g} kOhm")
     # Highest cathode: new tube, no loads, Rk high, bias least negative.
     _, vk_max, _ = follower_on_node(tube, 1.0, vb_hi, node, rk_hi, vc_least, ())
-    hk = tube.max_heater_cathode_volts
-    if hk is not None and vk_max > hk:
-        return Shortfall("heater-cathode voltage", vk_max - hk, "V",
-                         f"the follower's cathode reaches {vk_max:.1f} V, over the {hk:g} V heater-cathode rating")
+    # Lowest cathode: the grid at 0 V (no plate node falls below its grounded cathodes), a worn tube
+    # at the lowest supply, Rk low, bias most negative, heavy loads: the section works hardest.
+    vk_min = follower_cathode_volts(tube, ctx.wear, vb_lo, 0.0, rk_lo, vc_most, heavy_loads)
+    problem = _heater_cathode_problem(ctx, vk_min, vk_max, elevations)
+    if problem is not None:
+        return problem
     watts = _plate_watts_bound(vb_hi, rk_lo, vc_most, env, fanout, accept_low_volts, high_volts, vk_max)
     if watts > tube.max_plate_watts:
         return Shortfall("plate dissipation", watts - tube.max_plate_watts, "W",
@@ -154,7 +163,47 @@ def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_
         supply_ma_worst=supply * 1e3, supply_ma_typical=typical * 1e3,
         bias_ma_worst=(vk_max - vc_most) / rk_lo * 1e3, section_watts_worst=watts,
         grid_ma_worst=grid_amps * 1e3, grid_stopper_ohms=stopper, cathode_volts_max=vk_max,
-        high_volts=high, low_volts=low)
+        high_volts=high, low_volts=low, cathode_volts_min=vk_min,
+        elevations=tuple(e for e in elevations if heater_cathode_excess(tube, e, vk_min, vk_max) <= 0))
+
+
+def heater_cathode_excess(tube, elevation_volts: float, cathode_low_volts: float, cathode_high_volts: float) -> float:
+    """How far a cathode spanning [low, high] exceeds ``tube``'s heater-cathode rating (<= 0: within it).
+
+    The heater sits at ``elevation_volts`` (its winding's DC reference).
+    The catalogue gives one rating, ``max_heater_cathode_volts``, which is
+    applied to both signs (cathode above or below the heater): the
+    stricter reading where a datasheet gives two (common practice). A
+    type without a rating never exceeds it. O(1).
+
+    >>> from planner.catalogue import builtin_catalogue
+    >>> t = builtin_catalogue().get("12AT7")  # rated 90 V
+    >>> heater_cathode_excess(t, 0.0, 5.0, 150.0), heater_cathode_excess(t, 60.0, 5.0, 150.0)
+    (60.0, 0.0)
+    """
+    rating = tube.max_heater_cathode_volts
+    if rating is None:
+        return -float("inf")
+    return max(cathode_high_volts - elevation_volts, elevation_volts - cathode_low_volts) - rating
+
+
+def _heater_cathode_problem(ctx: TubeContext, vk_min: float, vk_max: float,
+                            elevations: tuple[float, ...]) -> Shortfall | None:
+    """None when some heater reference keeps the cathode's range within rating; else the smallest excess."""
+    tube = ctx.tube
+    excess, best = min((heater_cathode_excess(tube, e, vk_min, vk_max), e) for e in elevations)
+    if excess <= 0:
+        return None
+    hk = tube.max_heater_cathode_volts
+    centre = 0.5 * (vk_min + vk_max)
+    if vk_max - vk_min <= 2 * hk:
+        hint = f"; a heater winding elevated to about {centre:.0f} V would fit"
+    else:
+        hint = "; its cathode swings too far for any heater elevation"
+    where = "grounded" if best == 0 else f"elevated to {best:g} V"
+    return Shortfall("heater-cathode voltage", excess, "V",
+                     f"a {ctx.name} follower's cathode spans {vk_min:.1f} to {vk_max:.1f} V; with its heater "
+                     f"{where} that is {excess:.1f} V over the {hk:g} V heater-cathode rating{hint}")
 
 
 def _plate_watts_bound(vb: float, rk: float, vc: float, env: Envelope, fanout: int,

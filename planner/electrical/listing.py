@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from .parts import Template
+from .parts import Shortfall, Template
 
 CAUTION = ("CAUTION: the plate supply of these stages is high voltage and can kill; switch off and "
            "discharge the filter capacitors before touching the wiring, and follow your local "
@@ -33,7 +33,9 @@ def format_template(t: Template) -> str:
         f"{t.tube} stage ({t.means} branch) on {t.rails.plate_volts:+g} V / {t.rails.bias_volts:+g} V, "
         f"fan-out {t.fanout} (these values carry up to {t.fanout_limit})",
         f"worst case over {r.resistor_tolerance:.0%} resistors, {r.supply_tolerance:.0%} supplies and tubes at "
-        f"{r.wear:.0%} of nominal current; {r.series} values",
+        f"{r.wear:.0%} of nominal current"
+        + (f" ({r.unsourced_allowance:.0%} less, and new ones {r.unsourced_allowance:.0%} more: data from memory)"
+           if t.from_memory else "") + f"; {r.series} values",
         "",
         f"  plate load       {ohms_text(d.plate_load_ohms):>6}  {watts_text(d.plate_load_watts)}",
     ]
@@ -57,10 +59,35 @@ def format_template(t: Template) -> str:
         f"load grid {t.grid_high_volts:+.2f} V, drive {t.margin_high_volts:.1f} V above 0 V",
         f"  output low       {t.low_volts:7.1f} V at the plate (designed for {t.design_low_volts:.1f} V); "
         f"load grid {t.grid_low_volts:+.1f} V, {t.margin_low_volts:.1f} V below cut-off ({t.cutoff_volts:.1f} V)",
+        f"  cut-off          {t.cutoff_volts:+.1f} V at a load's grid (10 uA) with the plate at the highest "
+        f"supply, {t.rails.plate_volts * (1 + r.supply_tolerance):g} V"
+        + (f" ({r.unsourced_allowance:.0%} deeper: {t.tube}'s data are from memory)" if t.from_memory else ""),
         f"  plate supply     {d.supply_ma_worst:.2f} mA worst, {d.supply_ma_typical:.2f} mA typical per stage",
         f"  section          {d.section_watts_worst:.2f} W worst"
         + (f", screen {d.screen_watts_worst:.2f} W" if d.screen_watts_worst is not None else ""),
-        "",
-        CAUTION,
     ]
+    lines += _follower_lines(t) + ["", CAUTION]
     return "\n".join(lines) + "\n"
+
+
+def _follower_lines(t: Template) -> list[str]:
+    """The type's cathode follower at the template's fan-out, or which limit fails and by how much."""
+    f = t.follower
+    if f is None:
+        return []
+    if isinstance(f, Shortfall):
+        return ["", f"  follower         none passes: {f.limit}, short by {f.amount:.1f} {f.unit}".rstrip(),
+                f"                   ({f.message})"]
+    x = f.follower
+    lines = ["", f"  follower         cathode load {ohms_text(x.cathode_load_ohms)} {watts_text(x.cathode_load_watts)} "
+             f"to bias" + (f", grid stopper {ohms_text(x.grid_stopper_ohms)}" if x.grid_stopper_ohms else "")
+             + f"; carries up to {x.fanout_limit} loads"]
+    for rec in f.receivers:
+        lines.append(f"  fed divider {('(' + rec.grid_role + ')'):<8} {ohms_text(rec.upper_ohms)} upper, "
+                     f"{ohms_text(rec.lower_ohms)} lower (designed for the follower's levels)")
+    where = "grounded heater" if not f.elevation_volts else f"heater at {f.elevation_volts:+g} V DC"
+    lines += [f"  follower output  {f.high_volts:.1f} V high, {f.low_volts:.1f} V low worst case with {f.fanout} "
+              f"loads (its loads accept {f.design_high_volts:.1f} V and {f.accept_low_volts:.1f} V)",
+              f"  cathode range    {x.cathode_volts_min:.1f} to {x.cathode_volts_max:.1f} V ({where}; "
+              f"within the heater-cathode rating)"]
+    return lines

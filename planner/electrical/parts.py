@@ -7,7 +7,9 @@ All voltages are to ground; "worst" figures are over the whole tolerance box
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+
+from planner.catalogue.types import FrozenMap
 
 from .rules import DesignRules, Rails
 
@@ -117,6 +119,11 @@ class Follower:
     ``Family.follower_low_max_volts``. It must not be fed from another
     follower. ``grid_stopper_ohms``: resistor in series with the grid (0:
     none) that limits grid current when the input node rises towards B+.
+    ``cathode_volts_min`` / ``cathode_volts_max``: the cathode's DC range,
+    worst case (grid at 0 V, worn; input node at B+, new);
+    ``elevations``: the heater references (winding DC volts) among those the
+    family was designed for that keep that range within the type's
+    heater-cathode rating.
     """
 
     tube: str
@@ -132,6 +139,33 @@ class Follower:
     cathode_volts_max: float
     high_volts: float
     low_volts: float
+    cathode_volts_min: float = 0.0
+    elevations: tuple[float, ...] = (0.0,)
+
+
+@dataclass(frozen=True)
+class FollowerTemplate:
+    """A cathode follower of a template's type driving ``fanout`` loads of the template's kind.
+
+    Its input is the template's driver node (levels ``design_high_volts`` /
+    ``drive_low_volts``); its loads take ``receivers`` (dividers designed
+    for the follower's window: a high at or above ``design_high_volts``, a
+    low at or below ``accept_low_volts``). ``high_volts`` / ``low_volts``:
+    its worst-case cathode levels with ``fanout`` loads (high: worn tube,
+    lowest supply, Rk low, bias most negative, heaviest loads; low: new
+    tube, highest supply, Rk high, bias least negative, lightest load).
+    ``elevation_volts``: the heater reference it was checked against.
+    """
+
+    follower: Follower
+    receivers: tuple[Receiver, ...]
+    fanout: int
+    design_high_volts: float
+    drive_low_volts: float
+    accept_low_volts: float
+    high_volts: float
+    low_volts: float
+    elevation_volts: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -139,13 +173,18 @@ class Family:
     """A logic family: levels every driver meets and every receiver accepts.
 
     Inverting drivers guarantee ``high_min_volts`` and ``low_max_volts`` at
-    their plate node with up to ``fanout_limit`` loads; followers guarantee
-    ``high_min_volts`` and ``follower_low_max_volts`` (a little higher, by
-    the grid-cathode voltage the follower needs); every receiver switches
-    correctly for any level at or above ``high_min_volts`` and any at or
-    below ``follower_low_max_volts``. So any driver may feed any receiver.
+    their plate node with up to ``fanout_limit`` loads; every receiver in
+    ``receivers`` switches correctly for any level at or above
+    ``high_min_volts`` and any at or below ``low_max_volts``. Followers
+    guarantee ``high_min_volts`` and ``follower_low_max_volts`` (higher, by
+    the grid-cathode voltage the follower needs); a load fed by a follower
+    takes its divider from ``follower_receivers`` (same keys), designed for
+    that window. So any driver may feed any receiver of its variant.
+    ``elevations``: the heater references (DC volts of the stock's
+    windings) the followers were checked against.
     ``rejected``: (tube, means) -> Shortfall for drivers, (tube, "follower")
-    for followers, (tube, "<role> receiver") for receivers that could not
+    for followers, (tube, "<role> receiver") for receivers and (tube, "<role>
+    receiver after a follower") for follower-fed receivers that could not
     be designed (e.g. ("12AU7", "grid receiver")).
     """
 
@@ -158,6 +197,12 @@ class Family:
     receivers: Mapping[tuple[str, str], Receiver]
     followers: Mapping[str, Follower]
     rejected: Mapping[tuple[str, str], Shortfall]
+    follower_receivers: Mapping[tuple[str, str], Receiver] = field(default_factory=FrozenMap)
+    elevations: tuple[float, ...] = (0.0,)
+
+    def receiver(self, tube: str, role: str, after_follower: bool = False) -> Receiver | None:
+        """The divider before ``role`` of ``tube``: the follower-fed variant when ``after_follower``."""
+        return (self.follower_receivers if after_follower else self.receivers).get((tube, role))
 
 
 @dataclass(frozen=True)
@@ -171,6 +216,9 @@ class Template:
     a low input puts it. ``fanout_limit``: most loads these values carry.
     ``design_high_volts`` / ``design_low_volts``: the plate levels the
     values are designed to (worst case, with up to ``fanout_limit`` loads).
+    ``follower``: a cathode follower of the type fed by this stage and
+    driving ``fanout`` loads, or the Shortfall saying which limit fails and
+    by how much (None for a type that cannot follow).
     """
 
     tube: str
@@ -190,6 +238,8 @@ class Template:
     fanout_limit: int
     design_high_volts: float
     design_low_volts: float
+    from_memory: bool = False
+    follower: FollowerTemplate | Shortfall | None = None
 
     @property
     def plate_load_ohms(self) -> float:
@@ -218,13 +268,34 @@ class Template:
             "levels": {"high_volts": self.high_volts, "low_volts": self.low_volts,
                        "design_high_volts": self.design_high_volts, "design_low_volts": self.design_low_volts},
             "grid": {"high_volts": self.grid_high_volts, "low_volts": self.grid_low_volts,
-                     "cutoff_volts": self.cutoff_volts},
+                     "cutoff_volts": self.cutoff_volts,
+                     "cutoff_plate_volts": self.rails.plate_volts * (1 + self.rules.supply_tolerance)},
+            "from_memory": self.from_memory,
             "margins": {"high_volts": self.margin_high_volts, "low_volts": self.margin_low_volts},
             "supply_ma_worst": d.supply_ma_worst,
             "supply_ma_typical": d.supply_ma_typical,
             "section_watts_worst": d.section_watts_worst,
             "screen_watts_worst": d.screen_watts_worst,
+            "follower": _follower_json(self.follower),
             "rules": {"series": self.rules.series, "resistor_tolerance": self.rules.resistor_tolerance,
                       "supply_tolerance": self.rules.supply_tolerance, "wear": self.rules.wear,
-                      "margin_volts": self.rules.margin_volts},
+                      "margin_volts": self.rules.margin_volts,
+                      "unsourced_allowance": self.rules.unsourced_allowance},
         }
+
+
+def _follower_json(f: FollowerTemplate | Shortfall | None) -> dict | None:
+    if f is None:
+        return None
+    if isinstance(f, Shortfall):
+        return {"passes": False, "limit": f.limit, "excess": f.amount, "unit": f.unit, "reason": f.message}
+    x = f.follower
+    return {"passes": True, "fanout": f.fanout, "fanout_limit": x.fanout_limit,
+            "cathode_load_ohms": x.cathode_load_ohms, "cathode_load_watts": x.cathode_load_watts,
+            "grid_stopper_ohms": x.grid_stopper_ohms,
+            "levels": {"high_volts": f.high_volts, "low_volts": f.low_volts,
+                       "accept_low_volts": f.accept_low_volts},
+            "cathode_volts": {"min": x.cathode_volts_min, "max": x.cathode_volts_max},
+            "elevation_volts": f.elevation_volts,
+            "dividers": [{"grid_role": r.grid_role, "upper_ohms": r.upper_ohms, "lower_ohms": r.lower_ohms,
+                          "pullup_ohms": r.pullup_ohms} for r in f.receivers]}

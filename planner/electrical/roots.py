@@ -9,6 +9,10 @@ class NoBracket(ValueError):
     """The function does not change sign over the interval."""
 
 
+class NoConvergence(ArithmeticError):
+    """The iteration limit was reached before the bracket shrank to the tolerance."""
+
+
 def brent_root(f: Callable[[float], float], lo: float, hi: float, *, xtol: float = 1e-7,
                max_iter: int = 200) -> float:
     """A root of ``f`` in [lo, hi], where f(lo) and f(hi) differ in sign.
@@ -18,7 +22,8 @@ def brent_root(f: Callable[[float], float], lo: float, hi: float, *, xtol: float
     interpolation and secant steps, falling back to bisection, so it never
     leaves the bracket and converges at least as fast as bisection. Cost:
     typically 8-15 evaluations of ``f`` for smooth functions, at most about
-    log2((hi - lo) / xtol) + ``max_iter``.
+    log2((hi - lo) / xtol) + ``max_iter``.  Raises :class:`NoConvergence`
+    rather than return an unconverged value.
 
     >>> round(brent_root(lambda x: x * x - 2.0, 0.0, 2.0), 6)
     1.414214
@@ -65,4 +70,4 @@ def brent_root(f: Callable[[float], float], lo: float, hi: float, *, xtol: float
         a, fa = b, fb
         b += d if abs(d) > tol else (tol if m > 0 else -tol)
         fb = f(b)
-    return b
+    raise NoConvergence(f"no root within {xtol} on [{lo}, {hi}] after {max_iter} steps; last {b} gives {fb}")

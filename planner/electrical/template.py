@@ -13,13 +13,13 @@ from __future__ import annotations
 
 import itertools
 
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType
 
-from .circuit import load_state, solve_plate, thevenin
+from .circuit import follower_cathode_volts, load_state, solve_plate, thevenin
 from .context import TubeContext
 from .drivers import SIGNS, _Option, _off_grids, make_envelope, precheck
 from .family import Outcome, search_levels
-from .parts import NoTemplate, Receiver, Shortfall, Template
+from .parts import FollowerTemplate, NoTemplate, Receiver, Shortfall, Template
 from .receivers import corner_load
 from .rules import DesignRules, Rails
 
@@ -27,11 +27,14 @@ MEANS_ALL = ("single", "dual", "diode")
 
 
 def design_template(tube: TubeType, means: str, rails: Rails, fanout: int = 1,
-                    rules: DesignRules = DesignRules()) -> Template:
+                    rules: DesignRules = DesignRules(), elevation_volts: float | None = None) -> Template:
     """The stage template for ``tube`` as a ``means`` branch driving ``fanout`` loads of its own kind.
 
     Raises ``NoTemplate`` naming the failing limit and by how much. The
-    tube is taken worn to ``rules.wear``. Cost: one family search (about 65
+    tube is taken worn to ``rules.wear``. With ``elevation_volts`` given
+    (the heater's DC reference), a triode type also gets its follower at
+    ``fanout`` loads (:func:`_follower`: one more family search), or the
+    reason none passes. Cost: one family search (about 65
     evaluations of one driver and its receivers) plus a few dozen solves.
 
     >>> from planner.catalogue import builtin_catalogue
@@ -74,7 +77,41 @@ def design_template(tube: TubeType, means: str, rails: Rails, fanout: int = 1,
     figures = _figures(ctx, means, best, receivers, fanout)
     return Template(tube=tube.name, means=means, rails=rails, rules=rules, fanout=fanout, driver=driver,
                     receivers=receivers, fanout_limit=driver.fanout_limit, design_high_volts=best.levels.high,
-                    design_low_volts=best.levels.drive_low, **figures)
+                    design_low_volts=best.levels.drive_low, from_memory=tube.model_from_memory,
+                    follower=None if elevation_volts is None else _follower(ctx, means, fanout, elevation_volts),
+                    **figures)
+
+
+def _follower(ctx: TubeContext, means: str, fanout: int, elevation_volts: float) -> FollowerTemplate | Shortfall | None:
+    """The type's follower driving ``fanout`` loads of the template's kind, or why none passes.
+
+    The one-type family (every means of the type, with followers, the
+    heater at ``elevation_volts``: what a stock of this type alone gets),
+    then the follower's worst-case cathode levels solved at ``fanout``
+    loads of the family's heaviest follower-fed divider (high state) and
+    its lightest (low state). None when the type cannot follow.
+    """
+    if not ctx.follower_capable:
+        return None
+    done = search_levels([ctx], elevations=(elevation_volts,))
+    found = done.followers.get(ctx.name)
+    if found is None:
+        return done.rejected.get((ctx.name, "follower")) or Shortfall(
+            "follower", 0.0, "", f"no {ctx.name} follower: the type has no driver to feed it")
+    if found.fanout_limit < fanout:
+        return Shortfall("fan-out", float(fanout - found.fanout_limit), "loads",
+                         f"a {ctx.name} follower carries at most {found.fanout_limit} loads worst case, "
+                         f"{fanout - found.fanout_limit} short of {fanout}")
+    lv, box = done.levels, ctx.box
+    env = make_envelope([(ctx, r) for _k, r in sorted(done.follower_receivers.items())], lv.high, lv.accept_low)
+    rk = found.cathode_load_ohms
+    high = follower_cathode_volts(ctx.tube, ctx.wear, box.vb(-1), lv.high, box.r(rk, -1), box.vc(+1),
+                                  ((fanout, env.heavy),))
+    low = follower_cathode_volts(ctx.tube, 1.0, box.vb(+1), lv.drive_low, box.r(rk, +1), box.vc(-1),
+                                 env.light_loads(fanout))
+    recs = tuple(done.follower_receivers[(ctx.name, r)] for r in ctx.roles(means)
+                 if (ctx.name, r) in done.follower_receivers)
+    return FollowerTemplate(found, recs, fanout, lv.high, lv.drive_low, lv.accept_low, high, low, elevation_volts)
 
 
 def _option(ctx: TubeContext, means: str, outcome: Outcome):

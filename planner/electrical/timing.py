@@ -37,10 +37,9 @@ ngspice transient run of the same circuit.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
-from planner.catalogue.models import plate_current_amps
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType, plate_current_amps
 
 from .circuit import (Load, ScreenFeed, SectionState, follower_cathode_volts, load_state, section_amps,
                       solve_plate, thevenin)
@@ -52,6 +51,97 @@ WIRING_PF = 10.0
 #: Capacitance of a small silicon signal diode at 0 V, about 4 pF (from memory, 1N4148-class
 #: data sheets); taken for every steering, reset and AND-gate diode.
 DIODE_PF = 4.0
+
+#: How far the closed-form estimate may fall short of a transient simulation of the same circuit:
+#: tests/test_timing_ngspice.py holds it within 25 % of ngspice, so a worst-case bound is the
+#: slow corner's estimate times 1.25.
+ESTIMATE_TOLERANCE = 0.25
+
+#: Capacitances at the slow corner: tube capacitances, wiring and diodes 25 % over their nominal
+#: figures (our allowance for tube spread and for wiring beyond the allowance; stated, not sourced).
+SLOW_FARADS_SCALE = 1.25
+
+
+@dataclass(frozen=True)
+class TimingCorner:
+    """Conditions the delays are computed for, as scale factors on the nominal circuit.
+
+    ``ohms_scale``: every resistor; ``supply_scale``: both supplies;
+    ``farads_scale``: every capacitance (tube, wiring, diodes, speed-up and
+    commutating capacitors); ``unsourced_allowance``: the fraction by which a
+    type whose model is from memory (``TubeType.model_from_memory``) gives
+    less current than its stock condition; ``bound_factor``: what the
+    corner's delays are multiplied by (1 + ``ESTIMATE_TOLERANCE`` for a bound,
+    1 for an estimate).
+    """
+
+    name: str
+    ohms_scale: float = 1.0
+    supply_scale: float = 1.0
+    farads_scale: float = 1.0
+    unsourced_allowance: float = 0.0
+    bound_factor: float = 1.0
+
+    def wear(self, tube: TubeType, wear: float) -> float:
+        """The tube's current as a fraction of its model's at this corner (its stock condition given)."""
+        return wear * (1.0 - self.unsourced_allowance) if tube.model_from_memory else wear
+
+    def tube(self, tube: TubeType) -> TubeType:
+        """The type with its capacitances at this corner (its model unchanged)."""
+        if self.farads_scale == 1.0:
+            return tube
+        f = self.farads_scale
+        return replace(tube, **{k: None if getattr(tube, k) is None else getattr(tube, k) * f
+                                for k in ("c_in_pf", "c_out_pf", "c_gp_pf")})
+
+    def load(self, load: Load) -> Load:
+        """A load (divider, diode input) at this corner."""
+        r = self.ohms_scale
+        return Load(load.upper_ohms * r, load.lower_ohms * r, load.bias_volts * self.supply_scale, load.tube,
+                    load.diode_drop_volts, None if load.pullup_ohms is None else load.pullup_ohms * r,
+                    None if load.supply_volts is None else load.supply_volts * self.supply_scale)
+
+    def stage(self, stage: InverterTiming) -> InverterTiming:
+        """An inverting stage at this corner (its wear taken as its stock condition).
+
+        Loads keep their own tube (their grids clamp by its grid model, which
+        the corner leaves alone).
+        """
+        r, f = self.ohms_scale, self.farads_scale
+        feed = stage.feed and ScreenFeed(stage.feed.series_ohms * r,
+                                         None if stage.feed.shunt_ohms is None else stage.feed.shunt_ohms * r)
+        return replace(stage, tube=self.tube(stage.tube), wear=self.wear(stage.tube, stage.wear), supply_volts=stage.supply_volts * self.supply_scale,
+                       plate_load_ohms=stage.plate_load_ohms * r, divider=self.load(stage.divider),
+                       loads=tuple((n, self.load(ld)) for n, ld in stage.loads), plate_farads=stage.plate_farads * f,
+                       grid_farads=stage.grid_farads * f, feed=feed, speedup_farads=stage.speedup_farads * f)
+
+    def description(self, wiring_pf: float) -> str:
+        """The corner in words."""
+        if self.name == "nominal":
+            return (f"nominal resistors and supplies, each tube type at its stock condition, the catalogue's "
+                    f"capacitances and {wiring_pf:g} pF of wiring per node (common practice)")
+        return (f"the slow corner: every resistor {100 * (self.ohms_scale - 1):+.0f} %, supplies "
+                f"{100 * (self.supply_scale - 1):+.0f} %, each tube type at its stock condition (types with "
+                f"models from memory {100 * self.unsourced_allowance:.0f} % weaker), capacitances and "
+                f"{wiring_pf:g} pF of wiring per node {100 * (self.farads_scale - 1):+.0f} %; the estimate "
+                f"there times {self.bound_factor:g} (its tolerance against ngspice)")
+
+
+NOMINAL_CORNER = TimingCorner("nominal")
+
+
+def slow_corner(rules) -> TimingCorner:
+    """The slowest corner of ``rules`` (a ``DesignRules``): resistors high, supplies low, capacitances high.
+
+    High resistors slow every RC edge (plate loads charging nodes, dividers
+    charging grids); low supplies give less current and smaller overdrive;
+    worn tubes (the stock condition, less for types with models from memory)
+    pull down more slowly; heavier capacitance slows every node. The family's
+    worst-case DC design holds at every combination of these, so every stage
+    still switches there.
+    """
+    return TimingCorner("slow", 1.0 + rules.resistor_tolerance, 1.0 - rules.supply_tolerance, SLOW_FARADS_SCALE,
+                        rules.unsourced_allowance, 1.0 + ESTIMATE_TOLERANCE)
 
 
 @dataclass(frozen=True)
@@ -367,5 +457,6 @@ def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load
     return Edge(False, t_stop, t_stop, Wave(k0, k1, drive.shape, drive.seconds))
 
 
-__all__ = ["DIODE_PF", "WIRING_PF", "Edge", "InverterTiming", "Wave", "follower_edge", "grid_crossing_seconds",
-           "grid_times", "inverter_edge", "threshold_grid_volts"]
+__all__ = ["DIODE_PF", "ESTIMATE_TOLERANCE", "NOMINAL_CORNER", "SLOW_FARADS_SCALE", "WIRING_PF", "Edge",
+           "InverterTiming", "TimingCorner", "Wave", "follower_edge", "grid_crossing_seconds", "grid_times",
+           "inverter_edge", "slow_corner", "threshold_grid_volts"]

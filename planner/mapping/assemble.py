@@ -80,6 +80,31 @@ def _jobs(network, ways: dict[str, Way]) -> tuple[dict[str, list[Job]], list[Job
     return by_tube, diodes
 
 
+def _groups(kind: TubeKind, heaters: tuple[int, ...], hosted) -> list[tuple[list[int], dict, int, int]]:
+    """The kind's envelope groups: (heater way indices, sections per demand kind, bistables, envelopes).
+
+    One group of every way when the model did not split the type (``hosted`` empty).
+    """
+    if not hosted:
+        return [(list(range(len(kind.heaters))), None, None, sum(heaters))]
+    out = []
+    for hosts, split, bistables in hosted:
+        members = [k for k, way in enumerate(kind.heaters) if way.hosts == hosts]
+        out.append((members, dict(split), bistables, sum(heaters[k] for k in members)))
+    return out
+
+
+def _share(items, kind_of, quotas) -> list[list]:
+    """Items in order, each to the first group whose quota for its kind is not used up."""
+    left = [dict(q) for q in quotas]
+    out = [[] for _ in quotas]
+    for item in items:
+        g = next(g for g, q in enumerate(left) if q.get(kind_of(item), 0) > 0)
+        left[g][kind_of(item)] -= 1
+        out[g].append(item)
+    return out
+
+
 def place(network, problem: Problem, counts: Counts, register_order: tuple[str, ...] = ()) -> Placement:
     """Sockets for the counts of ``problem`` on ``network``.
 
@@ -88,49 +113,61 @@ def place(network, problem: Problem, counts: Counts, register_order: tuple[str, 
     packed per type by :func:`planner.mapping.layout.pack`;
     vacuum diodes fill the diode types in name order, up to each type's
     count in the solution.  Heater ways are dealt to a type's envelopes in
-    designator order, as many of each as the solution has.
+    designator order, as many of each as the solution has.  Where the model
+    split a type's envelopes into groups by what their heater ways may host
+    (an elevated winding: ``Counts.hosted``), jobs and registers go to the
+    groups in network order as the solution's shares say, each group is
+    packed on its own and takes only its own heater ways.
     """
     ways = choose_ways(problem, counts)
     chosen = choose_register_ways(problem, counts)
     registers = {name: chosen[name] for name in sorted(chosen, key=lambda n: (register_order + (n,)).index(n))}
     by_tube, diode_jobs = _jobs(network, ways)
-    boxes: list[tuple[TubeKind, list]] = []
-    kinds = {kind.tube: kind for kind in problem.kinds}
-    held = {kind.tube: 0 for kind in problem.kinds}
-    for order, name in enumerate(registers, len(network.stages)):
-        way = registers[name]
-        held[way.tube] += 1
-        job = register_job_id(name)
-        boxes.append((kinds[way.tube], [(0, Job(order, job, None, "bistable")),
-                                        (1, Job(order, job, None, "bistable", 1))]))
+    boxes: list[tuple[TubeKind, int, list]] = []
+    pools: dict[tuple[str, int], list[int]] = {}
     for t, kind in enumerate(problem.kinds):
-        if by_tube.get(kind.tube):
-            boxes.extend((kind, box) for box in pack(kind, by_tube[kind.tube], counts.envelopes[t] - held[kind.tube]))
+        hosted = counts.hosted[t] if counts.hosted else ()
+        groups = _groups(kind, counts.heaters[t], hosted)
+        regs = [(order, name) for order, name in enumerate(registers, len(network.stages))
+                if registers[name].tube == kind.tube]
+        jobs = by_tube.get(kind.tube, [])
+        if hosted:
+            reg_share = _share(regs, lambda _r: "bistable", [{"bistable": b} for _m, _s, b, _n in groups])
+            job_share = _share(jobs, lambda j: j.kind, [split for _m, split, _b, _n in groups])
+        else:
+            reg_share, job_share = [regs], [jobs]
+        for g, (members, _split, _b, envelopes) in enumerate(groups):
+            pools[(kind.tube, g)] = [k for k in members for _ in range(counts.heaters[t][k])]
+            for order, name in reg_share[g]:
+                job = register_job_id(name)
+                boxes.append((kind, g, [(0, Job(order, job, None, "bistable")),
+                                        (1, Job(order, job, None, "bistable", 1))]))
+            if job_share[g]:
+                boxes.extend((kind, g, box) for box in pack(kind, job_share[g], envelopes - len(reg_share[g])))
     if problem.vacuum_diodes and diode_jobs:
         left = list(diode_jobs)
         for t, kind in enumerate(problem.kinds):
             if kind.diode_sections and left:
                 take = left[:kind.diode_sections * counts.envelopes[t]]
                 left = left[len(take):]
-                boxes.extend((kind, box) for box in pack_diodes(kind, take))
+                pools.setdefault((kind.tube, 0), [k for k, n in enumerate(counts.heaters[t]) for _ in range(n)])
+                boxes.extend((kind, 0, box) for box in pack_diodes(kind, take))
         if left:
             raise ValueError("internal error: the solution has too few diode sections")
 
     def first(item):
-        kind, box = item
+        kind, _g, box = item
         job = min((j for _s, j in box), key=lambda j: (j.order, -1 if j.branch is None else j.branch, j.part))
         return (job.order, -1 if job.branch is None else job.branch, job.part, kind.tube)
 
     boxes.sort(key=first)
-    heaters = {kind.tube: [k for k, n in enumerate(row) for _ in range(n)]
-               for kind, row in zip(problem.kinds, counts.heaters)}
-    dealt = {tube: 0 for tube in heaters}
+    dealt = {key: 0 for key in pools}
     sockets, at = [], {}
-    for i, (kind, box) in enumerate(boxes, 1):
+    for i, (kind, g, box) in enumerate(boxes, 1):
         ref = f"V{i}"
-        pool = heaters[kind.tube]
-        heater = pool[min(dealt[kind.tube], len(pool) - 1)]
-        dealt[kind.tube] += 1
+        pool = pools[(kind.tube, g)]
+        heater = pool[min(dealt[(kind.tube, g)], len(pool) - 1)]
+        dealt[(kind.tube, g)] += 1
         sockets.append(Socket(ref, kind.tube, heater, tuple(sorted(box, key=lambda sj: sj[0]))))
         for position, job in box:
             at[(job.stage, job.branch, job.part)] = (ref, position)

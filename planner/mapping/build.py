@@ -9,7 +9,7 @@ from .model import Counts, Problem
 from .parts import NetlistBuilder, gate_node, grid_node
 from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Clock, Envelope, Part, PlacedBranch, PlacedRegister,
                    PlacedStage, Plan, SectionUse, Solution, StockUse, WindingLoad)
-from .problem import branch_realisation
+from .problem import branch_realisation, branch_receivers
 from .registers import COMPLEMENT, RegisterSetting, register_loads, register_parts, reset_pullup
 
 
@@ -33,6 +33,7 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
     sockets = {s.ref: s for s in placement.sockets}
     net = NetlistBuilder(family, stock, rules.resistor_tolerance)
     loads = network.load_counts()
+    followed = frozenset(s.output for s in network.stages if s.kind == "follower")
     uses: dict[str, list[SectionUse]] = {ref: [] for ref in sockets}
     placed = []
     for stage in network.stages:
@@ -68,8 +69,9 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             if "screen" in section.pins:
                 nets["screen"] = net.screen(stage, driver, grid_node(stage.output, b, "g2"))
             diodes = []
+            recs = branch_receivers(family, way.tube, way.template, branch.inputs, followed)
             if real.means == "diode":
-                rec = family.receivers[(way.tube, "diode")]
+                rec = recs[0]
                 gate = gate_node(stage.output, b)
                 vacuum = None
                 if problem.vacuum_diodes:
@@ -82,11 +84,11 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
                                                      (("cathode", source), ("plate", gate))))
                 diodes = list(net.diode_gate(stage, branch.inputs, gate, g1, rec, vacuum))
             else:
-                for role, source in zip(real.roles, branch.inputs):
+                for role, source, rec in zip(real.roles, branch.inputs, recs):
                     node = g1 if role == "grid" else grid_node(stage.output, b, "g3")
                     if role == "grid3":
                         nets["grid3"] = node
-                    net.divider(stage, source, node, family.receivers[(way.tube, role)])
+                    net.divider(stage, source, node, rec)
             _use(net, uses, ref, tube, section, real.means, stage.id, nets)
             branches.append(PlacedBranch(branch.inputs, real.means, way.tube, ref, section.index, tuple(diodes)))
         placed.append(PlacedStage(stage.id, "inverting", stage.output, stage.view, tuple(branches), None,
@@ -117,7 +119,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
     used_count = {}
     for socket in placement.sockets:
         used_count[socket.tube] = used_count.get(socket.tube, 0) + 1
-    stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce)
+    stock_use = tuple(StockUse(e.tube, e.count, e.reserve, used_count.get(e.tube, 0), e.scarce,
+                               stock.catalogue.get(e.tube).model_from_memory)
                       for e in stock.tubes)
     names = [o.name for o in design.outputs]  # the design's outputs; next states belong to the registers
     clock = _clock(setting, registers) if registers else None
@@ -208,5 +211,5 @@ def _budget(stock, problem: Problem, placement: Placement, envelopes) -> Budget:
     plate = supplies.fixed_plate_ma + sum(w.plate_ma for w in ways)
     typical = supplies.fixed_plate_ma_typical + sum(w.plate_ma_typical for w in ways)
     bias = supplies.fixed_bias_ma + sum(w.bias_ma for w in ways)
-    windings = tuple(WindingLoad(w.id, w.volts, w.max_amps, amps[w.id]) for w in stock.windings)
+    windings = tuple(WindingLoad(w.id, w.volts, w.max_amps, amps[w.id], w.elevated_volts) for w in stock.windings)
     return Budget(watts, windings, plate, typical, bias, stock.plate.max_ma, stock.bias.max_ma)

@@ -31,6 +31,15 @@ type whose sections share one cathode cannot put a cathode follower (cathode at
 its output) beside grounded-cathode sections: each follower then takes a whole
 envelope, and the other kinds pack into the ``n - followers`` envelopes left.
 
+Heater-cathode voltage.  A winding may be elevated (a DC reference); a heater
+way then hosts grounded cathodes only if the elevation is within the type's
+heater-cathode rating, and followers only if the follower's whole cathode range
+is (``HeaterWay.hosts``).  Where a type's heater ways differ in that, its
+envelopes are split into groups of equal ``hosts``, each demand kind and the
+bistables are split over the groups that may host them (integer variables), and
+each group gets its own Hall conditions: the follower's envelope can only be on
+a winding that suits it, as a constraint of the program, not a check afterwards.
+
 Objective (``spec.Objective``): ``envelopes * sum n + heater_watts * sum watts(h)
 + scarce * sum_{scarce t} n[t]``, or lexicographically (scarce envelopes, then
 envelopes, then heater watts) by successive solves, each earlier optimum fixed
@@ -53,14 +62,25 @@ KINDS = ("dual", "single", "follower")
 TIE_BREAK = 1e-6
 
 
+HOSTS = frozenset({"grounded", "follower"})
+"""What an envelope's cathodes may be: at 0 V (inverting sections, bistables) or a follower's output."""
+
+
 @dataclass(frozen=True)
 class HeaterWay:
-    """One way to heat an envelope: on ``winding`` wired ``connection`` at ``amps``."""
+    """One way to heat an envelope: on ``winding`` wired ``connection`` at ``amps``.
+
+    ``hosts``: which sections an envelope heated this way may hold within
+    the type's heater-cathode rating, given the winding's elevation
+    (``elevated_volts``): "grounded" (cathode at 0 V) and/or "follower".
+    """
 
     winding: str
     connection: str
     volts: float
     amps: float
+    elevated_volts: float = 0.0
+    hosts: frozenset = HOSTS
 
     @property
     def watts(self) -> float:
@@ -194,6 +214,9 @@ class Counts:
     ``heaters[t]``: count per heater way of kind ``t``; ``purchase[t]``: extra
     envelopes (shortage diagnosis only); ``overloads``: (what, amount) with
     amount in A for windings ("H1") and mA for "plate" and "bias".
+    ``hosted[t]``: for a type whose heater ways differ in what they may
+    host, per group of ways (``hosts``): sections per demand kind and
+    bistables on envelopes of that group (empty otherwise).
     """
 
     ways: tuple[tuple[int, ...], ...]
@@ -206,6 +229,7 @@ class Counts:
     seconds: float
     terms: tuple[tuple[str, float], ...]
     register_ways: tuple[tuple[int, ...], ...] = ()
+    hosted: tuple[tuple[tuple[frozenset, tuple[tuple[str, int], ...], int], ...], ...] = ()
 
 
 class Infeasible(Exception):
@@ -265,11 +289,12 @@ class _Model:
             for w, way in enumerate(reg.ways):
                 plate.append(way.plate_ma * self.y[r][w])
                 bias.append(way.bias_ma * self.y[r][w])
+        self.hosted = []
         for t, kind in enumerate(kinds):
             if slack:
                 self.lp += self.n[t] <= max(kind.usable, 0) + self.buy[t], f"stock_{t}"
             self.lp += pulp.lpSum(self.h[t]) == self.n[t], f"heated_{t}"
-            self._packing(t, kind, demand[t], pulp.lpSum(bistables[t]) if bistables[t] else None)
+            self.hosted.append(self._hosting(t, kind, demand[t], bistables[t]))
         if problem.vacuum_diodes and any(way.diodes for cls in classes for way in cls.ways):
             self.lp += pulp.lpSum(kind.diode_sections * self.n[t] for t, kind in enumerate(kinds)
                                   if kind.diode_sections) >= pulp.lpSum(diodes), "diodes"
@@ -309,18 +334,57 @@ class _Model:
         limits.update(plate=supplies.plate_max_ma, bias=supplies.bias_max_ma)
         return [(var, limits[what]) for what, var in self.over.items()]
 
-    def _packing(self, t: int, kind: TubeKind, demand: dict, bistables) -> None:
-        """Hall's conditions for the stage sections, in the envelopes the bistables leave."""
+    def _hosting(self, t: int, kind: TubeKind, demand: dict, bistables: list) -> list:
+        """Packing of type ``t``, split over groups of heater ways that may host different sections.
+
+        A winding's elevation may keep a follower's cathode within the
+        heater-cathode rating but not a grounded cathode, or the other way
+        round. Envelopes heated by ways of one group (equal ``hosts``) are
+        interchangeable, so each group gets its share of every demand kind
+        and of the bistables (integer split variables) and Hall's conditions
+        of its own. With one group that may host everything, nothing is split.
+        Returns [(hosts, {kind: split}, bistable split)] per group, or [].
+        """
+        groups: dict[frozenset, list[int]] = {}
+        for k, way in enumerate(kind.heaters):
+            groups.setdefault(way.hosts, []).append(k)
+        if list(groups) in ([], [HOSTS]):
+            self._packing(t, kind, demand, pulp.lpSum(bistables) if bistables else None, self.n[t], f"{t}")
+            return []
+        out = []
+        shares = {k: [] for k in KINDS}
+        held = []
+        for g, (hosts, members) in enumerate(sorted(groups.items(), key=lambda kv: sorted(kv[0]))):
+            n = pulp.lpSum(self.h[t][k] for k in members)
+            split = {}
+            for k in KINDS:
+                if demand[k] and ("follower" if k == "follower" else "grounded") in hosts:
+                    split[k] = _integer(self.lp, f"d_{t}_{g}_{k}", 0, None)
+                    shares[k].append(split[k])
+            b = _integer(self.lp, f"b_{t}_{g}", 0, None) if bistables and "grounded" in hosts else None
+            if b is not None:
+                held.append(b)
+            self._packing(t, kind, {k: [split[k]] if k in split else [] for k in KINDS}, b, n, f"{t}_{g}")
+            out.append((hosts, split, b))
+        for k in KINDS:
+            if demand[k]:
+                self.lp += pulp.lpSum(shares[k]) == pulp.lpSum(demand[k]), f"share_{t}_{k}"
+        if bistables:
+            self.lp += pulp.lpSum(held) == pulp.lpSum(bistables), f"share_{t}_bistables"
+        return out
+
+    def _packing(self, t: int, kind: TubeKind, demand: dict, bistables, pool, tag: str) -> None:
+        """Hall's conditions for the stage sections, in the envelopes of ``pool`` the bistables leave."""
         present = [k for k in KINDS if demand[k]]
         if bistables is not None:
-            self.lp += bistables <= self.n[t], f"bistables_{t}"
+            self.lp += bistables <= pool, f"bistables_{tag}"
         if not present:
             return
-        n = self.n[t] if bistables is None else self.n[t] - bistables
+        n = pool if bistables is None else pool - bistables
         followers = pulp.lpSum(demand["follower"])
         grounded = [k for k in present if k != "follower"]
         if kind.shared_cathode and "follower" in present:
-            self.lp += followers <= n, f"followers_{t}"
+            self.lp += followers <= n, f"followers_{tag}"
             groups = [(grounded, n - followers)] if grounded else []
         else:
             groups = [(present, n)]
@@ -328,7 +392,7 @@ class _Model:
             for subset in _subsets(members):
                 serving = sum(1 for caps in kind.sections if caps & set(subset))
                 self.lp += (pulp.lpSum(term for k in subset for term in demand[k])
-                            <= serving * envelopes), f"pack_{t}_{'_'.join(subset)}"
+                            <= serving * envelopes), f"pack_{tag}_{'_'.join(subset)}"
 
     def weighted(self):
         w = self.problem.weights
@@ -371,7 +435,10 @@ class _Model:
                       tuple(tuple(val(v) for v in row) for row in self.h),
                       tuple(val(v) for v in self.buy),
                       tuple((what, float(var.value() or 0)) for what, var in sorted(self.over.items())),
-                      tuple(levels), status, seconds, terms, tuple(tuple(val(v) for v in row) for row in self.y))
+                      tuple(levels), status, seconds, terms, tuple(tuple(val(v) for v in row) for row in self.y),
+                      tuple(tuple((hosts, tuple((k, val(v)) for k, v in sorted(split.items())),
+                                   0 if b is None else val(b)) for hosts, split, b in groups)
+                            for groups in self.hosted))
 
 
 def _criteria(weights: Weights) -> tuple[str, ...]:

@@ -123,12 +123,13 @@ class Part:
 
 @dataclass(frozen=True)
 class WindingLoad:
-    """A heater winding and what the plan puts on it."""
+    """A heater winding and what the plan puts on it; ``elevated_volts``: its DC reference (0: grounded)."""
 
     id: str
     volts: float
     max_amps: float
     amps: float
+    elevated_volts: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -146,13 +147,18 @@ class Budget:
 
 @dataclass(frozen=True)
 class StockUse:
-    """One tube type of the stock: how many there are, kept back and used."""
+    """One tube type of the stock: how many there are, kept back and used.
+
+    ``from_memory``: the type's model rests on figures from memory (no
+    source read); its design carries the rules' wider allowance.
+    """
 
     tube: str
     on_hand: int
     reserve: int
     used: int
     scarce: bool
+    from_memory: bool = False
 
 
 @dataclass(frozen=True)
@@ -258,29 +264,40 @@ class Clock:
 
 @dataclass(frozen=True)
 class StageTiming:
-    """One stage's worst delays (its input's midpoint crossing to its output's) for each output edge."""
+    """One stage's worst delays (its input's midpoint crossing to its output's) for each output edge.
+
+    ``*_seconds``: the nominal estimate; ``*_seconds_worst``: the worst-case
+    bound (the slow corner, docs/registers.md).
+    """
 
     id: str
     output: str
     rise_seconds: float
     fall_seconds: float
+    rise_seconds_worst: float = 0.0
+    fall_seconds_worst: float = 0.0
 
 
 @dataclass(frozen=True)
 class Timing:
-    """The plan's timing estimate (docs/registers.md).
+    """The plan's timing: the nominal estimate and the worst-case bound (docs/registers.md).
 
-    ``path``: the nets of the critical path from ``start`` ("register q0",
-    "input a") to ``end`` ("register q1", "output y"); ``path_seconds`` its
-    delay to the end's midpoint crossing (from the clock's falling edge when
-    it starts at a register, else from the input's change), the end's setup
-    time included when it ends at a register. With registers:
-    ``clock_to_q_seconds``, ``setup_seconds`` (worst over the registers),
-    ``high_seconds_min`` / ``low_seconds_min`` the shortest clock phases,
-    ``min_period_seconds`` and ``max_clock_hz`` = 1 / (period x (1 +
-    ``margin``)). ``output_seconds``: the latest design output's midpoint
-    crossing. ``wiring_pf``: the wiring allowance per node; ``corner``: the
-    conditions the delays are estimated for.
+    ``path``: the nets of the critical path at nominal from ``start``
+    ("register q0", "input a") to ``end`` ("register q1", "output y");
+    ``path_seconds`` its delay to the end's midpoint crossing (from the
+    clock's falling edge when it starts at a register, else from the input's
+    change), the end's setup time included when it ends at a register. With
+    registers: ``clock_to_q_seconds``, ``setup_seconds`` (worst over the
+    registers), ``high_seconds_min`` / ``low_seconds_min`` the shortest clock
+    phases, ``min_period_seconds`` (all nominal). ``output_seconds``: the
+    latest design output's midpoint crossing. ``wiring_pf``: the wiring
+    allowance per node; ``corner``: the nominal conditions.
+    The bound: ``corner_worst`` (the slow corner), ``path_worst`` from
+    ``start_worst`` to ``end_worst`` and ``path_seconds_worst``,
+    ``output_seconds_worst``, ``clock_to_q_seconds_worst``,
+    ``min_period_seconds_worst``: the slow corner's estimate times 1 +
+    ``margin`` (the estimate's tolerance against ngspice); ``max_clock_hz`` =
+    1 / ``min_period_seconds_worst``.
     """
 
     stages: tuple[StageTiming, ...]
@@ -298,6 +315,14 @@ class Timing:
     low_seconds_min: float | None = None
     min_period_seconds: float | None = None
     max_clock_hz: float | None = None
+    corner_worst: str = ""
+    path_worst: tuple[str, ...] = ()
+    start_worst: str = ""
+    end_worst: str = ""
+    path_seconds_worst: float = 0.0
+    output_seconds_worst: float = 0.0
+    clock_to_q_seconds_worst: float | None = None
+    min_period_seconds_worst: float | None = None
 
 
 @dataclass(frozen=True)

@@ -227,7 +227,12 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     if not tubes:
         raise Shortage("the stock has no tube type with an amplifying section (triode, pentode or multigrid)")
     options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
-    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules)
+    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules,
+                           elevations=tuple(w.elevated_volts for w in stock.windings))
+    for (tube, what), why in sorted(family.rejected.items()):
+        if what == "follower":
+            options.say(f"mapping: no {tube} follower: {why.limit} short by {why.amount:.1f} {why.unit}: "
+                        f"{why.message}")
     weights = _weights(stock, options)
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)
@@ -292,9 +297,13 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
         if best is None or key < best[0]:
             best = (key, cand, counts)
     if best is None:
-        reasons = "; ".join(dict.fromkeys(c.reason for c in candidates if c.reason))
-        return Shortage(f"no stocked tube type can build the design: {reasons}",
-                        unbuildable=tuple(dict.fromkeys(c.reason for c in candidates if c.reason)))
+        reasons = tuple(dict.fromkeys(c.reason for c in candidates if c.reason))
+        ratings = _rating_reasons(family, stock)
+        if not family.drivers:  # no stocked type has any template: the ratings are the whole story
+            reasons = (ratings,) if ratings else reasons
+        elif ratings:
+            reasons += (f"(unusable here: {ratings})",)
+        return Shortage(f"no stocked tube type can build the design: {'; '.join(reasons)}", unbuildable=reasons)
     _, cand, counts = best
     problem = cand.problem
     purchase = {k.tube: n for k, n in zip(problem.kinds, counts.purchase) if n}
@@ -325,9 +334,13 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
                 n = dict(zip((k.tube for k in problem.kinds), trial.purchase))[other.tube]
                 alts.append(f"{n} x {other.tube}")
         plural = "s" if short != 1 else ""
-        needs.append(f"{short} more {word} section{plural}: " + " or ".join(alts))
+        why = _why_not_free(cand, counts, kind, purchase, sections_used, family)
+        needs.append(f"{short} more {word} section{plural}: " + " or ".join(alts) + (f" ({why})" if why else ""))
     # Every purchase listed is needed together; the alternatives after "or" replace one item.
     words = ["needs " + "; and ".join(needs)] if needs else []
+    held = _reserve_note(stock, problem, purchase)
+    if held:
+        words.append(held)
     for what, amount in sorted(overloads.items()):
         if what == "plate":
             words.append(f"plate supply over by {amount:.1f} mA")
@@ -337,6 +350,80 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
             words.append(f"winding {what} over by {amount:.2f} A")
     message = "; ".join(words) or "the stock cannot carry the design"
     return Shortage(message, purchase, overloads)
+
+
+def _rating_reasons(family, stock) -> str:
+    """Why the stocked types without any stage template have none, by the limit they miss (ratings first).
+
+    The plate rating is the usual one: "the plate supply (1050 V worst case)
+    exceeds the plate rating of 12AU7 (300 V) by 750 V, ...", with the supply
+    that would fit the best-rated of them.
+    """
+    with_template = {tube for tube, _ in family.drivers}
+    missing = {}
+    for (tube, what), shortfall in sorted(family.rejected.items()):
+        if tube not in with_template and what in ("single", "dual", "diode"):
+            missing.setdefault(tube, shortfall)
+    over = {tube: f for tube, f in missing.items() if getattr(f, "limit", "") == "max plate voltage"}
+    parts = []
+    if over:
+        ratings = {tube: stock.catalogue.get(tube).max_plate_volts for tube in over}
+        worst = family.rails.plate_volts * (1 + family.rules.supply_tolerance)
+        listed = ", ".join(f"{tube} ({ratings[tube]:g} V) by {over[tube].amount:.0f} V"
+                           for tube in sorted(over, key=lambda t: (-ratings[t], t)))
+        fits = max(ratings.values()) / (1 + family.rules.supply_tolerance)
+        parts.append(f"the plate supply ({worst:.0f} V worst case) exceeds the plate rating of {listed}; a plate "
+                     f"supply of at most {fits:.0f} V would suit the {max(ratings, key=lambda t: (ratings[t], t))}")
+    parts += [f"{tube}: {getattr(f, 'message', f)}" for tube, f in sorted(missing.items()) if tube not in over]
+    return "; ".join(parts)
+
+
+def _why_not_free(cand, counts, kind, purchase, sections_used, family) -> str:
+    """Why the stock's free sections of other types cannot take the stages that need ``kind`` bought.
+
+    The stages the diagnosis put on ``kind`` with no way on a type that has
+    sections to spare: each either drives more loads than that type's
+    templates allow, or needs a template (two control grids, a diode gate) the
+    type has none of.
+    """
+    problem = cand.problem
+    spare = [k.tube for k in problem.kinds if k.tube not in purchase and not k.diode_sections
+             and sections_used[k.tube] < max(k.usable, 0) * len(k.sections)]
+    if not spare:
+        return ""
+    loads = cand.network.load_counts()
+    outputs = {stage.id: stage.output for stage in cand.network.stages}
+    stuck, templates = [], set()
+    for cls, row in zip(problem.classes, counts.ways):
+        on_kind = sum(n for way, n in zip(cls.ways, row) if way.tube == kind.tube)
+        if on_kind and not any(way.tube in spare for way in cls.ways):
+            stuck += [loads[outputs[sid]] for sid in cls.stages if sid in outputs]
+            templates |= {way.template for way in cls.ways if way.tube == kind.tube}
+    if not stuck:
+        return ""
+    reasons = []
+    for tube in spare:
+        limits = [family.drivers[(tube, t)].fanout_limit for t in sorted(templates) if (tube, t) in family.drivers]
+        if limits:
+            reasons.append(f"a {tube} stage drives at most {max(limits)} loads")
+        else:
+            reasons.append(f"{tube} has no {'/'.join(sorted(templates))} stage template")
+    fewest, most = min(stuck), max(stuck)
+    span = f"{fewest}" if fewest == most else f"{fewest} to {most}"
+    return (f"the free {', '.join(spare)} sections will not do: {len(stuck)} of these stages drive {span} loads "
+            f"and {'; '.join(reasons)}")
+
+
+def _reserve_note(stock, problem, purchase) -> str:
+    """The tubes held in reserve that would cover part of the purchase if released, in words."""
+    kinds = {k.tube for k in problem.kinds}
+    held = [(t.tube, t.reserve, t.count) for t in stock.tubes if t.reserve and t.tube in kinds]
+    if not held or not purchase:
+        return ""
+    listed = ", ".join(f"{tube} {reserve} of {count}" for tube, reserve, count in held)
+    total = sum(reserve for _, reserve, _ in held)
+    return (f"{total} {'tube is' if total == 1 else 'tubes are'} held in reserve ({listed}) and not used; "
+            "lowering a reserve in the stock file makes them available")
 
 
 def _limit(stock, what: str) -> float:

@@ -22,14 +22,18 @@ and template):
   follower (the family's rule).
 
 A way is allowed when its template's ``fanout_limit`` covers the loads on the
-stage's output net.  Stages with the same set of allowed ways are one class.
+stage's output net and the family has a divider for every input: an input fed
+by a follower takes the follower-fed variant (:func:`branch_receivers`).
+Stages with the same set of allowed ways are one class.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .model import HeaterWay, Problem, StageClass, Supplies, TubeKind, Way, Weights
+from planner.electrical import heater_cathode_excess
+
+from .model import HOSTS, HeaterWay, Problem, StageClass, Supplies, TubeKind, Way, Weights
 
 #: Most inputs of one diode AND: each input adds a diode's capacitance and
 #: leakage to the grid node, and four is a usual width for diode gates
@@ -61,6 +65,35 @@ def branch_realisation(template: str, n_inputs: int) -> Realisation:
     raise ValueError(f"no branch in a {template} template")
 
 
+def branch_receivers(family, tube: str, template: str, inputs: tuple[str, ...], follower_nets) -> tuple | None:
+    """The receiver (divider) in front of each input of a branch, or None when one is missing.
+
+    An input whose net is a follower's output (``follower_nets``) takes the
+    family's follower-fed variant, designed for the follower's levels; any
+    other input the drivers' one. A diode AND has one divider after its
+    gate: the follower-fed one when every input comes from a follower, the
+    drivers' one when none does; a gate mixing the two has no divider proven
+    for both loads, so that way is not offered (None).
+
+    >>> class F:  # a family with one divider of each variant
+    ...     def receiver(self, tube, role, after_follower=False):
+    ...         return (role, after_follower)
+    >>> branch_receivers(F(), "12AU7", "dual", ("a", "f1"), {"f1"})
+    (('grid', False), ('grid3', True))
+    >>> branch_receivers(F(), "12AU7", "diode", ("a", "f1"), {"f1"}) is None
+    True
+    """
+    real = branch_realisation(template, len(inputs))
+    if real.means == "diode":
+        fed = {net in follower_nets for net in inputs}
+        if len(fed) > 1:
+            return None
+        rec = family.receiver(tube, "diode", fed.pop())
+        return None if rec is None else (rec,) * len(inputs)
+    out = tuple(family.receiver(tube, role, net in follower_nets) for role, net in zip(real.roles, inputs))
+    return None if any(r is None for r in out) else out
+
+
 def pullup_ma_worst(family, rec) -> float:
     """Most current a diode gate's pull-up can take from B+: the whole high supply across its lowest value.
 
@@ -72,20 +105,45 @@ def pullup_ma_worst(family, rec) -> float:
     return vb / (rec.pullup_ohms * (1 - rules.resistor_tolerance)) * 1e3
 
 
-def heater_ways(tube, windings) -> tuple[HeaterWay, ...]:
+def winding_hosts(tube, elevated_volts: float, follower=None) -> frozenset:
+    """What an envelope of ``tube`` on a winding elevated to ``elevated_volts`` may hold.
+
+    "grounded": sections with their cathode at 0 V (the heater-cathode
+    voltage is the elevation); "follower": the family's follower of the type
+    (``follower`` given), whose cathode spans its worst-case range. Checked
+    with :func:`planner.electrical.heater_cathode_excess`.
+    """
+    hosts = set()
+    if heater_cathode_excess(tube, elevated_volts, 0.0, 0.0) <= 0:
+        hosts.add("grounded")
+    if follower is not None and heater_cathode_excess(tube, elevated_volts, follower.cathode_volts_min,
+                                                      follower.cathode_volts_max) <= 0:
+        hosts.add("follower")
+    return frozenset(hosts)
+
+
+def heater_ways(tube, windings, follower=None) -> tuple[HeaterWay, ...]:
     """Every winding a type's heater may sit on: volts equal to the heater's, parallel or series.
 
     A heater with a centre tap (``heater_series``) has two connections:
-    "parallel" (the catalogue's ``heater_volts``) and "series".
+    "parallel" (the catalogue's ``heater_volts``) and "series". Each way
+    says what its envelopes may host (:func:`winding_hosts`); a winding
+    elevated so far that no section of the type may sit on it is left out.
     """
     ways = []
     connections = [("parallel" if tube.heater_series else "single", tube.heater_volts, tube.heater_amps)]
     if tube.heater_series:
         connections.append(("series",) + tuple(tube.heater_series))
     for winding in windings:
+        elevated = winding.elevated_volts
+        hosts = winding_hosts(tube, elevated, follower)
+        if (follower is None and "grounded" in hosts) or not tube.amplifying_sections:
+            hosts = HOSTS  # nothing follows on this type (or it holds diodes only): every way is alike
+        if not hosts:
+            continue
         for connection, volts, amps in connections:
             if abs(volts - winding.volts) <= 1e-9:
-                ways.append(HeaterWay(winding.id, connection, volts, amps))
+                ways.append(HeaterWay(winding.id, connection, volts, amps, elevated, hosts))
     return tuple(ways)
 
 
@@ -105,7 +163,7 @@ def tube_kinds(stock, family) -> tuple[TubeKind, ...]:
                 and not tube.shared_cathode):
             diodes = len(tube.diode_sections)
         kinds.append(TubeKind(tube.name, entry.count - entry.reserve, entry.scarce, tuple(sections), diodes,
-                              tube.shared_cathode, heater_ways(tube, stock.windings)))
+                              tube.shared_cathode, heater_ways(tube, stock.windings, family.followers.get(tube.name))))
     return tuple(sorted(kinds, key=lambda k: k.tube))
 
 
@@ -136,12 +194,12 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
             if template == "diode" and (diode_fanin < 2 or any(w > diode_fanin for w in widths)):
                 continue
             bias, plate, typical, diodes, missing = 0.0, 0.0, 0.0, 0, False
-            for width in widths:
-                for role in branch_realisation(template, width).roles:
-                    rec = family.receivers.get((tube, role))
-                    if rec is None:
-                        missing = True
-                        break
+            for branch, width in zip(stage.branches, widths):
+                recs = branch_receivers(family, tube, template, branch.inputs, follower_nets)
+                if recs is None:
+                    missing = True
+                    break
+                for rec in recs[:1] if template == "diode" else recs:
                     bias += rec.bias_ma_worst
                     if rec.pullup_ohms is not None:
                         plate += pullup_ma_worst(family, rec)

@@ -15,9 +15,18 @@ falling edge, :func:`planner.electrical.flip_edges`); they end at the design
 outputs and at the registers' level inputs, where the next state must have
 settled ``setup_seconds`` before the next falling edge.
 
-The corner (:data:`CORNER`): nominal resistors and supplies, each tube type at
-its stock condition (its current is what a worn tube slows), the catalogue's
-capacitances and :data:`planner.electrical.WIRING_PF` of wiring on every node.
+Two corners. Nominal (:data:`planner.electrical.NOMINAL_CORNER`): nominal
+resistors and supplies, each tube type at its stock condition (its current
+is what a worn tube slows), the catalogue's capacitances and
+:data:`planner.electrical.WIRING_PF` of wiring on every node: an estimate.
+Slow (:func:`planner.electrical.slow_corner`): every resistor at the high
+end of its tolerance, both supplies at the low end, capacitances 25 % up,
+types whose model is from memory weaker by the rules' allowance; the
+estimate there times 1 + :data:`planner.electrical.ESTIMATE_TOLERANCE` (the
+estimate's tested agreement with ngspice) is the worst-case bound. The
+registers' recovery and setup times (RC time constants of the bistable)
+scale with resistance times capacitance at the slow corner. Both figures
+are reported; the highest safe clock comes from the bound.
 Node capacitance: the sections' output capacitance on the node; a follower's
 grid (input and grid-plate capacitance) and a diode input's diode on it; a
 load's grid behind a plain divider adds nothing at the node (its capacitance
@@ -29,30 +38,27 @@ The clock: its period must cover the slowest register-to-register path
 shortest high phase (the steering nodes recover from the rising edge) and the
 shortest low phase (the steering pulse must last ``HOLD_FACTOR`` flips before
 the rising edge ends it), for a clock of even duty. The highest safe clock
-leaves :data:`MARGIN` on top of that period.
+is one over that period at the worst-case bound.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
-from planner.electrical import (DIODE_PF, HOLD_FACTOR, WIRING_PF, InverterTiming, Wave, flip_edges, follower_edge,
-                                inverter_edge)
-from planner.electrical.circuit import Load, ScreenFeed
-from planner.electrical.rules import DIODE_DROP_VOLTS
+from planner.electrical import (DIODE_DROP_VOLTS, DIODE_PF, ESTIMATE_TOLERANCE, HOLD_FACTOR, NOMINAL_CORNER, WIRING_PF,
+                                InverterTiming, Load, ScreenFeed, TimingCorner, Wave, flip_edges, follower_edge,
+                                inverter_edge, slow_corner)
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
-from .problem import branch_realisation
+from .problem import branch_realisation, branch_receivers
 from .registers import COMPLEMENT
 
-#: The period is taken this much longer than the estimate: the estimate agrees with ngspice within
-#: 25 % (tests/test_timing_ngspice.py), tube spread beyond the model's and wiring beyond the
-#: allowance come on top (common practice: derate a first build generously).
-MARGIN = 0.5
+#: The worst-case bound is the slow corner's estimate this much longer: the estimate agrees with
+#: ngspice within 25 % (tests/test_timing_ngspice.py).
+MARGIN = ESTIMATE_TOLERANCE
 
-CORNER = (f"nominal resistors and supplies, each tube type at its stock condition, the catalogue's "
-          f"capacitances and {WIRING_PF:g} pF of wiring per node (common practice)")
+CORNER = NOMINAL_CORNER.description(WIRING_PF)
 
 RISE, FALL = "rise", "fall"
 
@@ -70,13 +76,15 @@ class _Arrival:
 class _Nets:
     """Loads and capacitance of every net of the placed network."""
 
-    def __init__(self, plan: Plan, network, placement: Placement, family, stock, rules):
-        self.family, self.stock, self.rules = family, stock, rules
+    def __init__(self, plan: Plan, network, placement: Placement, family, stock, rules,
+                 corner: TimingCorner = NOMINAL_CORNER):
+        self.family, self.stock, self.rules, self.corner = family, stock, rules, corner
         self.vc = stock.bias.volts
         drop_lo, drop_hi = DIODE_DROP_VOLTS.get(family.rules.diodes, (0.0, 0.0))
         self.drop = 0.5 * (drop_lo + drop_hi)
         self.loads: dict[str, list[Load]] = {}
         self.farads: dict[str, float] = {}
+        self.followed = frozenset(s.output for s in network.stages if s.kind == "follower")
         heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
         self.heavy = Load(heavy.upper_ohms, heavy.lower_ohms, self.vc, self.tube(heavy.tube))
         for stage in network.stages:
@@ -88,9 +96,10 @@ class _Nets:
                 continue
             for branch in stage.branches:
                 self._add(stage.output, None, tube.c_out_pf or 0.0)
+                recs = branch_receivers(family, way.tube, way.template, branch.inputs, self.followed)
                 for position, net in enumerate(branch.inputs):
                     role = input_role(way.template, len(branch.inputs), position)
-                    rec = family.receivers[(way.tube, role)]
+                    rec = recs[position]
                     if role == "diode":
                         self._add(net, self.receiver_load(rec, tube), DIODE_PF)
                         continue
@@ -104,8 +113,12 @@ class _Nets:
         return self.stock.catalogue.get(name)
 
     def wear(self, name: str) -> float:
+        """The type's stock condition (nominal values: the corner applies on top)."""
         entry = next((t for t in self.stock.tubes if t.tube == name), None)
         return entry.condition if entry is not None and entry.condition is not None else self.rules.wear
+
+    def loads_at_corner(self, pairs: tuple[tuple[int, Load], ...]) -> tuple[tuple[int, Load], ...]:
+        return tuple((n, self.corner.load(ld)) for n, ld in pairs)
 
     def receiver_load(self, rec, tube) -> Load:
         """A receiver as a concrete load at nominal values (a diode input with its gate node)."""
@@ -139,12 +152,13 @@ def input_role(template: str, width: int, position: int) -> str:
 def _gate_wave(nets: _Nets, rec, width: int, drive: Wave, mid: float) -> Wave:
     """The diode-AND gate node's edge when one input makes ``drive``: it follows a falling input one
     drop above; a rising one only as fast as the pull-up charges the node (wiring and the diodes)."""
-    d = nets.drop
+    d, c = nets.drop, nets.corner
     if drive.to_volts < drive.from_volts:
         return Wave(drive.from_volts + d, drive.to_volts + d, drive.shape, drive.seconds)
-    vb, top = nets.stock.plate.volts, rec.upper_ohms + rec.lower_ohms
-    opened = (vb / rec.pullup_ohms + nets.vc / top) / (1 / rec.pullup_ohms + 1 / top)
-    tau = (WIRING_PF + width * DIODE_PF) * 1e-12 / (1 / rec.pullup_ohms + 1 / top)
+    vb, vc = nets.stock.plate.volts * c.supply_scale, nets.vc * c.supply_scale
+    pullup, top = rec.pullup_ohms * c.ohms_scale, (rec.upper_ohms + rec.lower_ohms) * c.ohms_scale
+    opened = (vb / pullup + vc / top) / (1 / pullup + 1 / top)
+    tau = (WIRING_PF + width * DIODE_PF) * c.farads_scale * 1e-12 / (1 / pullup + 1 / top)
     follows = Wave(drive.from_volts + d, drive.to_volts + d, drive.shape, drive.seconds)
     charged = Wave(drive.from_volts + d, min(drive.to_volts + d, opened), "exponential", tau)
     return follows if follows.crossing_seconds(mid) >= charged.crossing_seconds(mid) else charged
@@ -155,13 +169,14 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
     that input's midpoint crossing."""
     tube = nets.tube(way.tube)
     role = input_role(way.template, len(branch.inputs), position)
-    rec = nets.family.receivers[(way.tube, role)]
+    rec = branch_receivers(nets.family, way.tube, way.template, branch.inputs, nets.followed)[position]
     feed = None if driver.screen_series_ohms is None else ScreenFeed(driver.screen_series_ohms,
                                                                      driver.screen_shunt_ohms)
-    model = InverterTiming(tube, nets.wear(way.tube), nets.stock.plate.volts, driver.plate_load_ohms,
-                           Load(rec.upper_ohms, rec.lower_ohms, nets.vc, tube), nets.load_pairs(stage.output),
-                           nets.node_farads(stage.output), ((tube.c_in_pf or 0.0) + WIRING_PF) * 1e-12, feed,
-                           "grid3" if role == "grid3" else "grid", 0.0, (rec.speedup_pf or 0.0) * 1e-12)
+    model = nets.corner.stage(InverterTiming(
+        tube, nets.wear(way.tube), nets.stock.plate.volts, driver.plate_load_ohms,
+        Load(rec.upper_ohms, rec.lower_ohms, nets.vc, tube), nets.load_pairs(stage.output),
+        nets.node_farads(stage.output), ((tube.c_in_pf or 0.0) + WIRING_PF) * 1e-12, feed,
+        "grid3" if role == "grid3" else "grid", 0.0, (rec.speedup_pf or 0.0) * 1e-12))
     wave, shift = drive, 0.0
     if role == "diode":
         wave = _gate_wave(nets, rec, len(branch.inputs), drive, mid)
@@ -172,12 +187,30 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
 
 def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules, setting
                 ) -> tuple[Timing, dict[str, float]]:
-    """The timing of a built plan (module docstring), and each register's clock-to-output time.
+    """The timing of a built plan (module docstring), and each register's clock-to-output time (nominal).
 
-    Cost: two edges per stage input (each a threshold search and a grid scan,
-    about 2 ms) and two flips per register.
+    The nominal estimate and the worst-case bound (the slow corner). Cost:
+    per corner, two edges per stage input (each a threshold search and a
+    grid scan, about 2 ms) and two flips per register.
     """
-    nets = _Nets(plan, network, placement, family, stock, rules)
+    nominal, flips = _corner_timing(plan, network, placement, family, stock, rules, setting, NOMINAL_CORNER)
+    worst, _ = _corner_timing(plan, network, placement, family, stock, rules, setting, slow_corner(rules))
+    stages = tuple(replace(s, rise_seconds_worst=w.rise_seconds, fall_seconds_worst=w.fall_seconds)
+                   for s, w in zip(nominal.stages, worst.stages))
+    timing = replace(nominal, stages=stages, path_seconds_worst=worst.path_seconds,
+                     output_seconds_worst=worst.output_seconds, corner_worst=worst.corner,
+                     path_worst=worst.path, start_worst=worst.start, end_worst=worst.end)
+    if plan.registers:
+        timing = replace(timing, clock_to_q_seconds_worst=worst.clock_to_q_seconds,
+                         min_period_seconds_worst=worst.min_period_seconds,
+                         max_clock_hz=1.0 / worst.min_period_seconds)
+    return timing, flips
+
+
+def _corner_timing(plan: Plan, network, placement: Placement, family, stock, rules, setting, corner: TimingCorner
+                   ) -> tuple[Timing, dict[str, float]]:
+    """The timing at one corner, its delays times the corner's bound factor."""
+    nets = _Nets(plan, network, placement, family, stock, rules, corner)
     high, low, accept = family.high_min_volts, family.low_max_volts, family.follower_low_max_volts
     # A stage with no branches (a constant one) makes no edge: nets with no arrival never switch.
     mid = 0.5 * (high + low)
@@ -187,6 +220,7 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
         arrivals[(net, RISE)] = _Arrival(0.0, Wave(accept, high), None, origin)
         arrivals[(net, FALL)] = _Arrival(0.0, Wave(high, accept), None, origin)
     flips = _register_flips(plan, nets, setting, mid, arrivals)
+    k = corner.bound_factor  # every delay times it: the bound's tolerance on the estimate
     stage_rows = []
     for stage in network.stages:
         way = placement.ways[stage.id]
@@ -199,10 +233,13 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
                 src = arrivals.get((stage.input, e))
                 if src is None:  # a constant input never makes this edge
                     continue
-                edge = follower_edge(tube, nets.wear(way.tube), stock.plate.volts, follower.cathode_load_ohms, nets.vc,
-                                     nets.load_pairs(stage.output), nets.node_farads(stage.output),
-                                     follower.grid_stopper_ohms, src.wave, mid)
-                out[e] = _Arrival(src.seconds + edge.seconds, edge.output, (stage.input, e), src.origin)
+                c = corner
+                edge = follower_edge(c.tube(tube), c.wear(tube, nets.wear(way.tube)), stock.plate.volts * c.supply_scale,
+                                     follower.cathode_load_ohms * c.ohms_scale, nets.vc * c.supply_scale,
+                                     nets.loads_at_corner(nets.load_pairs(stage.output)),
+                                     nets.node_farads(stage.output) * c.farads_scale,
+                                     follower.grid_stopper_ohms * c.ohms_scale, src.wave, mid)
+                out[e] = _Arrival(src.seconds + k * edge.seconds, edge.output, (stage.input, e), src.origin)
                 worst[e] = edge.seconds
         else:
             driver = family.drivers[(way.tube, way.template)]
@@ -214,12 +251,12 @@ def plan_timing(plan: Plan, network, placement: Placement, family, stock, rules,
                             continue
                         delay, wave = _inverter_delay(nets, stage, way, driver, branch, position, src.wave, mid)
                         worst[e_out] = max(worst[e_out], delay)
-                        if e_out not in out or src.seconds + delay > out[e_out].seconds:
-                            out[e_out] = _Arrival(src.seconds + delay, wave, (net, e_in), src.origin)
+                        if e_out not in out or src.seconds + k * delay > out[e_out].seconds:
+                            out[e_out] = _Arrival(src.seconds + k * delay, wave, (net, e_in), src.origin)
         for e, arrival in out.items():
             arrivals[(stage.output, e)] = arrival
-        stage_rows.append(StageTiming(stage.id, stage.output, worst[RISE], worst[FALL]))
-    return _summary(plan, arrivals, tuple(stage_rows), flips, setting, mid), flips
+        stage_rows.append(StageTiming(stage.id, stage.output, k * worst[RISE], k * worst[FALL]))
+    return _summary(plan, arrivals, tuple(stage_rows), flips, setting, mid, corner), flips
 
 
 def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict) -> dict[str, float]:
@@ -233,16 +270,20 @@ def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict
         c_series = b.commutating_pf * grid / (b.commutating_pf + grid)
         base = ((tube.c_out_pf or 0.0) + c_series) * 1e-12
         latest = 0.0
+        c, f = nets.corner, nets.corner.farads_scale
         for rising, falling in ((reg.output, reg.complement), (reg.complement, reg.output)):
-            up, down = flip_edges(tube, nets.wear(reg.tube), nets.stock.plate.volts, b.plate_load_ohms, own,
-                                  b.commutating_pf * 1e-12, grid * 1e-12, nets.load_pairs(rising, (own,)),
-                                  nets.load_pairs(falling, (own,)),
-                                  base + nets.node_farads(rising) + (tube.c_gp_pf or 0.0) * 1e-12,
-                                  base + nets.node_farads(falling), mid)
+            up, down = flip_edges(c.tube(tube), c.wear(tube, nets.wear(reg.tube)),
+                                  nets.stock.plate.volts * c.supply_scale, b.plate_load_ohms * c.ohms_scale,
+                                  c.load(own), b.commutating_pf * 1e-12 * f, grid * 1e-12 * f,
+                                  nets.loads_at_corner(nets.load_pairs(rising, (own,))),
+                                  nets.loads_at_corner(nets.load_pairs(falling, (own,))),
+                                  (base + nets.node_farads(rising) + (tube.c_gp_pf or 0.0) * 1e-12) * f,
+                                  (base + nets.node_farads(falling)) * f, mid)
             origin = f"register {reg.name}"
-            arrivals[(rising, RISE)] = _Arrival(up.seconds, up.output, None, origin)
-            arrivals[(falling, FALL)] = _Arrival(down.seconds, down.output, None, origin)
-            latest = max(latest, up.seconds, down.seconds)
+            k = c.bound_factor
+            arrivals[(rising, RISE)] = _Arrival(k * up.seconds, up.output, None, origin)
+            arrivals[(falling, FALL)] = _Arrival(k * down.seconds, down.output, None, origin)
+            latest = max(latest, k * up.seconds, k * down.seconds)
         out[reg.name] = latest
     return out
 
@@ -260,7 +301,7 @@ def _path(arrivals: dict, key: tuple[str, str]) -> tuple[str, ...]:
     return tuple(reversed(nets))
 
 
-def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: float) -> Timing:
+def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: float, corner: TimingCorner) -> Timing:
     ends = []  # (seconds, (net, edge), end label)
     outputs = 0.0
     for name, net in plan.outputs:
@@ -269,12 +310,14 @@ def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: floa
                 seconds = arrivals[(net, e)].seconds
                 outputs = max(outputs, seconds)
                 ends.append((seconds, (net, e), f"output {name}"))
-    wiring, corner = WIRING_PF, CORNER
+    wiring, text = WIRING_PF, corner.description(WIRING_PF)
     if not plan.registers:
         seconds, key, label = max(ends, key=lambda x: (x[0], x[2]), default=(0.0, None, ""))
         path = _path(arrivals, key) if key else ()
         start = arrivals[key].origin if key else ""
-        return Timing(stages, path, seconds, start, label, outputs, wiring, MARGIN, corner)
+        return Timing(stages, path, seconds, start, label, outputs, wiring, MARGIN, text)
+    # The bistable's RC times scale with R x C at the corner, and take the bound's factor.
+    rc = corner.ohms_scale * corner.farads_scale * corner.bound_factor
     reg_ends = []
     for reg in plan.registers:
         b = setting.bistables[reg.tube]
@@ -283,15 +326,16 @@ def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: floa
                 a = arrivals.get((net, e))
                 if a is None:  # a constant next state
                     continue
-                reg_ends.append((a.seconds + _settle(a.wave, mid) + b.setup_seconds, (net, e), f"register {reg.name}"))
+                reg_ends.append((a.seconds + corner.bound_factor * _settle(a.wave, mid) + rc * b.setup_seconds,
+                                 (net, e), f"register {reg.name}"))
     seconds, key, label = max(reg_ends, key=lambda x: (x[0], x[2]), default=(0.0, None, ""))
-    high_min = max(setting.bistables[r.tube].recovery_seconds for r in plan.registers)
+    high_min = rc * max(setting.bistables[r.tube].recovery_seconds for r in plan.registers)
     low_min = HOLD_FACTOR * max(flips.values())
     period = max(seconds, 2 * max(high_min, low_min))
     start = arrivals[key].origin if key else ""
-    return Timing(stages, _path(arrivals, key) if key else (), seconds, start, label, outputs, wiring, MARGIN, corner,
-                  max(flips.values()), max(setting.bistables[r.tube].setup_seconds for r in plan.registers),
-                  high_min, low_min, period, 1.0 / (period * (1 + MARGIN)))
+    return Timing(stages, _path(arrivals, key) if key else (), seconds, start, label, outputs, wiring, MARGIN, text,
+                  max(flips.values()), rc * max(setting.bistables[r.tube].setup_seconds for r in plan.registers),
+                  high_min, low_min, period, 1.0 / period)
 
 
 __all__ = ["CORNER", "MARGIN", "input_role", "plan_timing"]

@@ -18,9 +18,17 @@ from planner.mapping import Plan
 
 from .budgets import HEADROOM, SURGE_FACTORS, plan_budgets
 from .cautions import CAUTIONS
-from .designators import natural_key, ranges
+from .designators import counted, natural_key, ranges
 
 GROUPS = ("tube", "socket", "resistor", "diode", "capacitor", "supply")
+
+
+FROM_MEMORY = "data from memory: wider design allowance"
+
+
+def tube_label(s) -> str:
+    """The type's name, with a mark when its data are from memory (no source read)."""
+    return f"{s.tube} ({FROM_MEMORY})" if s.from_memory else s.tube
 
 
 @dataclass(frozen=True)
@@ -79,6 +87,8 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
         entry = stock.get(tube)
         left = None if entry is None else entry.on_hand - len(refs)
         scarce = " (scarce)" if entry is not None and entry.scarce else ""
+        if entry is not None and entry.from_memory:
+            scarce += f" ({FROM_MEMORY})"
         rows.append(("tube", len(refs), f"{tube} tube{scarce}", refs, tube_prices.get(tube), left,
                      None if entry is None else entry.reserve))
     for base in sorted(by_base):
@@ -122,10 +132,15 @@ def bom_lines(plan: Plan, *, prices: Mapping[str, float] | None = None,
             rows.append(("supply", 0, f"heater winding {w.id} {w.volts:g} V: not used by this plan", [], None, None,
                          None))
             continue
+        elevated = ""
+        if w.elevated_volts:
+            elevated = (f"; elevated: the winding is referred to {w.elevated_volts:+g} V DC (a tap or divider off "
+                        f"the supplies, bypassed to ground), so its insulation to the other windings and the core "
+                        f"must be rated for that voltage on top of the mains (common practice)")
         rows.append(("supply", 1, f"heater winding {w.id} {w.volts:g} V, rated at least {w.rating_amps:.2f} A "
                                   f"({w.volts * w.rating_amps:.1f} VA): load {w.amps:.2f} A + {headroom}; "
                                   f"cold-start surge {w.surge_amps_low:.1f} to {w.surge_amps_high:.1f} A "
-                                  f"({low:g} to {high:g} times, common practice)",
+                                  f"({low:g} to {high:g} times, common practice){elevated}",
                      list(w.envelopes), None, None, None))
     return tuple(BomLine(i, group, quantity, text, tuple(refs), price, left, reserve)
                  for i, (group, quantity, text, refs, price, left, reserve) in enumerate(rows, start=1))
@@ -158,7 +173,7 @@ def bom_csv(lines) -> str:
                          _money(line.unit_price), _money(line.total)))
     total, unpriced = bom_total(lines)
     if total or not unpriced:
-        note = f"total of priced lines; {unpriced} lines without a price" if unpriced else "total"
+        note = f"total of priced lines; {counted(unpriced, 'line')} without a price" if unpriced else "total"
         writer.writerow(("", "total", "", note, "", "", "", "", _money(total)))
     for heading, text in CAUTIONS:
         writer.writerow(("", "caution", "", f"{heading}: {text}", "", "", "", "", ""))
@@ -197,6 +212,7 @@ def bom_markdown(lines, *, title: str) -> str:
         out.append("")
     total, unpriced = bom_total(lines)
     if total:
-        suffix = f" ({unpriced} lines have no price in the stock file)" if unpriced else ""
+        suffix = (f" ({counted(unpriced, 'line')} {'has' if unpriced == 1 else 'have'} no price in the stock file)"
+                  if unpriced else "")
         out += [f"**Total of priced lines: {total:.2f}**{suffix}", ""]
     return "\n".join(out)

@@ -22,6 +22,8 @@ from planner.mapping import Plan
 SURGE_FACTORS = (5.0, 7.0)
 #: Rating headroom over the planned load for transformers and supplies (common practice).
 HEADROOM = 0.25
+#: A supply loaded above this share of its rating is reported as a warning (common practice).
+LOAD_WARNING = 0.9
 
 
 @dataclass(frozen=True)
@@ -37,6 +39,12 @@ class WindingBudget:
     surge_amps_high: float
     rating_amps: float
     envelopes: tuple[str, ...]
+    elevated_volts: float = 0.0
+
+    @property
+    def volts_text(self) -> str:
+        """The winding's volts, with its DC reference when elevated ("6.3 V at +60 V DC")."""
+        return f"{self.volts:g} V" + (f" at {self.elevated_volts:+g} V DC" if self.elevated_volts else "")
 
 
 @dataclass(frozen=True)
@@ -77,6 +85,34 @@ class Budgets:
     resistors: tuple[ResistorLoad, ...]
 
 
+def supply_warnings(budgets: Budgets) -> tuple[str, ...]:
+    """Supplies loaded above LOAD_WARNING of their rating, or whose load plus HEADROOM exceeds it, in words.
+
+    The plan keeps every load within its supply's rating; these are the ones
+    with less margin than the BOM asks for, which run hot or sag in practice.
+
+    >>> w = WindingBudget("H1", 6.3, 7.8, 8.0, 49.1, 39.0, 54.6, 9.75, ("V1",))
+    >>> rail = RailBudget("B+", 170, 10, 8, 200, 1.7, 12.5)
+    >>> supply_warnings(Budgets((w,), 49.1, rail, rail, 52.5, 0.1, ()))[0][:58]
+    'heater winding H1 is loaded to 98 % of its 8 A rating (7.8'
+    """
+    rows = [(f"heater winding {w.id}", w.amps, w.max_amps, w.rating_amps, "A", "{:.2f}")
+            for w in budgets.windings if w.envelopes]
+    rows += [(f"{name} supply", rail.ma_worst, rail.max_ma, rail.rating_ma, "mA", "{:.1f}")
+             for name, rail in (("plate (B+)", budgets.plate), ("bias", budgets.bias))]
+    warnings = []
+    for name, load, limit, rating, unit, number in rows:
+        if limit <= 0 or rating <= limit:
+            continue
+        share = load / limit
+        loaded = f"is loaded to {share * 100:.0f} % of its {limit:g} {unit} rating ({number.format(load)} {unit})"
+        if share <= LOAD_WARNING:
+            loaded = f"carries {number.format(load)} {unit} of its {limit:g} {unit} rating"
+        warnings.append(f"{name} {loaded}; the BOM asks for {number.format(rating)} {unit} "
+                        f"({HEADROOM * 100:g} % headroom): use a larger one or spread the load")
+    return tuple(warnings)
+
+
 def plan_budgets(plan: Plan) -> Budgets:
     """The budgets of ``plan`` for reporting. Cost O(parts + envelopes).
 
@@ -89,7 +125,7 @@ def plan_budgets(plan: Plan) -> Budgets:
     windings = tuple(
         WindingBudget(w.id, w.volts, w.amps, w.max_amps, w.volts * w.amps, w.amps * low, w.amps * high,
                       w.amps * (1 + HEADROOM),
-                      tuple(e.ref for e in plan.envelopes if e.winding == w.id))
+                      tuple(e.ref for e in plan.envelopes if e.winding == w.id), w.elevated_volts)
         for w in b.windings)
     plate = RailBudget("B+", plan.plate_volts, b.plate_ma_worst, b.plate_ma_typical, b.plate_max_ma,
                        plan.plate_volts * b.plate_ma_worst / 1000.0, b.plate_ma_worst * (1 + HEADROOM))

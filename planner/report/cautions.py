@@ -17,7 +17,9 @@ CAUTIONS: tuple[tuple[str, str], ...] = (
      "through a suitable resistor and measure that they are at zero before you touch any wiring."),
     ("Heater currents",
      "Heater windings carry several amperes, and more at switch-on while the filaments are cold. "
-     "Size wire, fuses and switches for the cold-start surge given with the heater budget, and fuse every winding."),
+     "Size wire, fuses and switches for the cold-start surge given with the heater budget, and fuse every winding. "
+     "A winding elevated to a DC voltage (to keep cathode followers within their heater-cathode rating) "
+     "sits at that voltage: the heater transformer's insulation and all heater wiring must be rated for it."),
     ("Hot glass",
      "Tube envelopes and power resistors run hot enough to burn skin and to char nearby "
      "insulation. Leave air around them and let them cool before handling."),

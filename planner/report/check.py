@@ -54,7 +54,9 @@ def stock_summary(stock: Stock) -> str:
              "usable sections by kind: " + ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())),
              f"plate supply {stock.plate.volts:g} V, {stock.plate.max_ma:g} mA max; "
              f"bias supply {stock.bias.volts:g} V, {stock.bias.max_ma:g} mA max",
-             "heater windings: " + ", ".join(f"{w.id} {w.volts:g} V {w.max_amps:g} A" for w in stock.windings)
+             "heater windings: " + ", ".join(f"{w.id} {w.volts:g} V {w.max_amps:g} A"
+                                             + (f" at {w.elevated_volts:+g} V DC" if w.elevated_volts else "")
+                                             for w in stock.windings)
              + f" ({sum(w.max_amps for w in stock.windings):g} A in all)",
              f"diodes: {stock.diodes}"]
     return "\n".join(lines)

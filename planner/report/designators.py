@@ -1,10 +1,19 @@
-"""Ordering and formatting of reference designators (IEEE 315 class letters: V, R, D, C)."""
+"""Ordering and formatting of reference designators (IEEE 315 class letters: V, R, D, C), and counts."""
 
 from __future__ import annotations
 
 import re
 
 _PARTS = re.compile(r"(\d+)")
+
+
+def counted(number: int, singular: str, plural: str | None = None) -> str:
+    """``number`` and the noun in the form that agrees with it.
+
+    >>> counted(1, "logic stage"), counted(3, "logic stage"), counted(1, "line", "lines")
+    ('1 logic stage', '3 logic stages', '1 line')
+    """
+    return f"{number} {singular if number == 1 else plural or singular + 's'}"
 
 
 def natural_key(text: str) -> tuple:

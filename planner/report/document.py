@@ -1,18 +1,42 @@
-"""plan.json: the plan document of docs/outputs.md (schema 1), built from a Plan only.
+"""plan.json: the plan document of docs/outputs.md (schema 2), built from a Plan only.
 
 The required fields are the contract in DESIGN.md ("The plan document"); the
-extra fields (levels, views, resistor values, the parts netlist, the solver's
-account, the registers with their clock, the timing estimate) are allowed by it. The solver's wall-clock time is left out so that
-the same plan always gives the same bytes.
+extra fields (the tool's version, the input files' names and SHA-256, levels,
+views, resistor values, the parts netlist, the solver's account, the registers
+with their clock, the timing estimate) are allowed by it. Every key is an
+identifier (``heater_watts``, never ``heater watts``). The solver's wall-clock
+time is left out so that the same plan always gives the same bytes.
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
+from collections.abc import Sequence
+from pathlib import Path
 
+from planner import __version__
 from planner.mapping import Plan
 
-SCHEMA = 1
+#: 2: keys are identifiers (solution terms and criteria), ``tool`` and ``input_files`` added.
+SCHEMA = 2
+
+
+def input_file(role: str, path: Path) -> dict:
+    """One entry of ``input_files``: the role, the file's name and the SHA-256 of its bytes (FIPS 180-4).
+
+    >>> import tempfile, os
+    >>> with tempfile.TemporaryDirectory() as folder:
+    ...     path = Path(folder) / "design.yaml"
+    ...     _ = path.write_bytes(b"abc")
+    ...     input_file("design", path)["sha256"][:16]
+    'ba7816bf8f01cfea'
+    """
+    return {"role": role, "name": Path(path).name, "sha256": hashlib.sha256(Path(path).read_bytes()).hexdigest()}
+
+
+def _key(name: str) -> str:
+    return name.replace(" ", "_")
 
 
 def _num(value: float | None) -> float | None:
@@ -79,19 +103,28 @@ def _timing(t) -> dict | None:
             "low_seconds_min": _num(t.low_seconds_min), "min_period_seconds": _num(t.min_period_seconds),
             "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz), "wiring_pf": _num(t.wiring_pf),
             "corner": t.corner,
+            "worst": {"corner": t.corner_worst, "path": list(t.path_worst), "start": t.start_worst,
+                      "end": t.end_worst, "path_seconds": _num(t.path_seconds_worst),
+                      "output_seconds": _num(t.output_seconds_worst),
+                      "clock_to_q_seconds": _num(t.clock_to_q_seconds_worst),
+                      "min_period_seconds": _num(t.min_period_seconds_worst)},
             "stages": [{"id": s.id, "output": s.output, "rise_seconds": _num(s.rise_seconds),
-                        "fall_seconds": _num(s.fall_seconds)} for s in t.stages]}
+                        "fall_seconds": _num(s.fall_seconds), "rise_seconds_worst": _num(s.rise_seconds_worst),
+                        "fall_seconds_worst": _num(s.fall_seconds_worst)} for s in t.stages]}
 
 
-def plan_document(plan: Plan) -> dict:
+def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
     """The plan document as plain JSON data (dicts, lists, strings, numbers).
 
-    Cost O(size of the plan). Lists keep the plan's order (stages in
-    topological order, envelopes and parts by designator).
+    ``input_files``: entries of input_file() for the design and stock files
+    the plan was made from. Cost O(size of the plan). Lists keep the plan's
+    order (stages in topological order, envelopes and parts by designator).
     """
     budget = plan.budget
     return {
         "schema": SCHEMA,
+        "tool": {"name": "tubeplan", "version": __version__},
+        "input_files": [dict(entry) for entry in input_files],
         "design": plan.design,
         "inputs": [{"name": name, "complement_available": complement} for name, complement in plan.inputs],
         "outputs": dict(plan.outputs),
@@ -112,13 +145,14 @@ def plan_document(plan: Plan) -> dict:
         "parts": [_part(part) for part in plan.parts],
         "budget": {"heater_watts": _num(budget.heater_watts),
                    "windings": [{"id": w.id, "volts": _num(w.volts), "amps": _num(w.amps),
-                                 "max_amps": _num(w.max_amps)} for w in budget.windings],
+                                 "max_amps": _num(w.max_amps), "elevated_volts": _num(w.elevated_volts)}
+                                for w in budget.windings],
                    "plate_ma_worst": _num(budget.plate_ma_worst),
                    "plate_ma_typical": _num(budget.plate_ma_typical),
                    "bias_ma": _num(budget.bias_ma),
                    "plate_max_ma": _num(budget.plate_max_ma), "bias_max_ma": _num(budget.bias_max_ma)},
         "stock": [{"tube": s.tube, "on_hand": s.on_hand, "reserve": s.reserve, "used": s.used,
-                   "scarce": s.scarce} for s in plan.stock],
+                   "scarce": s.scarce, "from_memory": s.from_memory} for s in plan.stock],
         "solution": {"solver": plan.solution.solver, "status": plan.solution.status,
                      "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
                      "gap": _num(plan.solution.gap), "mode": plan.solution.mode,
@@ -126,12 +160,12 @@ def plan_document(plan: Plan) -> dict:
                      "networks": [{"network": n.label, "stages": n.stages, "sections": n.sections,
                                    "envelopes": None if n.envelopes is None else _num(n.envelopes),
                                    "note": n.note} for n in plan.solution.networks],
-                     "levels": [{"criterion": c, "value": _num(v), "lp_bound": _num(b), "gap": _num(g)}
+                     "levels": [{"criterion": _key(c), "value": _num(v), "lp_bound": _num(b), "gap": _num(g)}
                                 for c, v, b, g in plan.solution.levels],
-                     "terms": {name: _num(value) for name, value in plan.solution.terms}},
+                     "terms": {_key(name): _num(value) for name, value in plan.solution.terms}},
     }
 
 
-def plan_json(plan: Plan) -> str:
-    """plan.json text: ``json.dumps(plan_document(plan), indent=2, sort_keys=True)`` and a newline."""
-    return json.dumps(plan_document(plan), indent=2, sort_keys=True) + "\n"
+def plan_json(plan: Plan, input_files: Sequence[dict] = ()) -> str:
+    """plan.json text: ``json.dumps(plan_document(...), indent=2, sort_keys=True)`` and a newline."""
+    return json.dumps(plan_document(plan, input_files), indent=2, sort_keys=True) + "\n"

@@ -6,9 +6,10 @@ from html import escape
 
 import planner
 
-from .budgets import HEADROOM, SURGE_FACTORS
+from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
 from .content import ReportContent
+from .designators import counted
 from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
                      stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
@@ -38,6 +39,7 @@ tbody tr:nth-child(even) td { background: #fafbfc; }
 .caution h2 { color: var(--warn); border: none; margin: 4px 0 6px; }
 .caution dt { font-weight: 700; color: var(--warn); margin-top: 6px; }
 .caution dd { margin: 0 0 2px; }
+.warning { border-left: 6px solid var(--warn); background: var(--warn-bg); padding: 4px 10px; }
 .figures { display: flex; flex-wrap: wrap; gap: 10px; margin: 10px 0 6px; }
 .figure { border: 1px solid var(--line); background: var(--band); padding: 8px 14px; min-width: 150px; }
 .figure b { display: block; font-size: 20px; }
@@ -57,7 +59,7 @@ _BAR_WIDTH, _LABEL_WIDTH, _ROW = 460, 170, 30
 def budget_chart(content: ReportContent) -> str:
     """An inline SVG bar chart: each supply's planned load as a share of what it may deliver."""
     b = content.budgets
-    rows = [(f"heater {w.id} ({w.volts:g} V)", w.amps, w.max_amps, f"{w.amps:.2f} of {w.max_amps:g} A")
+    rows = [(f"heater {w.id} ({w.volts_text})", w.amps, w.max_amps, f"{w.amps:.2f} of {w.max_amps:g} A")
             for w in b.windings]
     rows.append(("B+ worst case", b.plate.ma_worst, b.plate.max_ma,
                  f"{b.plate.ma_worst:.1f} of {b.plate.max_ma:g} mA"))
@@ -158,9 +160,9 @@ def report_html(content: ReportContent) -> str:
            "<nav>" + "".join(f'<a href="#{key}">{escape(name)}</a>' for key, name in SECTIONS) + "</nav>",
            "<main>", _cautions(),
            '<h2 id="summary">Summary</h2>', '<div class="figures">',
-           _figure(str(len(plan.envelopes)), "envelopes"),
-           _figure(str(len(logic)), "logic stages"),
-           _figure(str(len(plan.stages) - len(logic)), "followers"),
+           *(_figure(*counted(number, noun).split(" ", 1))
+             for number, noun in ((len(plan.envelopes), "envelope"), (len(logic), "logic stage"),
+                                  (len(plan.stages) - len(logic), "follower"))),
            _figure(f"{b.heater_watts:.1f} W", "heater power"),
            _figure(f"{b.plate.ma_worst:.1f} mA", "B+ worst case"),
            _figure(f"{b.heat_watts:.1f} W", "heat to get rid of"),
@@ -170,6 +172,7 @@ def report_html(content: ReportContent) -> str:
            f'switching midpoint is {(plan.high_volts + plan.low_volts) / 2:g} V.</p>',
            f'<p>Tube choice: {escape(sol.solver)} reports <b>{escape(sol.status)}</b>, objective {sol.objective:.4g} '
            f'against an LP relaxation bound of {sol.lp_bound:.4g} (gap {sol.gap * 100:.2f} %).</p>',
+           *(f'<p class="warning"><b>Warning:</b> {escape(warning)}</p>' for warning in supply_warnings(b)),
            _table(outputs_table(plan)),
            f'<p>Stage networks tried; the plan is built on <b>{escape(sol.network)}</b>:</p>',
            _table(networks_table(plan)),

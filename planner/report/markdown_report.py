@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import planner
 
-from .budgets import HEADROOM, SURGE_FACTORS
+from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
+from .designators import counted
 from .content import ReportContent
 from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
                      stage_table, stock_table, wiring_table)
@@ -48,21 +49,23 @@ def report_markdown(content: ReportContent) -> str:
            + (f" Stock file `{content.stock_path}`." if content.stock_path else ""), ""]
     out += _cautions()
     out += ["## Summary", "",
-            f"- {len(plan.envelopes)} envelopes, {logic} logic stages, {len(plan.stages) - logic} followers",
+            f"- {counted(len(plan.envelopes), 'envelope')}, {counted(logic, 'logic stage')}, "
+            f"{counted(len(plan.stages) - logic, 'follower')}",
             f"- supplies: B+ {plan.plate_volts:g} V, bias {plan.bias_volts:g} V; logic high at least "
             f"{plan.high_volts:g} V, low at most {plan.low_volts:g} V (midpoint "
             f"{(plan.high_volts + plan.low_volts) / 2:g} V)",
             f"- heater power {b.heater_watts:.1f} W; B+ worst case {b.plate.ma_worst:.1f} mA; heat to get rid of "
             f"{b.heat_watts:.1f} W",
             f"- tube choice: {sol.solver} {sol.status}, objective {sol.objective:.4g}, LP bound "
-            f"{sol.lp_bound:.4g}, gap {sol.gap * 100:.2f} %", "",
+            f"{sol.lp_bound:.4g}, gap {sol.gap * 100:.2f} %",
+            *(f"- **Warning:** {warning}" for warning in supply_warnings(b)), "",
             markdown_table(outputs_table(plan)), "",
             f"Stage networks tried (the plan is built on `{sol.network}`):", "",
             markdown_table(networks_table(plan)), "",
             "## Stock", "", markdown_table(stock_table(plan)), "",
             "## Budgets", "", "Supply loads:", ""]
     for w in b.windings:
-        out.append(f"- heater {w.id} ({w.volts:g} V): {_bar(w.amps, w.max_amps)} ({w.amps:.2f} of {w.max_amps:g} A)")
+        out.append(f"- heater {w.id} ({w.volts_text}): {_bar(w.amps, w.max_amps)} ({w.amps:.2f} of {w.max_amps:g} A)")
     out += [f"- B+ worst case: {_bar(b.plate.ma_worst, b.plate.max_ma)} ({b.plate.ma_worst:.1f} of "
             f"{b.plate.max_ma:g} mA)",
             f"- B+ typical: {_bar(b.plate.ma_typical, b.plate.max_ma)} ({b.plate.ma_typical:.1f} of "

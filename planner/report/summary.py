@@ -6,8 +6,9 @@ from tabulate import tabulate
 
 from planner.mapping import Plan
 
-from .budgets import plan_budgets
-from .designators import ranges
+from .bom import tube_label
+from .budgets import plan_budgets, supply_warnings
+from .designators import counted, ranges
 from .tables import networks_table
 from .timing_text import clock_lines, register_table, timing_lines
 
@@ -23,9 +24,9 @@ def plan_summary(plan: Plan) -> str:
     and the relative gap.
     """
     budgets = plan_budgets(plan)
-    tube_rows = [[s.tube, s.used, s.on_hand - s.used, s.reserve, "yes" if s.scarce else ""]
+    tube_rows = [[tube_label(s), s.used, s.on_hand - s.used, s.reserve, "yes" if s.scarce else ""]
                  for s in plan.stock]
-    supply_rows = [[f"heater {w.id}", f"{w.volts:g} V", f"{w.amps:.2f} A", f"{w.max_amps:g} A",
+    supply_rows = [[f"heater {w.id}", w.volts_text, f"{w.amps:.2f} A", f"{w.max_amps:g} A",
                     f"{w.watts:.1f} W", ranges(w.envelopes)] for w in budgets.windings]
     supply_rows.append(["plate B+ worst", f"{plan.plate_volts:g} V", f"{budgets.plate.ma_worst:.1f} mA",
                         f"{budgets.plate.max_ma:g} mA", f"{budgets.plate.watts_worst:.1f} W", ""])
@@ -35,8 +36,8 @@ def plan_summary(plan: Plan) -> str:
                         f"{budgets.bias.max_ma:g} mA", f"{budgets.bias.watts_worst:.1f} W", ""])
     s = plan.solution
     inverting = sum(1 for stage in plan.stages if stage.kind == "inverting")
-    lines = [f"plan for {plan.design!r}: {len(plan.envelopes)} envelopes, {inverting} logic stages, "
-             f"{len(plan.stages) - inverting} follower(s)",
+    lines = [f"plan for {plan.design!r}: {counted(len(plan.envelopes), 'envelope')}, "
+             f"{counted(inverting, 'logic stage')}, {counted(len(plan.stages) - inverting, 'follower')}",
              "",
              tabulate(tube_rows, headers=["tube", "used", "left in stock", "reserve kept", "scarce"]),
              "",
@@ -44,6 +45,7 @@ def plan_summary(plan: Plan) -> str:
              "",
              f"heat to get rid of: {budgets.heat_watts:.1f} W (heaters {budgets.heater_watts:.1f} W)",
              f"logic levels: high {plan.high_volts:g} V, low {plan.low_volts:g} V"]
+    lines += [f"WARNING: {warning}" for warning in supply_warnings(budgets)]
     if plan.registers:
         table = register_table(plan)
         lines += ["", tabulate([list(row) for row in table.rows], headers=list(table.headers))] + clock_lines(plan)

@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from planner.mapping import Plan
 
-from .bom import BomLine
+from .bom import BomLine, tube_label
 from .budgets import Budgets
 from .designators import natural_key, ranges
 from .wiring import Connection
@@ -45,14 +45,14 @@ def networks_table(plan: Plan) -> Table:
 
 def stock_table(plan: Plan) -> Table:
     return Table(("tube", "on hand", "used", "left in stock", "reserve kept", "scarce"),
-                 tuple((s.tube, str(s.on_hand), str(s.used), str(s.on_hand - s.used), str(s.reserve),
+                 tuple((tube_label(s), str(s.on_hand), str(s.used), str(s.on_hand - s.used), str(s.reserve),
                         "yes" if s.scarce else "") for s in plan.stock), numeric=(1, 2, 3, 4))
 
 
 def heater_table(budgets: Budgets) -> Table:
     return Table(("winding", "volts", "load", "available", "power", "cold-start surge", "rate at least",
                   "heaters"),
-                 tuple((w.id, f"{w.volts:g} V", f"{w.amps:.2f} A", f"{w.max_amps:g} A", f"{w.watts:.1f} W",
+                 tuple((w.id, w.volts_text, f"{w.amps:.2f} A", f"{w.max_amps:g} A", f"{w.watts:.1f} W",
                         f"{w.surge_amps_low:.1f} to {w.surge_amps_high:.1f} A", f"{w.rating_amps:.2f} A",
                         ranges(w.envelopes)) for w in budgets.windings), numeric=(1, 2, 3, 4, 6))
 

@@ -42,10 +42,12 @@ def register_table(plan: Plan) -> Table:
 
 
 def stage_timing_table(plan: Plan) -> Table:
-    """Each stage's estimated delays, input midpoint to output midpoint, per output edge."""
-    rows = tuple((s.id, s.output, seconds_text(s.rise_seconds), seconds_text(s.fall_seconds))
+    """Each stage's delays, input midpoint to output midpoint, per output edge: worst-case bound and nominal."""
+    rows = tuple((s.id, s.output, seconds_text(s.rise_seconds_worst), seconds_text(s.fall_seconds_worst),
+                  seconds_text(s.rise_seconds), seconds_text(s.fall_seconds))
                  for s in plan.timing.stages)
-    return Table(("stage", "output", "output rising", "output falling"), rows, numeric=(2, 3))
+    return Table(("stage", "output", "rising, worst case", "falling, worst case", "rising, nominal",
+                  "falling, nominal"), rows, numeric=(2, 3, 4, 5))
 
 
 def clock_lines(plan: Plan) -> list[str]:
@@ -67,25 +69,28 @@ def timing_lines(plan: Plan) -> list[str]:
     t = plan.timing
     if t is None:
         return []
-    path = " -> ".join(t.path)
+    path = " -> ".join(t.path_worst)
+    both = f"{seconds_text(t.path_seconds_worst)} worst case ({seconds_text(t.path_seconds)} nominal)"
     lines = []
     if plan.registers:
-        if t.path:
-            lines.append(f"Critical path: {t.start} to {t.end} through {path}: {seconds_text(t.path_seconds)} from "
-                         f"the clock edge (clock to q up to {seconds_text(t.clock_to_q_seconds)}, setup "
-                         f"{seconds_text(t.setup_seconds)} included).")
+        if t.path_worst:
+            lines.append(f"Critical path: {t.start_worst} to {t.end_worst} through {path}: {both} from the clock "
+                         f"edge (clock to q up to {seconds_text(t.clock_to_q_seconds_worst)} worst case, setup "
+                         "included).")
         else:
             lines.append("Every next state is constant: only the registers' own steering limits the clock.")
         lines.append(f"Highest safe clock: {hz_text(t.max_clock_hz)} (shortest period "
-                     f"{seconds_text(t.min_period_seconds)}, clock high at least {seconds_text(t.high_seconds_min)} "
-                     f"and low at least {seconds_text(t.low_seconds_min)}; the period here has a "
-                     f"{t.margin * 100:g} % margin on top).")
+                     f"{seconds_text(t.min_period_seconds_worst)} worst case, {seconds_text(t.min_period_seconds)} "
+                     f"nominal; clock high at least {seconds_text(t.high_seconds_min)} and low at least "
+                     f"{seconds_text(t.low_seconds_min)} nominal).")
         if t.output_seconds:
-            lines.append(f"Outputs settle {seconds_text(t.output_seconds)} after the clock edge.")
-    elif t.path:
-        lines.append(f"Slowest path: {t.start} to {t.end} through {path}: {seconds_text(t.path_seconds)} from "
-                     "the input's change to the output's.")
-    lines.append(f"Estimates for {t.corner}; each delay runs from an input's midpoint crossing to the output's.")
+            lines.append(f"Outputs settle {seconds_text(t.output_seconds_worst)} worst case "
+                         f"({seconds_text(t.output_seconds)} nominal) after the clock edge.")
+    elif t.path_worst:
+        lines.append(f"Slowest path: {t.start_worst} to {t.end_worst} through {path}: {both} from the input's "
+                     "change to the output's.")
+    lines.append(f"Worst case: {t.corner_worst}. Nominal: {t.corner}. Each delay runs from an input's midpoint "
+                 "crossing to the output's.")
     return lines
 
 

@@ -55,6 +55,9 @@ def wiring_rows(plan: Plan, catalogue: Catalogue) -> tuple[Connection, ...]:
     """
     rows = []
     users = {(e.ref, s.index): s.stage for e in plan.envelopes for s in e.sections}
+    # Heater nets of an elevated winding (H2 and H2_RET) sit at its DC reference.
+    raised = {net: w.elevated_volts for w in plan.budget.windings if w.elevated_volts
+              for net in (w.id, f"{w.id}_RET")}
     for part in plan.parts:
         stages: dict[str, str | None] = {}
         if part.kind == "tube":
@@ -66,10 +69,13 @@ def wiring_rows(plan: Plan, catalogue: Catalogue) -> tuple[Connection, ...]:
                     stages.setdefault(str(pin), users.get((part.ref, section.index)))
         else:
             functions = _TWO_TERMINAL.get(part.kind, {})
-            label = f"{part.value} {part.kind}"
+            # "silicon signal diode" names its kind already; "150k" does not
+            label = part.value if part.value.endswith(part.kind) else f"{part.value} {part.kind}"
         for pin, net in part.pins:
-            rows.append(Connection(net, part.ref, pin, functions.get(pin, ""), label,
-                                   stages.get(pin, part.stage)))
+            function = functions.get(pin, "")
+            if net in raised and part.kind == "tube":
+                function += f" (winding at {raised[net]:+g} V DC)"
+            rows.append(Connection(net, part.ref, pin, function, label, stages.get(pin, part.stage)))
     return tuple(sorted(rows, key=lambda c: (natural_key(c.net), natural_key(c.ref), natural_key(c.pin))))
 
 

@@ -9,7 +9,8 @@ import sympy
 
 from .errors import InputError
 from .expressions import expression_names, is_valid_name, parse_expression
-from .fields import check_keys, describe, expect_list, expect_mapping, get_bool, get_text, line_of
+from .fields import (check_keys, check_not_swapped, describe, describe_name, expect_list, expect_mapping, get_bool,
+                     get_text, line_of)
 from .yamlfile import Mapping, YamlFile, read_yaml
 
 #: Most inputs a minterm list may range over (2**20 assignments).
@@ -207,6 +208,7 @@ def load_design(path) -> Design:
 
 def design_from_yaml(file: YamlFile) -> Design:
     top = expect_mapping(file, file.data, 1, "the design file")
+    check_not_swapped(file, top, "design")
     check_keys(file, top, ("design", "inputs", "signals", "outputs", "registers"), "the design file",
                required=("design", "inputs"))
     name = get_text(file, top, "design", "the design file")
@@ -289,7 +291,7 @@ def _read_inputs(file: YamlFile, top: Mapping) -> tuple[InputSpec, ...]:
         else:
             name, complement = item, False
         if not isinstance(name, str):
-            raise file.error(line, f"an input name must be text, found {describe(name)}")
+            raise file.error(line, f"an input name must be text, found {describe_name(name)}")
         _check_name(file, line, name, "input")
         if name in seen:
             raise file.error(line, f"input {name!r} is listed twice (first on line {seen[name]})")
@@ -309,6 +311,8 @@ def _check_name(file: YamlFile, line: int, name: str, kind: str) -> None:
 def _check_new_names(file: YamlFile, mapping: Mapping, kind: str, inputs: set, signal_lines: dict) -> None:
     for name in mapping:
         line = line_of(mapping, name)
+        if not isinstance(name, str):
+            raise file.error(line, f"a {kind} name must be text, found {describe_name(name)}")
         _check_name(file, line, name, kind)
         if name in inputs:
             raise file.error(line, f"{kind} {name!r} has the same name as an input")
@@ -399,7 +403,7 @@ def _read_output(file: YamlFile, output_map: Mapping, name: str, value, known: s
     over: list[str] = []
     for item, item_line in zip(over_list, over_list.lines):
         if not isinstance(item, str) or item not in input_order:
-            raise file.error(item_line, f"{what} over lists {describe(item)}, which is not an input; "
+            raise file.error(item_line, f"{what} over lists {describe_name(item)}, which is not an input; "
                                         f"expected one of: {', '.join(input_order)}")
         if item in over:
             raise file.error(item_line, f"{what} over lists {item!r} twice")

@@ -23,6 +23,38 @@ def describe(value) -> str:
     return repr(value)
 
 
+def describe_name(value) -> str:
+    """describe() for a place that wants a name: a boolean gets the hint to quote it.
+
+    >>> print(describe_name(True))  # doctest: +ELLIPSIS
+    the boolean true (YAML reads unquoted yes, no, on, off, true and false as booleans: put the name in ...
+    """
+    if isinstance(value, bool):
+        return (f"{describe(value)} (YAML reads unquoted yes, no, on, off, true and false as booleans: put the "
+                "name in quotes, e.g. 'on')")
+    return describe(value)
+
+
+#: Top-level keys that only a design file has, and those that only a stock file has.
+DESIGN_KEYS = ("design", "inputs", "signals", "outputs", "registers")
+STOCK_KEYS = ("supplies", "tubes", "diodes", "custom_types")
+
+
+def check_not_swapped(file: YamlFile, top: Mapping, kind: str) -> None:
+    """Refuse a stock file given as the design (``kind`` "design"), or a design given as the stock.
+
+    Only when the file has none of its own kind's keys and some of the other's.
+    """
+    own, other, other_kind = (DESIGN_KEYS, STOCK_KEYS, "stock") if kind == "design" \
+        else (STOCK_KEYS, DESIGN_KEYS, "design")
+    foreign = [key for key in top if key in other]
+    if foreign and not any(key in own for key in top):
+        raise file.error(line_of(top, foreign[0]),
+                         f"this looks like a {other_kind} file (it has {foreign[0]!r}), not a {kind} file: "
+                         "were the design and stock files swapped? Give the design first and the stock "
+                         "with --stock")
+
+
 def line_of(mapping: Mapping, key: str) -> int:
     return mapping.lines.get(key, mapping.line)
 
@@ -112,7 +144,7 @@ def get_text(file: YamlFile, mapping: Mapping, key: str, what: str, *, default=_
     value = mapping[key]
     line = line_of(mapping, key)
     if not isinstance(value, str) or not value.strip():
-        raise file.error(line, f"{what}.{key} must be non-empty text, found {describe(value)}")
+        raise file.error(line, f"{what}.{key} must be non-empty text, found {describe_name(value)}")
     if choices is not None and value not in choices:
         raise file.error(line, f"{what}.{key} must be one of {', '.join(choices)}; found {value!r}")
     return value

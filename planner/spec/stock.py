@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from planner.catalogue import Catalogue, CatalogueDataError, builtin_catalogue, tube_type_from_mapping
 
-from .fields import (check_keys, expect_list, expect_mapping, get_bool, get_int, get_number,
+from .fields import (check_keys, check_not_swapped, expect_list, expect_mapping, get_bool, get_int, get_number,
                      get_text, line_of)
 from .yamlfile import Mapping, YamlFile, read_yaml
 
@@ -29,11 +29,18 @@ class Supply:
 
 @dataclass(frozen=True)
 class Winding:
-    """A heater winding of the transformer."""
+    """A heater winding of the transformer.
+
+    ``elevated_volts``: the DC voltage to ground the winding is referred to
+    (for example through its centre tap or a divider from B+), so that a
+    cathode follower's cathode stays within its heater-cathode rating; 0 for
+    a grounded winding.
+    """
 
     id: str
     volts: float
     max_amps: float
+    elevated_volts: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -92,13 +99,14 @@ def load_stock(path) -> Stock:
 
 def stock_from_yaml(file: YamlFile) -> Stock:
     top = expect_mapping(file, file.data, 1, "the stock file")
+    check_not_swapped(file, top, "stock")
     check_keys(file, top, ("supplies", "tubes", "diodes", "objective", "custom_types", "limits", "prices"),
                "the stock file", required=("supplies", "tubes"))
     supplies = expect_mapping(file, top["supplies"], line_of(top, "supplies"), "supplies")
     check_keys(file, supplies, ("plate", "bias", "heater"), "supplies", required=("plate", "bias", "heater"))
     plate = _read_supply(file, supplies, "plate", negative=False)
     bias = _read_supply(file, supplies, "bias", negative=True)
-    windings = _read_windings(file, supplies)
+    windings = _read_windings(file, supplies, plate, bias)
 
     catalogue = builtin_catalogue()
     if "custom_types" in top:
@@ -130,14 +138,14 @@ def _read_supply(file: YamlFile, supplies: Mapping, key: str, *, negative: bool)
     return Supply(volts, max_ma)
 
 
-def _read_windings(file: YamlFile, supplies: Mapping) -> tuple[Winding, ...]:
+def _read_windings(file: YamlFile, supplies: Mapping, plate: Supply, bias: Supply) -> tuple[Winding, ...]:
     items = expect_list(file, supplies["heater"], line_of(supplies, "heater"), "supplies.heater")
     if not items:
         raise file.error(line_of(supplies, "heater"), "supplies.heater is empty; expected at least one winding")
     windings, seen = [], {}
     for item, line in zip(items, items.lines):
         entry = expect_mapping(file, item, line, "a heater winding")
-        check_keys(file, entry, ("id", "volts", "max_amps"), "a heater winding",
+        check_keys(file, entry, ("id", "volts", "max_amps", "elevated_volts"), "a heater winding",
                    required=("id", "volts", "max_amps"))
         ident = get_text(file, entry, "id", "a heater winding")
         if ident in seen:
@@ -145,8 +153,14 @@ def _read_windings(file: YamlFile, supplies: Mapping) -> tuple[Winding, ...]:
                                                    f"(first on line {seen[ident]})")
         seen[ident] = line_of(entry, "id")
         what = f"heater winding {ident!r}"
+        # An elevation lies between the rails that can hold it (it is usually taken from B+).
+        elevated = get_number(file, entry, "elevated_volts", what, default=0.0)
+        if not bias.volts <= elevated <= plate.volts:
+            raise file.error(line_of(entry, "elevated_volts"),
+                             f"{what}.elevated_volts is {elevated:g} V; expected a DC reference between the bias "
+                             f"rail ({bias.volts:g} V) and B+ ({plate.volts:g} V)")
         windings.append(Winding(ident, get_number(file, entry, "volts", what, positive=True, maximum=200),
-                                get_number(file, entry, "max_amps", what, positive=True)))
+                                get_number(file, entry, "max_amps", what, positive=True), elevated))
     return tuple(windings)
 
 

@@ -104,6 +104,8 @@ def parse_yaml_text(text: str, path: str) -> YamlFile:
         mark = problem.problem_mark or problem.context_mark
         line = mark.line + 1 if mark else 1
         what = problem.problem or problem.context or "malformed YAML"
+        if "'\\t'" in what:  # PyYAML: "found character '\t' that cannot start any token"
+            what = "tabs are not allowed in YAML, use spaces to indent"
         raise InputError(path, line, f"not valid YAML: {what}") from None
     except yaml.YAMLError as problem:
         raise InputError(path, 1, f"not valid YAML: {problem}") from None

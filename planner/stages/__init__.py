@@ -14,6 +14,9 @@ Public API
 - :func:`synthesise` -> :class:`Synthesis` (``network``, ``candidates``: :class:`Candidate`)
 - :func:`insert_followers`
 - :func:`simulate`, :func:`input_patterns`, :func:`prove`, :class:`ProofError`
+- :func:`multilevel` -> :class:`MultiLevel` (the whole design restructured and mapped by the ABC
+  engine onto :func:`stage_library` cells, :class:`StageCell`; :func:`genlib_text`,
+  :func:`engine_binary`, :class:`EngineError`, :data:`ENGINE_SCRIPTS`, :data:`COLLAPSE_SCRIPTS`)
 """
 
 from .followers import insert_followers
@@ -21,10 +24,12 @@ from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, S
 from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
 from .simulate import ProofError, input_patterns, prove, simulate
 from .engine import (COLLAPSE_SCRIPTS, ENGINE_SCRIPTS, EngineError, MultiLevel, StageCell, engine_binary,
-                         genlib_text, multilevel, stage_library)
+                     genlib_text, multilevel, stage_library)
 from .synthesis import Candidate, Synthesis, synthesise
 
 __all__ = [
+    "COLLAPSE_SCRIPTS", "ENGINE_SCRIPTS", "EngineError", "MultiLevel", "StageCell", "engine_binary", "genlib_text",
+    "multilevel", "stage_library",
     "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "MEANS", "MODES", "Network", "NetworkCost", "ProofError",
     "SECTIONS_PER_BRANCH", "Stage", "Synthesis", "SynthesisOptions", "input_patterns", "insert_followers",
     "prove", "simulate", "stage_view", "synthesise",
