@@ -281,6 +281,11 @@ def _add_logic(subparsers) -> None:
     parser.add_argument("--cover-budget", type=float, default=1.0, metavar="SECONDS",
                         help="time for each exact minimum (default 1 s); past it the best cover found is "
                              "given with its gap to a proven lower bound")
+    parser.add_argument("--networks", action="store_true",
+                        help="also build the candidate stage networks (two-level and multi-level) and say "
+                             "how many stages each needs and which is chosen")
+    parser.add_argument("--stock", help="with --networks: plan on this stock file and give each candidate's "
+                                        "envelopes (the chosen one is the plan's)")
     parser.set_defaults(run=_run_logic)
 
 
@@ -307,12 +312,33 @@ def _run_logic(args) -> int:
             raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
                              f"output {output.name!r} is beyond the minimiser's limits: {problem}; "
                              "split it into named signals") from None
+    document = forms_document(rows)
+    if args.stock and not args.networks:
+        raise InputError("<command line>", 0, "--stock goes with --networks")
+    if args.networks:
+        from planner.mapping import Shortage
+        from planner.pipeline import network_document
+
+        try:
+            document["networks"] = network_document(Path(args.design), Path(args.stock) if args.stock else None)
+        except Shortage as short:
+            print(f"tubeplan logic: the stock cannot carry the design: {short.message}", file=sys.stderr)
+            return EXIT_SHORT
     if args.json:
-        _print_json(forms_document(rows))
-    else:
-        print(format_forms(rows))
+        _print_json(document)
+        return EXIT_OK
+    print(format_forms(rows))
+    if args.networks:
+        from tabulate import tabulate
+
+        networks = document["networks"]
+        table = [[n["network"], n["stages"], n["sections"], "" if n["envelopes"] is None else f"{n['envelopes']:g}",
+                  "chosen" if n["network"] == networks["chosen"] else n["note"]] for n in networks["networks"]]
         print()
-        print(CAUTION)
+        print(f"stage network chosen: {networks['chosen']}")
+        print(tabulate(table, headers=["network", "stages", "sections", "envelopes", ""]))
+    print()
+    print(CAUTION)
     return EXIT_OK
 
 

@@ -162,6 +162,19 @@ class StockUse:
 
 
 @dataclass(frozen=True)
+class NetworkTried:
+    """One candidate stage network and how it fared: ``stages`` and ``sections`` after
+    fan-out repair (None when it could not be built), ``envelopes`` of its optimal plan
+    (None when it has none), ``note`` why not (empty when planned)."""
+
+    label: str
+    stages: int | None
+    sections: int | None
+    envelopes: float | None
+    note: str = ""
+
+
+@dataclass(frozen=True)
 class Solution:
     """The solver's account: objective value, LP relaxation bound, gap, status.
 
@@ -169,7 +182,8 @@ class Solution:
     objective sequence (criterion, value, LP-relaxation bound, solver gap);
     ``objective``/``lp_bound``/``gap`` are those of the last level.
     ``terms``: the plan's envelopes, heater watts, scarce envelopes and
-    weighted objective; ``network``: which stage-layer network was chosen.
+    weighted objective; ``network``: which stage-layer network was chosen;
+    ``networks``: every candidate network tried, in order (:class:`NetworkTried`).
     """
 
     solver: str
@@ -182,6 +196,7 @@ class Solution:
     levels: tuple[tuple[str, float, float, float], ...] = ()
     terms: tuple[tuple[str, float], ...] = ()
     network: str = ""
+    networks: tuple[NetworkTried, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -12,8 +12,9 @@ from planner.stages import FanoutError, Stage, SynthesisOptions, cached_network,
 from .assemble import place
 from .build import build_plan
 from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
+from .multilevel import multilevel_networks
 from .options import MappingOptions
-from .plan import Plan, Solution
+from .plan import NetworkTried, Plan, Solution
 from .problem import DIODE_FANIN, build_problem, stage_ways, tube_kinds
 from .registers import COMPLEMENT, RegisterSetting, clock_nets, register_classes, register_view
 from .timing import plan_timing
@@ -215,10 +216,16 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
     found, seen = [], set()
     variants, fanin = _synthesis_variants(stock, family, rules, options)
     limits, names = _primary_limits(design, setting)
+    networks = []
     for variant, synth in variants:
         options.say(f"mapping: synthesising and proving network '{variant}'")
-        for label, network, reason in _repaired(variant, cached_network(view, synth), family, stock, fanin,
-                                                limits, names, options):
+        networks.append((variant, cached_network(view, synth), ""))
+    networks += multilevel_networks(view, stock, family, variants, weights, options)
+    for variant, synthesised, failure in networks:
+        if synthesised is None:
+            found.append(_Candidate(variant, None, None, {}, failure))
+            continue
+        for label, network, reason in _repaired(variant, synthesised, family, stock, fanin, limits, names, options):
             if network is None:
                 found.append(_Candidate(label, None, None, {}, reason))
                 continue
@@ -264,7 +271,8 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     the rules' wear); with registers, a bistable for each stocked dual triode
     on one shared clock and the logic between the registers
     (:func:`planner.mapping.registers.register_view`); the stage networks the
-    stock allows (see :func:`_synthesis_variants`), each with followers
+    stock allows (see :func:`_synthesis_variants`) and the multi-level ones
+    (:func:`planner.mapping.multilevel.multilevel_networks`), each with followers
     wherever no stocked template can drive a net's loads, each proven against
     the design (next states and their complements included); the
     aggregated integer program for each (:mod:`planner.mapping.model`); the
@@ -291,16 +299,20 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)
     best = None
+    tried = []
     for cand in candidates:
         if cand.problem is None:
+            tried.append(_tried(cand, None, cand.reason))
             continue
         try:
             counts = solve_problem(cand.problem, solver=options.solver, gap=options.gap,
                                    time_limit_s=max(1.0, deadline - time.monotonic()))
         except Infeasible:
             options.say(f"mapping: network '{cand.label}' does not fit the stock")
+            tried.append(_tried(cand, None, "does not fit the stock"))
             continue
         options.say(f"mapping: network '{cand.label}': {dict(counts.terms)['envelopes']:.0f} envelopes")
+        tried.append(_tried(cand, dict(counts.terms)["envelopes"], ""))
         if best is None or _rank(counts, weights) < _rank(best[1], weights):
             best = (cand, counts)
     if best is None:
@@ -311,7 +323,7 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     solution = Solution(options.solver, counts.status, last.value, last.lp_bound, last.gap,
                         time.monotonic() - start, weights.mode,
                         tuple((lv.criterion, lv.value, lv.lp_bound, lv.gap) for lv in counts.levels),
-                        counts.terms, cand.label)
+                        counts.terms, cand.label, tuple(tried))
     plan = build_plan(design, cand.network, family, stock, cand.problem, counts, placement, solution, rules, setting)
     options.say("mapping: estimating the timing")
     timing, flips = plan_timing(plan, cand.network, placement, family, stock, rules, setting)
@@ -321,6 +333,14 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
         wear[tube.name] = min(condition, wear.get(tube.name, condition))
     return replace(plan, timing=timing, registers=registers, tube_wear=tuple(sorted(wear.items())),
                    supply_tolerance=rules.supply_tolerance)
+
+
+def _tried(cand: _Candidate, envelopes: float | None, note: str) -> NetworkTried:
+    """What one candidate network needed: stages, sections and its plan's envelopes."""
+    if cand.network is None:
+        return NetworkTried(cand.label, None, None, None, note)
+    return NetworkTried(cand.label, len(cand.network.stages), cand.network.cost().sections,
+                        None if envelopes is None else round(envelopes, 6), note)
 
 
 def _section_word(tube) -> str:

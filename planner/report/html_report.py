@@ -11,8 +11,8 @@ from .cautions import CAUTIONS
 from .content import ReportContent
 from .designators import counted
 from .proof_section import simulation_html
-from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
-                     stock_table, wiring_table)
+from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
+                     stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
 
 CSS = """
@@ -182,6 +182,8 @@ def report_html(content: ReportContent) -> str:
            f'against an LP relaxation bound of {sol.lp_bound:.4g} (gap {sol.gap * 100:.2f} %).</p>',
            *(f'<p class="warning"><b>Warning:</b> {escape(warning)}</p>' for warning in supply_warnings(b)),
            _table(outputs_table(plan)),
+           f'<p>Stage networks tried; the plan is built on <b>{escape(sol.network)}</b>:</p>',
+           _table(networks_table(plan)),
            '<p class="note">Every inverting stage pulls its plate node low when any one of its branches '
            'conducts, and a branch conducts only when all of its inputs are high.</p>',
            '<h2 id="stock">Stock</h2>', _table(stock_table(plan)),
