@@ -203,9 +203,12 @@ def _repaired(label, network, family, stock, fanin, limits, names, options):
             seen.add(key)
             if repaired == network:
                 out.append((label, repaired, ""))
-            else:
-                at = "" if cap is None else f" to {cap} loads"
-                out.append((f"{label}, {_STRATEGY_WORDS[strategy]}{at}", repaired, ""))
+                continue
+            at = "" if cap is None else f" to {cap} loads"
+            # Where no follower fits (every load a diode gate's, say), the followers' network is a buffers' one.
+            if strategy == "followers" and not any(s.kind == "follower" for s in repaired.stages):
+                strategy = "buffers"
+            out.append((f"{label}, {_STRATEGY_WORDS[strategy]}{at}", repaired, ""))
     return out
 
 

@@ -251,6 +251,42 @@ def _place(shape: _Shape, roots: list[tuple[str, int, int]], buffer_limit: int, 
     return nodes
 
 
+#: Shapes with followers tried for a group before only follower-free ones are (their loads may not fit).
+_FOLLOWER_TRIES = 20
+
+
+def _follower_may_feed(nets: _Nets, slot: tuple) -> bool:
+    """Whether a follower may drive this load: not a follower (the family's rule), not a diode AND's input
+    (one divider follows the gate, proven for plate-driven or follower-driven inputs, not a mix)."""
+    consumer, b, _p = slot
+    if consumer == "output":
+        return True
+    kind, body = nets.records[consumer]
+    return kind == "inverting" and body[b][1] != "diode"
+
+
+def _deal(nodes: list, demand: dict, tolerant: Callable[[tuple], bool]) -> list | None:
+    """Loads to nodes, in creation order: [(slot, old net, node index)], or None when they do not fit.
+
+    Per polarity, the loads a follower may not drive go first, to the other
+    nodes; then the rest, to any node with room.
+    """
+    free = [node[2] for node in nodes]
+    dealt = []
+    for pol, wanted in demand.items():
+        for followers_too in (False, True):
+            order = [i for i, node in enumerate(nodes) if node[1] == pol and (followers_too or not node[3])]
+            k = 0
+            for slot, old in (item for item in wanted if tolerant(item[0]) == followers_too):
+                while k < len(order) and free[order[k]] == 0:
+                    k += 1
+                if k == len(order):
+                    return None
+                free[order[k]] -= 1
+                dealt.append((slot, old, order[k]))
+    return dealt
+
+
 def _repair_group(nets: _Nets, root: str, members: list[tuple[str, int]], limits: dict, strategy: str,
                   buffer_limit: int, follower_limit: int, describe: Callable[[str], str], primary: set) -> None:
     """Repair one polarity group (a root net and the plain inverters hanging from it) in place."""
@@ -284,15 +320,21 @@ def _repair_group(nets: _Nets, root: str, members: list[tuple[str, int]], limits
                          for used in _stage(root, record).input_nets)
     if root_limit <= 0:
         return  # no stocked template drives this stage at all: the integer program reports it
-    placed = None
+    placed = dealt = None
+    comp = [(net, 1, complement_limit) for net, pol in roots if pol == 1]
+    misses = 0
     for shape in _shapes(strategy, need_true, need_complement, root_limit, complement_limit, buffer_limit,
                          follower_limit, can_copy, copy_sections, copy_loads):
+        with_followers = shape.true_followers or shape.complement_followers
+        if with_followers and misses >= _FOLLOWER_TRIES:
+            continue
         copies = [(root, 0, root_limit)] + [(None, 0, root_limit)] * (shape.copies - 1)
-        comp = [(net, 1, complement_limit) for net, pol in roots if pol == 1]
         placed = _place(shape, copies + comp, buffer_limit, follower_limit)
-        if placed is not None:
+        dealt = None if placed is None else _deal(placed, demand, lambda slot: _follower_may_feed(nets, slot))
+        if dealt is not None:
             break
-    if placed is None:
+        misses += bool(with_followers)
+    if dealt is None:
         worst = max(over, key=lambda net: len(nets.slots[net]))
         words = f"an inverter {buffer_limit}"
         if follower_limit:
@@ -320,14 +362,8 @@ def _repair_group(nets: _Nets, root: str, members: list[tuple[str, int]], limits
         same = next((node[0] for node in placed if node[1] == pol), None)
         for net in reuse[pol] if same is not None else ():
             nets.moved[net] = same
-    for pol in (0, 1):
-        order = [node for node in placed if node[1] == pol]
-        k = 0
-        for slot, old in demand[pol]:
-            while order[k][2] == 0:
-                k += 1
-            order[k][2] -= 1
-            nets.rewire(slot, old, order[k][0])
+    for slot, old, index in dealt:
+        nets.rewire(slot, old, placed[index][0])
 
 
 def repair_fanout(network: Network, fanout_limit: Callable[[Stage], int],
@@ -354,7 +390,10 @@ def repair_fanout(network: Network, fanout_limit: Callable[[Stage], int],
     * cathode followers (``strategy`` "followers" and a follower limit of at
       least 2), each on a node that is not a follower.
 
-    Loads are dealt to the nodes in creation order (roots first).  Groups are
+    Loads are dealt to the nodes in creation order (roots first); a load a
+    follower may not drive (a follower, a diode AND's input: its one divider
+    is proven for plate-driven or follower-driven inputs, not a mix) goes to
+    another node, and a shape where such loads do not fit is passed over.  Groups are
     repaired from the outputs back to the inputs, so a group's loads are final
     when it is repaired and copies only add loads to groups not yet visited:
     one pass reaches the fixed point.
