@@ -355,12 +355,16 @@ def _section_word(tube) -> str:
 
 def _shortage(candidates, family, stock, options, deadline) -> Shortage:
     """Diagnose every buildable network; the smallest purchase (then least overload) wins."""
-    best = None
+    best, heaterless = None, ""
     for cand in candidates:
         if cand.problem is None:
             continue
-        counts = diagnose(cand.problem, solver=options.solver, gap=options.gap,
-                          time_limit_s=max(1.0, deadline - time.monotonic()))
+        try:
+            counts = diagnose(cand.problem, solver=options.solver, gap=options.gap,
+                              time_limit_s=max(1.0, deadline - time.monotonic()))
+        except Infeasible:  # no purchase helps: some stages only types with no usable heater winding can build
+            heaterless = heaterless or _heater_reasons(cand.problem, stock)
+            continue
         overload = sum(v / _limit(stock, w) for w, v in counts.overloads)
         key = (sum(counts.purchase), round(overload, 9), dict(counts.terms)["weighted"])
         if best is None or key < best[0]:
@@ -372,6 +376,8 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
             reasons = (ratings,) if ratings else reasons
         elif ratings:
             reasons += (f"(unusable here: {ratings})",)
+        if heaterless:
+            reasons += (heaterless,)
         return Shortage(f"no stocked tube type can build the design: {'; '.join(reasons)}", unbuildable=reasons)
     _, cand, counts = best
     problem = cand.problem
@@ -447,40 +453,57 @@ def _rating_reasons(family, stock) -> str:
     return "; ".join(parts)
 
 
+def _heater_reasons(problem: Problem, stock) -> str:
+    """The stocked types whose heaters fit no winding, in words (then buying more of them cannot help)."""
+    windings = ", ".join(f"{w.id} {w.volts:g} V" for w in stock.windings)
+    unpowered = []
+    for kind in problem.kinds:
+        if not kind.heaters and kind.sections:
+            tube = stock.catalogue.get(kind.tube)
+            volts = [tube.heater_volts] + ([tube.heater_series[0]] if tube.heater_series else [])
+            unpowered.append(f"{kind.tube} ({' or '.join(f'{v:g} V' for v in volts)})")
+    if not unpowered:
+        return "no purchase of stocked types makes the design fit"
+    return (f"the heaters of {', '.join(unpowered)} fit no heater winding ({windings}), and some stages only "
+            "those types can build: add a winding of their heater voltage")
+
+
 def _why_not_free(cand, counts, kind, purchase, sections_used, family) -> str:
     """Why the stock's free sections of other types cannot take the stages that need ``kind`` bought.
 
-    The stages the diagnosis put on ``kind`` with no way on a type that has
-    sections to spare: each either drives more loads than that type's
-    templates allow, or needs a template (two control grids, a diode gate) the
-    type has none of.
+    A free type whose heater fits no winding cannot be powered. Otherwise the
+    stages the diagnosis put on ``kind`` with no way on a free type either
+    drive more loads than that type's templates allow, or need a template (two
+    control grids, a diode gate) the type has none of.
     """
     problem = cand.problem
-    spare = [k.tube for k in problem.kinds if k.tube not in purchase and not k.diode_sections
-             and sections_used[k.tube] < max(k.usable, 0) * len(k.sections)]
-    if not spare:
-        return ""
+    free = [k for k in problem.kinds if k.tube not in purchase and not k.diode_sections and k.sections
+            and sections_used[k.tube] < max(k.usable, 0) * len(k.sections)]
+    reasons = [f"the {k.tube}'s heater fits no heater winding" for k in free if not k.heaters]
+    spare = [k.tube for k in free if k.heaters]
     loads = cand.network.load_counts()
     outputs = {stage.id: stage.output for stage in cand.network.stages}
     stuck, templates = [], set()
     for cls, row in zip(problem.classes, counts.ways):
         on_kind = sum(n for way, n in zip(cls.ways, row) if way.tube == kind.tube)
-        if on_kind and not any(way.tube in spare for way in cls.ways):
+        if spare and on_kind and not any(way.tube in spare for way in cls.ways):
             stuck += [loads[outputs[sid]] for sid in cls.stages if sid in outputs]
             templates |= {way.template for way in cls.ways if way.tube == kind.tube}
-    if not stuck:
+    if stuck:
+        fewest, most = min(stuck), max(stuck)
+        span = f"{fewest}" if fewest == most else f"{fewest} to {most}"
+        drive = "stage drives" if len(stuck) == 1 else "stages drive"
+        reasons.append(f"{len(stuck)} of these {drive} {span} loads")
+        for tube in spare:
+            limits = [family.drivers[(tube, t)].fanout_limit for t in sorted(templates)
+                      if (tube, t) in family.drivers]
+            if limits:
+                reasons.append(f"a {tube} stage drives at most {max(limits)}")
+            else:
+                reasons.append(f"{tube} has no {'/'.join(sorted(templates))} stage template")
+    if not reasons:
         return ""
-    reasons = []
-    for tube in spare:
-        limits = [family.drivers[(tube, t)].fanout_limit for t in sorted(templates) if (tube, t) in family.drivers]
-        if limits:
-            reasons.append(f"a {tube} stage drives at most {max(limits)} loads")
-        else:
-            reasons.append(f"{tube} has no {'/'.join(sorted(templates))} stage template")
-    fewest, most = min(stuck), max(stuck)
-    span = f"{fewest}" if fewest == most else f"{fewest} to {most}"
-    return (f"the free {', '.join(spare)} sections will not do: {len(stuck)} of these stages drive {span} loads "
-            f"and {'; '.join(reasons)}")
+    return f"the free {', '.join(k.tube for k in free)} sections will not do: {'; '.join(reasons)}"
 
 
 def _reserve_note(stock, problem, purchase) -> str:
