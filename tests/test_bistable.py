@@ -80,7 +80,11 @@ def _netlist(tube, b: Bistable, swing: float, period: float, cycles: int, toggle
                   f"RS{k} {level} x{k} {b.steering_ohms!r}", f"D{k} g{k} x{k} d_silicon",
                   f"CWP{k} p{k} 0 {WIRING_PF}p", f"CWG{k} g{k} 0 {WIRING_PF}p", f"CWX{k} x{k} 0 {WIRING_PF}p",
                   f"RLA{k} p{k} l{k} {b.upper_ohms!r}", f"RLB{k} l{k} bias {b.lower_ohms!r}", f"XL{k} bp l{k} 0 {sub}"]
-    lines += [".ic v(p2)=40 v(p1)=170 v(g1)=-30 v(g2)=0", ".control", f"tran 1u {(cycles + 0.6) * period!r} uic"]
+    # Start in the state q = p2 low, at the design's own levels (p1's grid at its divider's tap from p2),
+    # so that the start is consistent and no flip happens before the first edge.
+    g1 = (b.low_volts * b.lower_ohms + RAILS.bias_volts * b.upper_ohms) / (b.upper_ohms + b.lower_ohms)
+    lines += [f".ic v(p2)={b.low_volts!r} v(p1)={b.high_volts!r} v(g1)={g1!r} v(g2)=0", ".control",
+              f"tran 1u {(cycles + 0.6) * period!r} uic"]
     lines += [f"meas tran q{k} FIND v(p2) AT={(k + 0.45) * period!r}" for k in range(cycles + 1)]
     mid = 0.5 * (b.high_volts + b.low_volts)
     lines += [f"meas tran flip WHEN v(p2)={mid!r} RISE=1", f"meas tran flop WHEN v(p1)={mid!r} FALL=1", ".endc", ".end"]
