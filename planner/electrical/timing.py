@@ -110,7 +110,8 @@ class TimingCorner:
         r, f = self.ohms_scale, self.farads_scale
         feed = stage.feed and ScreenFeed(stage.feed.series_ohms * r,
                                          None if stage.feed.shunt_ohms is None else stage.feed.shunt_ohms * r)
-        return replace(stage, tube=self.tube(stage.tube), wear=self.wear(stage.tube, stage.wear), supply_volts=stage.supply_volts * self.supply_scale,
+        return replace(stage, tube=self.tube(stage.tube), wear=self.wear(stage.tube, stage.wear),
+                       supply_volts=stage.supply_volts * self.supply_scale,
                        plate_load_ohms=stage.plate_load_ohms * r, divider=self.load(stage.divider),
                        loads=tuple((n, self.load(ld)) for n, ld in stage.loads), plate_farads=stage.plate_farads * f,
                        grid_farads=stage.grid_farads * f, feed=feed, speedup_farads=stage.speedup_farads * f)
