@@ -232,14 +232,14 @@ def test_a_plate_supply_above_every_rating_names_the_rating(write, run_cli, tmp_
 
 
 def test_why_free_sections_will_not_do(write, run_cli, tmp_path):
-    """A net with three loads: 12AU7 stages drive at most two at these rails, so 6AU6s are asked for."""
-    design = write("design.yaml", "design: spread\ninputs: [a, b, c]\nsignals:\n  s: ~(a | b)\noutputs:\n"
-                                  "  y1: ~(s | c)\n  y2: ~(s | a)\n  y3: ~(s | b)\n")
-    stock = write("stock.yaml", STOCK.replace("12AT7: {count: 6}", "12AU7: {count: 10}")
-                  .replace("{count: 4}", "{count: 0}"))
+    """A net with five loads: 12AT7 stages drive at most four at these rails and a 12AT7 follower fails
+    its heater-cathode rating on the grounded winding, so 6AU6s are asked for."""
+    design = write("design.yaml", "design: spread\ninputs: [a, b, c, d, e]\nsignals:\n  s: ~(a | b)\noutputs:\n"
+                                  "  y1: ~(s | c)\n  y2: ~(s | a)\n  y3: ~(s | b)\n  y4: ~(s | d)\n  y5: ~(s | e)\n")
+    stock = write("stock.yaml", STOCK.replace("{count: 4}", "{count: 0}"))
     status, _, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "plan", "--quiet")
     assert status == 3
-    assert "the free 12AU7 sections will not do" in err and "a 12AU7 stage drives at most" in err
+    assert "the free 12AT7 sections will not do" in err and "a 12AT7 stage drives at most" in err
 
 
 def test_a_nearly_full_winding_is_a_warning(write, run_cli, tmp_path):
