@@ -80,6 +80,10 @@ def _tail(m: ModelParams) -> str:
     return f"*v(e1)*v(e1)/(v(e1)*v(e1)+{_num(m.tail_volts ** 2)})"
 
 
+_BOUND_VOLTS = 1e4
+"""Bound on the triode's internal voltages in the deck (far above any real one)."""
+
+
 def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
     """B-source lines for the plate (and screen) currents of one section."""
     ep = "max(v(p,k),0)"
@@ -89,8 +93,11 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
         drive = f"max(v(g,k)+{ep}/{_num(m.mu)},0)"
         return [f"Bp p k I={_num(m.perveance)}*pow({drive},1.5)"]
     if m.equation == "koren-triode":
+        # Bounded at 10 kV (far above any plate voltage here) so that Newton steps far outside the
+        # circuit's range (a follower's cathode swinging during a transient) cannot overflow the squares.
+        ep = f"min({ep},{_num(_BOUND_VOLTS)})"
         arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+(v(g,k)+{_num(m.vct or 0.0)})/sqrt({_num(m.kvb)}+{ep}*{ep}))"
-        return [f"Be1 e1 0 V={ep}/{_num(m.kp)}*{_softplus(arg)}",
+        return [f"Be1 e1 0 V=min({ep}/{_num(m.kp)}*{_softplus(arg)},{_num(_BOUND_VOLTS)})",
                 "Re1 e1 0 1G",
                 f"Bp p k I=2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]
     # Koren pentode; the screen voltage floor keeps Eg1/Eg2 finite at 0 V.
