@@ -24,10 +24,10 @@ from planner.electrical import Rails, design_family
 from planner.mapping import MappingOptions
 from planner.mapping.model import Infeasible, solve_problem
 from planner.mapping.multilevel import multilevel_networks
-from planner.mapping.planning import _fanout_limits, _synthesis_variants, _weights, design_rules
+from planner.mapping.planning import _repaired, _synthesis_variants, _weights, design_rules
 from planner.mapping.problem import build_problem
 from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock
-from planner.stages import insert_followers, prove, synthesise
+from planner.stages import prove, synthesise
 
 FIXTURES = Path(__file__).resolve().parent.parent / "tests" / "fixtures" / "synthesis"
 
@@ -51,7 +51,7 @@ def seeded_design(seed: int, n_inputs: int, n_outputs: int) -> Design:
 
 
 class Mapper:
-    """The planner's steps for one stock: family, variants, followers, integer program."""
+    """The planner's steps for one stock: family, variants, fan-out repair, integer program."""
 
     def __init__(self, stock):
         self.stock = stock
@@ -62,22 +62,25 @@ class Mapper:
         self.family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, self.rules)
         self.weights = _weights(stock, self.options)
         self.variants, self.fanin = _synthesis_variants(stock, self.family, self.rules, self.options)
-        self.limit = _fanout_limits(self.family, tuple(t.tube for t in stock.tubes))
 
     def envelopes(self, network, design) -> float | None:
-        try:
-            network = insert_followers(network, self.limit)
-        except ValueError:
-            return None
-        prove(network, design)
-        problem, ways = build_problem(network, self.family, self.stock, self.weights, diode_fanin=self.fanin)
-        if any(not ways[s.id] for s in network.stages):
-            return None
-        try:
-            counts = solve_problem(problem, solver="cbc", gap=0.0, time_limit_s=60)
-        except Infeasible:
-            return None
-        return dict(counts.terms)["envelopes"]
+        """Fewest envelopes over the network's fan-out repairs (as the planner tries them), or None."""
+        best = None
+        for _label, repaired, _reason in _repaired("", network, self.family, self.stock, self.fanin, {}, {},
+                                                   self.options):
+            if repaired is None:
+                continue
+            prove(repaired, design)
+            problem, ways = build_problem(repaired, self.family, self.stock, self.weights, diode_fanin=self.fanin)
+            if any(not ways[s.id] for s in repaired.stages):
+                continue
+            try:
+                counts = solve_problem(problem, solver="cbc", gap=0.0, time_limit_s=60)
+            except Infeasible:
+                continue
+            found = dict(counts.terms)["envelopes"]
+            best = found if best is None else min(best, found)
+        return best
 
     def two_level(self, design):
         start = time.perf_counter()

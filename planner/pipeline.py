@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import dataclasses
 import sys
+import time
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -28,6 +29,13 @@ def _progress(message: str) -> None:
     print(f"tubeplan: {message}", file=sys.stderr, flush=True)
 
 
+def _progress_since(start: float):
+    """A progress callback printing each line with the seconds elapsed since ``start``."""
+    def progress(message: str) -> None:
+        print(f"tubeplan: [{time.monotonic() - start:5.1f} s] {message}", file=sys.stderr, flush=True)
+    return progress
+
+
 def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
                options: MappingOptions | None = None, *, quiet: bool = False) -> PlanResult:
     """Plan ``design_path`` with ``stock_path`` and write the plan into ``out_dir``.
@@ -35,7 +43,9 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     Bad input raises planner.spec.InputError; a short stock gives ``planned=False``
     with the shortage as the summary, and writes nothing.
     """
-    progress = None if quiet else _progress
+    progress = None if quiet else _progress_since(time.monotonic())
+    if progress:
+        progress(f"reading {design_path} and {stock_path}")
     design = load_design(design_path)
     stock = load_stock(stock_path)
     inputs = (Path(design_path), Path(stock_path))
@@ -50,7 +60,7 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     if progress:
         progress(f"writing the plan into {out_dir}")
     files = write_plan(plan, Path(out_dir), stock=stock, design_path=Path(design_path),
-                       stock_path=Path(stock_path), notify=_progress)
+                       stock_path=Path(stock_path), notify=progress or _progress)
     return PlanResult(True, plan_summary(plan), tuple(files))
 
 

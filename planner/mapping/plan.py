@@ -334,6 +334,12 @@ class Plan:
     ``follower_low_volts`` or less from a follower. ``registers`` and
     ``clock``: the clocked registers (none for a combinational design);
     ``timing``: the delay estimate and, with registers, the highest safe clock.
+    ``tube_wear``: (type, fraction of nominal current) the family was designed
+    for, per amplifying type in the stock (its condition, else the rules'
+    wear); ``supply_tolerance``: the fractional supply tolerance it was
+    designed for (resistor tolerances are on the parts).
+    ``input_fanout_limits``: input -> the loads its source drives, where the
+    design declares it (the others are ideal sources).
     """
 
     design: str
@@ -354,3 +360,6 @@ class Plan:
     registers: tuple[PlacedRegister, ...] = ()
     clock: Clock | None = None
     timing: Timing | None = None
+    tube_wear: tuple[tuple[str, float], ...] = ()
+    supply_tolerance: float = 0.0
+    input_fanout_limits: tuple[tuple[str, int], ...] = ()

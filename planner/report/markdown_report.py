@@ -8,6 +8,7 @@ from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
 from .designators import counted
 from .content import ReportContent
+from .proof_section import simulation_markdown
 from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
                      stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
@@ -90,6 +91,7 @@ def report_markdown(content: ReportContent) -> str:
     if plan.timing is not None:
         out += ["## Timing", ""] + [line for text in timing_lines(plan) for line in (text, "")]
         out += [markdown_table(stage_timing_table(plan)), ""]
+    out += [simulation_markdown(), ""]
     out += [
             "## Bill of materials", "", markdown_table(bom_table(content.bom)), "",
             "## Wiring list", "", markdown_table(wiring_table(content.wiring)), ""]
