@@ -15,7 +15,7 @@ from collections.abc import Sequence
 from pathlib import Path
 
 import planner.catalogue
-from planner.catalogue.types import TubeType
+from planner.catalogue import TubeType
 from planner.diskcache import cache_dir, key_of, remembered, source_digest
 
 from .family import design_family
