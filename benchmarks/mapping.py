@@ -1,7 +1,7 @@
 """Benchmark of the stock-aware mapping (not a test): synthetic networks of 100, 1,000 and 5,000 branches.
 
 For each size: a random stage network (invented: AOI stages over earlier nets,
-seeded), followers where needed, the aggregated integer program solved to a
+seeded), fan-out repaired where needed (followers first), the aggregated integer program solved to a
 1 % gap (CBC, single thread), the placement and the full parts netlist; time,
 envelopes, and envelopes of a greedy first-fit baseline (each stage on the
 first type in name order with a template, stock and fan-out for it, sections
@@ -29,7 +29,7 @@ from planner.mapping.planning import _fanout_limits
 from planner.mapping.problem import DIODE_FANIN, build_problem
 from planner.spec import load_stock
 from planner.spec.design import Design, InputSpec, OutputSpec
-from planner.stages import Branch, Network, Stage, insert_followers
+from planner.stages import Branch, Network, Stage, repair_fanout
 
 # Invented data: a large box of tubes for the benchmark.
 STOCK = """\
@@ -109,8 +109,7 @@ def greedy(problem, ways_of, network) -> tuple[int, float]:
 def run(branches: int, stock, family, rules) -> None:
     network = synthetic_network(branches)
     start = time.perf_counter()
-    names = tuple(t.tube for t in stock.tubes)
-    network = insert_followers(network, _fanout_limits(family, names))
+    network = repair_fanout(network, _fanout_limits(family, stock, DIODE_FANIN), strategy="followers")
     weights = Weights(stock.objective.envelopes, stock.objective.heater_watts, stock.objective.scarce)
     problem, ways_of = build_problem(network, family, stock, weights, diode_fanin=DIODE_FANIN)
     built = time.perf_counter()

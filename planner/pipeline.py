@@ -60,3 +60,32 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     files = write_plan(plan, Path(out_dir), stock=stock, design_path=Path(design_path),
                        stock_path=Path(stock_path), notify=progress or _progress)
     return PlanResult(True, plan_summary(plan), tuple(files))
+
+
+def network_document(design_path: Path, stock_path: Path | None = None) -> dict:
+    """The candidate stage networks for ``tubeplan logic --networks``: which is chosen, and each one's needs.
+
+    With a stock: the planner's own candidates (``Solution.networks``), each with its stages,
+    sections and envelopes, the chosen one the best plan (raises :class:`Shortage` when none
+    fits).  Without: the project's two-level network and the multi-level one, both under
+    the default stage options (dual-control branches, no diodes), the chosen one the fewer
+    sections (then stages).  ``{"chosen": label, "networks": [{"network", "stages", "sections",
+    "envelopes", "note"}]}``.
+    """
+    from planner.stages import SynthesisOptions, multilevel, synthesise
+
+    design = load_design(design_path)
+    if stock_path is not None:
+        plan = plan_design(design, load_stock(stock_path), MappingOptions(progress=_progress))
+        rows = [{"network": n.label, "stages": n.stages, "sections": n.sections, "envelopes": n.envelopes,
+                 "note": n.note} for n in plan.solution.networks]
+        return {"chosen": plan.solution.network, "networks": rows}
+    view = design.combinational()
+    options = SynthesisOptions()
+    rows = []
+    for label, network in (("two-level", synthesise(view, options).network),
+                           ("multi-level", multilevel(view, options).network)):
+        rows.append({"network": label, "stages": len(network.stages), "sections": network.cost().sections,
+                     "envelopes": None, "note": ""})
+    chosen = min(rows, key=lambda r: (r["sections"], r["stages"]))["network"]
+    return {"chosen": chosen, "networks": rows}

@@ -19,8 +19,8 @@ def test_required_fields_of_the_contract():
     doc = json.loads(plan_json(fixture_plan()))
     assert doc["schema"] == SCHEMA == 2
     assert doc["design"] == "fixture-gates"
-    assert doc["inputs"] == [{"name": "a", "complement_available": False},
-                             {"name": "b", "complement_available": True}]
+    assert doc["inputs"] == [{"name": "a", "complement_available": False, "fanout_limit": None},
+                             {"name": "b", "complement_available": True, "fanout_limit": None}]
     assert doc["outputs"] == {"w": "n3", "y": "n1", "z": "n2"}
     assert doc["forms"]["z"] == "~(a & ~b)"
     stages = {s["id"]: s for s in doc["stages"]}

@@ -14,7 +14,7 @@ from hypothesis import strategies as st
 
 from planner.logic import table_from_expr
 from planner.spec import Design, InputSpec, OutputSpec, SignalSpec
-from planner.stages import SynthesisOptions, insert_followers, prove, simulate, synthesise
+from planner.stages import STRATEGIES, SynthesisOptions, prove, repair_fanout, simulate, synthesise
 
 MODES = [
     SynthesisOptions(),
@@ -111,14 +111,14 @@ def test_random_designs_are_proven_in_every_mode(d, options):
 
 
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(designs())
-def test_random_designs_with_followers_at_fanout_two(d):
-    """insert_followers at fan-out 2 keeps the function and meets the limit everywhere."""
-    network = insert_followers(synthesise(d).network, 2)
+@given(designs(), st.sampled_from(STRATEGIES))
+def test_random_designs_repaired_at_fanout_two(d, strategy):
+    """repair_fanout at fan-out 2 (followers 3) keeps the function and meets the limit everywhere."""
+    limit = lambda s: 3 if s.kind == "follower" else 2  # noqa: E731
+    network = repair_fanout(synthesise(d).network, limit, strategy=strategy)
     _check(network, d, SynthesisOptions())
     counts = network.load_counts()
-    driven = {s.output for s in network.stages}
-    assert all(counts[net] <= 2 for net in driven)
+    assert all(counts[s.output] <= limit(s) for s in network.stages)
 
 
 @pytest.mark.fuzz_long
@@ -127,4 +127,4 @@ def test_random_designs_with_followers_at_fanout_two(d):
 def test_random_designs_long_run(d, options):
     """The long run of the same property (``pytest -m fuzz_long``)."""
     _check(synthesise(d, options).network, d, options)
-    _check(insert_followers(synthesise(d, options).network, 2), d, options)
+    _check(repair_fanout(synthesise(d, options).network, lambda s: 2, strategy="duplicates"), d, options)

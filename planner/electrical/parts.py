@@ -9,7 +9,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
-from planner.catalogue.types import FrozenMap
+from planner.catalogue import FrozenMap
 
 from .rules import DesignRules, Rails
 

@@ -129,7 +129,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
                 tuple((name, network.forms[name]) for name in names if name in network.forms),
                 tuple(placed), tuple(envelopes), tuple(parts), budget, stock_use, solution,
                 stock.plate.volts, stock.bias.volts, family.high_min_volts, family.low_max_volts,
-                family.follower_low_max_volts, registers, clock)
+                family.follower_low_max_volts, registers, clock,
+                input_fanout_limits=tuple((i.name, i.fanout) for i in design.inputs if i.fanout is not None))
 
 
 def _registers(design, network, stock, placement: Placement, net: NetlistBuilder, uses: dict,

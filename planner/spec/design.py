@@ -10,7 +10,7 @@ from typing import TYPE_CHECKING
 from .errors import InputError
 from .expressions import expression_names, is_valid_name, parse_expression
 from .fields import (check_keys, check_not_swapped, describe, describe_name, expect_list, expect_mapping, get_bool,
-                     get_text, line_of)
+                     get_int, get_text, line_of)
 from .yamlfile import Mapping, YamlFile, read_yaml
 
 if TYPE_CHECKING:  # sympy is loaded only when an expression is parsed or built
@@ -28,10 +28,15 @@ _RESERVED_NET = re.compile(r"n[0-9]+")
 
 @dataclass(frozen=True)
 class InputSpec:
-    """A primary input; ``complement`` means its inverse is available as net ``~name``."""
+    """A primary input; ``complement`` means its inverse is available as net ``~name``.
+
+    ``fanout``: the most loads its source drives on each of its nets (None: an
+    ideal source, any number).
+    """
 
     name: str
     complement: bool = False
+    fanout: int | None = None
 
 
 @dataclass(frozen=True)
@@ -320,19 +325,20 @@ def _read_inputs(file: YamlFile, top: Mapping) -> tuple[InputSpec, ...]:
     inputs = []
     for item, line in zip(items, items.lines):
         if isinstance(item, Mapping):
-            check_keys(file, item, ("name", "complement"), "an input", required=("name",))
+            check_keys(file, item, ("name", "complement", "fanout"), "an input", required=("name",))
             name = item["name"]
             complement = get_bool(file, item, "complement", f"input {name!r}", default=False)
+            fanout = get_int(file, item, "fanout", f"input {name!r}", default=None, minimum=1)
             line = line_of(item, "name")
         else:
-            name, complement = item, False
+            name, complement, fanout = item, False, None
         if not isinstance(name, str):
             raise file.error(line, f"an input name must be text, found {describe_name(name)}")
         _check_name(file, line, name, "input")
         if name in seen:
             raise file.error(line, f"input {name!r} is listed twice (first on line {seen[name]})")
         seen[name] = line
-        inputs.append(InputSpec(name, complement))
+        inputs.append(InputSpec(name, complement, fanout))
     return tuple(inputs)
 
 
