@@ -13,7 +13,17 @@ Times are wall-clock (time.perf_counter) with the process CPU time beside
 ours; CBC runs in a child process of the worker, so its CPU time shows only
 in the wall-clock figure.  The machine may be shared: compare ratios.
 
-Run:  /tmp/venv/bin/python benchmarks/minimise.py          (2-4 minutes)
+Two further tables (``--extra`` runs only these):
+
+- 10 inputs with 20 % don't-cares (on 0.4, don't-care 0.2), f and ~f each
+  minimised on its own, as ``tubeplan logic`` and synthesis do: seconds,
+  proven or the gap to the LP bound (goal: each within 2 s, the exact cover's
+  budget being 1 s);
+- 18- and 20-input blocks, a seeded random function and a seeded sum of 40
+  products of 2-6 literals each: seconds and the worker's peak resident
+  memory (goal: under 500 MiB).
+
+Run:  python3 benchmarks/minimise.py [--extra]          (2-4 minutes; --extra about 2)
 """
 
 from __future__ import annotations
@@ -31,7 +41,7 @@ SOPFORM_FUNCTIONS = {6: 5, 8: 5, 9: 5, 10: 2}
 SOPFORM_TIMEOUT_S = 120
 
 
-def random_function(n: int, seed: int) -> tuple[list[int], list[int]]:
+def random_function(n: int, seed: int, dont_care: float = 0.1) -> tuple[list[int], list[int]]:
     """On-set and don't-care minterms of a seeded random function of n inputs."""
     rng = random.Random(seed)
     on, dc = [], []
@@ -39,9 +49,68 @@ def random_function(n: int, seed: int) -> tuple[list[int], list[int]]:
         u = rng.random()
         if u < 0.4:
             on.append(i)
-        elif u < 0.5:
+        elif u < 0.4 + dont_care:
             dc.append(i)
     return on, dc
+
+
+def extra_worker(kind: str, n: int, seed: int) -> dict:
+    """One measurement of the extra tables in this (fresh) process (see the module docstring)."""
+    import resource
+
+    from planner.logic import TruthTable, minimise, table_from_minterms
+    from planner.logic.table import Space
+
+    names = tuple(f"x{k}" for k in range(n))
+    if kind in ("dc20-f", "dc20-not-f"):
+        on, dc = random_function(n, seed, dont_care=0.2)
+        table = table_from_minterms(names, on, dc)
+        table = table if kind == "dc20-f" else table.complement()
+    elif kind == "random":
+        rng = random.Random(seed)
+        bits = rng.getrandbits(2 << n)  # two bits per assignment: on 1/4, don't-care 1/4 of the rest
+        on = dc = 0
+        for i in range(1 << n):
+            pair = bits >> (2 * i) & 3
+            on |= (pair == 0) << i
+            dc |= (pair == 1) << i
+        table = TruthTable(names, on, dc)
+    else:  # a sum of 40 products
+        rng = random.Random(seed)
+        space = Space(n)
+        on = 0
+        for _ in range(40):
+            chosen = rng.sample(range(n), rng.randint(2, 6))
+            mask = sum(1 << p for p in chosen)
+            on |= space.cube_bits(mask, mask & rng.getrandbits(n))
+        table = TruthTable(names, on)
+    minimise(table_from_minterms(("a", "b", "c"), [0, 1, 2, 5, 6, 7]))  # warm-up (one CBC call)
+    start = time.perf_counter()
+    cover = minimise(table)
+    seconds = time.perf_counter() - start
+    return {"seconds": seconds, "literals": cover.literals, "terms": cover.terms, "exact": cover.exact,
+            "gap": cover.gap, "peak_mib": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024}
+
+
+def extra_main() -> None:
+    """The two extra tables of the module docstring."""
+    print("10 inputs, 20 % don't-cares, each polarity on its own (goal: within 2 s, proven or with its gap)")
+    print("| seed | polarity | seconds | literals | proven | gap |")
+    print("|---:|---|---:|---:|---|---:|")
+    for seed in range(5):
+        for kind, label in (("dc20-f", "f"), ("dc20-not-f", "~f")):
+            r = measure(kind, 10, 9000 + seed, extra=True)
+            gap = "" if r["exact"] else f"{r['gap'] * 100:.1f} %"
+            print(f"| {9000 + seed} | {label} | {r['seconds']:.2f} | {r['literals']} | "
+                  f"{'yes' if r['exact'] else 'no'} | {gap} |", flush=True)
+    print("\nLarge blocks (goal: under 500 MiB peak)")
+    print("| inputs | function | seconds | products | literals | peak RSS |")
+    print("|---:|---|---:|---:|---:|---:|")
+    for n in (18, 20):
+        for kind, label in (("sop", "sum of 40 products"), ("random", "random, 1/4 on, 3/16 don't-care")):
+            r = measure(kind, n, 7000 + n, extra=True)
+            print(f"| {n} | {label} | {r['seconds']:.1f} | {r['terms']} | {r['literals']} | "
+                  f"{r['peak_mib']:.0f} MiB |", flush=True)
 
 
 def _literals(expr) -> int:
@@ -90,10 +159,11 @@ def worker(kind: str, n: int, seed: int) -> dict:
     return {"seconds": seconds, "cpu": cpu, "literals": literals, "exact": exact, "peak_mib": peak_mib}
 
 
-def measure(kind: str, n: int, seed: int, timeout_s: float | None = None) -> dict | None:
-    """Run :func:`worker` in a subprocess; None if it exceeds ``timeout_s``."""
+def measure(kind: str, n: int, seed: int, timeout_s: float | None = None, extra: bool = False) -> dict | None:
+    """Run :func:`worker` (or :func:`extra_worker`) in a subprocess; None if it exceeds ``timeout_s``."""
     try:
-        done = subprocess.run([sys.executable, __file__, "--worker", kind, str(n), str(seed)],
+        done = subprocess.run([sys.executable, __file__, "--extra-worker" if extra else "--worker", kind,
+                               str(n), str(seed)],
                               capture_output=True, text=True, timeout=timeout_s, check=True)
     except subprocess.TimeoutExpired:
         return None
@@ -156,5 +226,11 @@ def main() -> None:
 if __name__ == "__main__":
     if len(sys.argv) == 5 and sys.argv[1] == "--worker":
         print(json.dumps(worker(sys.argv[2], int(sys.argv[3]), int(sys.argv[4]))))
+    elif len(sys.argv) == 5 and sys.argv[1] == "--extra-worker":
+        print(json.dumps(extra_worker(sys.argv[2], int(sys.argv[3]), int(sys.argv[4]))))
+    elif sys.argv[1:] == ["--extra"]:
+        extra_main()
     else:
         main()
+        print()
+        extra_main()

@@ -4,7 +4,8 @@ Exit statuses: 0 done (also bare ``tubeplan``, which prints the help); 1
 internal error (one line and a hint; traceback with ``--debug``); 2 a mistake
 in the user's files, options or output path (one ``FILE:LINE: message`` on
 stderr); 3 the stock or supplies cannot carry the design (what is short, on
-stderr).
+stderr); 4 ``prove`` (or ``plan --prove``) found a wrong vector or a negative
+margin.
 """
 
 from __future__ import annotations
@@ -14,9 +15,10 @@ import json
 import math
 import os
 import sys
+import time
 from pathlib import Path
 
-EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT = 0, 1, 2, 3
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT, EXIT_UNPROVEN = 0, 1, 2, 3, 4
 
 #: The bundled demo, planned by ``tubeplan plan`` with no arguments: package data, a link to the
 #: project's top-level ``inventory_demo/`` in the source tree.
@@ -83,6 +85,9 @@ def _add_plan(subparsers) -> None:
                         help="flatten named signals into blocks of at most N inputs and minimise them again")
     parser.add_argument("--quiet", action="store_true",
                         help="no progress lines on stderr; the last line still says where the report is")
+    parser.add_argument("--prove", action="store_true",
+                        help="then prove the plan in ngspice (as tubeplan prove OUT; skipped, with a note, when "
+                             "ngspice is absent)")
     parser.set_defaults(run=_run_plan)
 
 
@@ -113,15 +118,68 @@ def _run_plan(args) -> int:
     out = Path(args.out) if args.out else DEMO_OUT
     options = MappingOptions(time_limit_s=args.time_limit or DEFAULT_TIME_LIMIT_S, solver=args.solver,
                              mode=args.objective, synthesis_mode=args.gates, flatten_limit=args.flatten)
-    result = plan_files(design, stock, out, options, quiet=args.quiet)
+    from planner.logic import BlockTooLarge
+
+    try:
+        result = plan_files(design, stock, out, options, quiet=args.quiet)
+    except BlockTooLarge as problem:
+        raise InputError(design, 0, f"a block is beyond the minimiser's limits: {problem}; "
+                                    "split it into named signals") from None
     if not result.planned:
         print(result.summary, file=sys.stderr)
         return EXIT_SHORT
     print(result.summary)
     print()
     print(CAUTION)
+    status = EXIT_OK
+    if args.prove:
+        from planner.prove import NgspiceMissing, find_ngspice
+
+        try:
+            find_ngspice()
+        except NgspiceMissing as missing:
+            print(f"tubeplan: --prove skipped: {missing}", file=sys.stderr)
+        else:
+            print()
+            status = _prove(out, quiet=args.quiet)
     print(f"plan written to {out}{os.sep}; report: {out / 'report.html'}")
-    return EXIT_OK
+    return status
+
+
+# --- prove --------------------------------------------------------------------------------
+
+def _add_prove(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "prove", help="prove a plan directory's SPICE deck in ngspice at nominal and worst-case corners",
+        description="Run the plan directory's own plan.cir (as written) in ngspice over every input vector "
+                    "(a seeded sample of 4096 above 4096) at nominal and at corners (tube "
+                    "wear, supply and resistor tolerances); registers over clock cycles at the plan's clock. "
+                    "Writes prove.json and the reports' simulation section. Exit 0 proven, 4 a wrong vector or "
+                    "a negative margin, 2 a bad directory or no ngspice.")
+    parser.add_argument("directory", metavar="DIR", help="a plan directory (the --out of tubeplan plan)")
+    parser.add_argument("--seed", type=int, default=1, help="seed of the vector sample (default 1)")
+    parser.add_argument("--ngspice", metavar="PATH", help="the ngspice executable (default: ngspice on PATH)")
+    parser.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    parser.set_defaults(run=_run_prove)
+
+
+def _run_prove(args) -> int:
+    return _prove(Path(args.directory), quiet=args.quiet, executable=args.ngspice, seed=args.seed)
+
+
+def _prove(directory: Path, *, quiet: bool, executable: str | None = None, seed: int = 1) -> int:
+    from planner.prove import NgspiceFailed, NgspiceMissing, format_proof, prove_directory, say
+
+    try:
+        proof, _ = prove_directory(directory, executable=executable, seed=seed, say=None if quiet else say)
+    except NgspiceMissing as missing:
+        print(f"tubeplan: {missing}", file=sys.stderr)
+        return EXIT_INPUT
+    except NgspiceFailed as failed:
+        print(f"{directory / 'plan.cir'}:0: ngspice cannot run the deck: {failed.reason}", file=sys.stderr)
+        return EXIT_INPUT
+    print(format_proof(proof))
+    return EXIT_OK if proof.holds else EXIT_UNPROVEN
 
 
 # --- tubes --------------------------------------------------------------------------------
@@ -220,35 +278,71 @@ def _add_logic(subparsers) -> None:
                     "counts and whether each form is proven minimum.")
     parser.add_argument("design", help="design file (YAML)")
     parser.add_argument("--json", action="store_true", help="print one JSON document")
+    parser.add_argument("--cover-budget", type=float, default=1.0, metavar="SECONDS",
+                        help="time for each exact minimum (default 1 s); past it the best cover found is "
+                             "given with its gap to a proven lower bound")
+    parser.add_argument("--networks", action="store_true",
+                        help="also build the candidate stage networks (two-level and multi-level) and say "
+                             "how many stages each needs and which is chosen")
+    parser.add_argument("--stock", help="with --networks: plan on this stock file and give each candidate's "
+                                        "envelopes (the chosen one is the plan's)")
     parser.set_defaults(run=_run_logic)
 
 
 def _run_logic(args) -> int:
-    from planner.logic import MAX_TABLE_INPUTS, design_support, design_table, format_forms, forms, forms_document
+    from planner.logic import (MAX_TABLE_INPUTS, BlockTooLarge, format_forms, forms, forms_document, output_support,
+                               output_table)
     from planner.spec import InputError, load_design
 
+    start = time.monotonic()
     design = load_design(args.design).combinational()
     rows = []
     for output in design.outputs:
-        names = design_support(design, output.expr, output.dont_care)
+        names = output_support(design, output)
         if len(names) > MAX_TABLE_INPUTS:
             raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
                              f"output {output.name!r} depends on {len(names)} inputs; tubeplan logic "
                              f"minimises outputs of at most {MAX_TABLE_INPUTS} inputs")
         if len(names) > 10:
-            print(f"tubeplan logic: minimising {output.name} over {len(names)} inputs ...", file=sys.stderr,
-                  flush=True)
-        rows.append((output.name, forms(design_table(design, output.expr, output.dont_care, names))))
+            print(f"tubeplan logic: [{time.monotonic() - start:5.1f} s] minimising {output.name} over "
+                  f"{len(names)} inputs (both polarities) ...", file=sys.stderr, flush=True)
+        try:
+            rows.append((output.name, forms(output_table(design, output, names), cover_budget_s=args.cover_budget)))
+        except BlockTooLarge as problem:
+            raise InputError(design.path, design.lines.get("outputs", {}).get(output.name, 0),
+                             f"output {output.name!r} is beyond the minimiser's limits: {problem}; "
+                             "split it into named signals") from None
+    document = forms_document(rows)
+    if args.stock and not args.networks:
+        raise InputError("<command line>", 0, "--stock goes with --networks")
+    if args.networks:
+        from planner.mapping import Shortage
+        from planner.pipeline import network_document
+
+        try:
+            document["networks"] = network_document(Path(args.design), Path(args.stock) if args.stock else None)
+        except Shortage as short:
+            print(f"tubeplan logic: the stock cannot carry the design: {short.message}", file=sys.stderr)
+            return EXIT_SHORT
     if args.json:
-        _print_json(forms_document(rows))
-    else:
-        print(format_forms(rows))
+        _print_json(document)
+        return EXIT_OK
+    print(format_forms(rows))
+    if args.networks:
+        from tabulate import tabulate
+
+        networks = document["networks"]
+        table = [[n["network"], n["stages"], n["sections"], "" if n["envelopes"] is None else f"{n['envelopes']:g}",
+                  "chosen" if n["network"] == networks["chosen"] else n["note"]] for n in networks["networks"]]
         print()
-        print(CAUTION)
+        print(f"stage network chosen: {networks['chosen']}")
+        print(tabulate(table, headers=["network", "stages", "sections", "envelopes", ""]))
+    print()
+    print(CAUTION)
     return EXIT_OK
 
 
-_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_stage, _add_logic)
+_SUBCOMMANDS = (_add_tubes, _add_check, _add_plan, _add_prove, _add_stage, _add_logic)
 
 
 class _Parser(argparse.ArgumentParser):

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import dataclasses
 import sys
+import time
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -28,6 +29,13 @@ def _progress(message: str) -> None:
     print(f"tubeplan: {message}", file=sys.stderr, flush=True)
 
 
+def _progress_since(start: float):
+    """A progress callback printing each line with the seconds elapsed since ``start``."""
+    def progress(message: str) -> None:
+        print(f"tubeplan: [{time.monotonic() - start:5.1f} s] {message}", file=sys.stderr, flush=True)
+    return progress
+
+
 def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
                options: MappingOptions | None = None, *, quiet: bool = False) -> PlanResult:
     """Plan ``design_path`` with ``stock_path`` and write the plan into ``out_dir``.
@@ -35,7 +43,9 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     Bad input raises planner.spec.InputError; a short stock gives ``planned=False``
     with the shortage as the summary, and writes nothing.
     """
-    progress = None if quiet else _progress
+    progress = None if quiet else _progress_since(time.monotonic())
+    if progress:
+        progress(f"reading {design_path} and {stock_path}")
     design = load_design(design_path)
     stock = load_stock(stock_path)
     inputs = (Path(design_path), Path(stock_path))
@@ -50,5 +60,34 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     if progress:
         progress(f"writing the plan into {out_dir}")
     files = write_plan(plan, Path(out_dir), stock=stock, design_path=Path(design_path),
-                       stock_path=Path(stock_path), notify=_progress)
+                       stock_path=Path(stock_path), notify=progress or _progress)
     return PlanResult(True, plan_summary(plan), tuple(files))
+
+
+def network_document(design_path: Path, stock_path: Path | None = None) -> dict:
+    """The candidate stage networks for ``tubeplan logic --networks``: which is chosen, and each one's needs.
+
+    With a stock: the planner's own candidates (``Solution.networks``), each with its stages,
+    sections and envelopes, the chosen one the best plan (raises :class:`Shortage` when none
+    fits).  Without: the project's two-level network and the multi-level one, both under
+    the default stage options (dual-control branches, no diodes), the chosen one the fewer
+    sections (then stages).  ``{"chosen": label, "networks": [{"network", "stages", "sections",
+    "envelopes", "note"}]}``.
+    """
+    from planner.stages import SynthesisOptions, multilevel, synthesise
+
+    design = load_design(design_path)
+    if stock_path is not None:
+        plan = plan_design(design, load_stock(stock_path), MappingOptions(progress=_progress))
+        rows = [{"network": n.label, "stages": n.stages, "sections": n.sections, "envelopes": n.envelopes,
+                 "note": n.note} for n in plan.solution.networks]
+        return {"chosen": plan.solution.network, "networks": rows}
+    view = design.combinational()
+    options = SynthesisOptions()
+    rows = []
+    for label, network in (("two-level", synthesise(view, options).network),
+                           ("multi-level", multilevel(view, options).network)):
+        rows.append({"network": label, "stages": len(network.stages), "sections": network.cost().sections,
+                     "envelopes": None, "note": ""})
+    chosen = min(rows, key=lambda r: (r["sections"], r["stages"]))["network"]
+    return {"chosen": chosen, "networks": rows}

@@ -28,6 +28,15 @@ outputs:
 """
 
 
+@pytest.fixture(autouse=True, scope="session")
+def family_cache_in_tmp(tmp_path_factory):
+    """The logic-family cache of every test (and the commands they start) lives in a temporary
+    directory, shared by the session, never in the user's own cache."""
+    with pytest.MonkeyPatch.context() as patch:
+        patch.setenv("TUBEPLAN_CACHE_DIR", str(tmp_path_factory.mktemp("family-cache")))
+        yield
+
+
 @pytest.fixture
 def write(tmp_path):
     """write(name, text) -> path of a file with dedented ``text`` in a fresh directory."""

@@ -80,7 +80,13 @@ def _netlist(tube, b: Bistable, swing: float, period: float, cycles: int, toggle
                   f"RS{k} {level} x{k} {b.steering_ohms!r}", f"D{k} g{k} x{k} d_silicon",
                   f"CWP{k} p{k} 0 {WIRING_PF}p", f"CWG{k} g{k} 0 {WIRING_PF}p", f"CWX{k} x{k} 0 {WIRING_PF}p",
                   f"RLA{k} p{k} l{k} {b.upper_ohms!r}", f"RLB{k} l{k} bias {b.lower_ohms!r}", f"XL{k} bp l{k} 0 {sub}"]
-    lines += [".ic v(p2)=40 v(p1)=170 v(g1)=-30 v(g2)=0", ".control", f"tran 1u {(cycles + 0.6) * period!r} uic"]
+    # Start in the reset state at the bistable's own levels (p1 high, p2 low), each grid where its divider puts it
+    # (the conducting side's grid clamped near 0 V), so the start itself gives no kick through the capacitors.
+    def divided(plate: float) -> float:
+        return (plate * b.lower_ohms + RAILS.bias_volts * b.upper_ohms) / (b.upper_ohms + b.lower_ohms)
+    ic = (f".ic v(p1)={b.high_volts!r} v(p2)={b.low_volts!r} v(g1)={divided(b.low_volts)!r} "
+          f"v(g2)={min(0.0, divided(b.high_volts))!r}")
+    lines += [ic, ".control", f"tran 1u {(cycles + 0.6) * period!r} uic"]
     lines += [f"meas tran q{k} FIND v(p2) AT={(k + 0.45) * period!r}" for k in range(cycles + 1)]
     mid = 0.5 * (b.high_volts + b.low_volts)
     lines += [f"meas tran flip WHEN v(p2)={mid!r} RISE=1", f"meas tran flop WHEN v(p1)={mid!r} FALL=1", ".endc", ".end"]

@@ -71,7 +71,7 @@ def test_plans_are_byte_identical_across_hash_seeds(tmp_path):
     """Two processes with different PYTHONHASHSEED values write the same bytes (issue: determinism)."""
     runs = []
     for seed in ("0", "4242"):
-        env = dict(os.environ, PYTHONHASHSEED=seed)
+        env = dict(os.environ, PYTHONHASHSEED=seed, TUBEPLAN_CACHE_DIR="")  # no cache: both compute everything
         out = tmp_path / f"plan_{seed}"
         runs.append((out, subprocess.Popen(_plan_command(DEMO_DESIGN, "--stock", DEMO_STOCK, "--out", out),
                                            env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE)))

@@ -41,7 +41,7 @@ def test_json_forms_equal_each_output_on_its_care_set(write, run_cli):
     table = document["outputs"]["table"]  # d, c in design order is c, d: on at c=d
     assert table["sop"] == "c | ~d" and table["literals"]["sop"] == 2
     assert document["outputs"]["one"] == {"sop": "1", "inverted": "1", "literals": {"sop": 0, "inverted": 0},
-                                          "exact": True}
+                                          "exact": True, "gap": {"sop": 0.0, "inverted": 0.0}}
 
 
 def test_text_table_shows_both_polarities(write, run_cli):

@@ -27,8 +27,9 @@ from test_report_spice import needs_ngspice
 DEMO = Path(__file__).resolve().parent.parent / "inventory_demo"
 
 # Invented designs and stocks (test fixtures), each of up to 5 inputs. With these stocks the
-# planner builds "vote" from diode ANDs (solid-state diodes on 6AU6 and 5915 sections) and
-# "vote-multigrid" from NAND-2 stages on the two control grids of the 5915.
+# planner builds "vote" from diode ANDs (solid-state diodes on 6AU6 and 5915 sections),
+# "vote-multigrid" from NAND-2 stages on the two control grids of the 5915 and
+# "compare-triode" on a multi-level network of triode stages.
 VOTE = """\
     design: vote-and-parity
     inputs: [a, b, c]
@@ -97,6 +98,24 @@ INVENTED = {
           6AU6: {count: 12, reserve: 1}
         diodes: solid-state
         prices: {resistor: 0.05, socket: 1.20, diode: 0.10}
+        """),
+    # Dual triodes only: here the multi-level network (outputs sharing stages) needs the fewest envelopes.
+    "compare-triode": ("""\
+        design: two-bit-compare-triodes
+        inputs: [a1, a0, b1, b0]
+        outputs:
+          gt: a1 & ~b1 | ~(a1 ^ b1) & a0 & ~b0
+          eq: ~(a1 ^ b1) & ~(a0 ^ b0)
+          lt: ~a1 & b1 | ~(a1 ^ b1) & ~a0 & b0
+        """, """\
+        supplies:
+          plate: {volts: 170, max_ma: 300}
+          bias: {volts: -90, max_ma: 80}
+          heater:
+            - {id: H1, volts: 6.3, max_amps: 8}
+        tubes:
+          12AU7: {count: 30}
+        diodes: none
         """),
     "vote-multigrid": (VOTE, """\
         supplies:
@@ -221,6 +240,19 @@ def test_the_cases_cover_every_branch_kind(planned):
     """Between them the end-to-end cases use single, dual-control and diode-AND branches."""
     means = {b.means for case in CASES[1:] for s in planned(case)[2].stages for b in s.branches}
     assert {"single", "dual", "diode"} <= means
+
+
+def test_a_case_is_built_on_a_multilevel_network(planned):
+    """The ngspice run above covers a plan built on a multi-level network; plan.json lists every
+    candidate network with its stages and envelopes, the chosen one the fewest envelopes."""
+    _, _, plan, out, _, _ = planned("compare-triode")
+    assert plan.solution.network.startswith("multi-level")
+    doc = json.loads((out / "plan.json").read_text())["solution"]
+    tried = {n["network"]: n for n in doc["networks"]}
+    assert doc["network"] in tried and any(not label.startswith("multi-level") for label in tried)
+    chosen = tried[doc["network"]]
+    assert chosen["stages"] == len(plan.stages) and chosen["envelopes"] == len(plan.envelopes)
+    assert all(n["envelopes"] is None or n["envelopes"] >= chosen["envelopes"] for n in tried.values())
 
 
 @pytest.mark.parametrize("case", CASES)

@@ -65,11 +65,12 @@ def test_deck_structure():
     assert f".param logic_high={plan.high_volts:g} logic_low={plan.low_volts:g}" in text
     assert "V_in_a a 0 {in_a*logic_high + (1-in_a)*logic_low}" in text
     assert "V_not_in_b not_b 0 {(1-in_b)*logic_high + in_b*logic_low}" in text
-    assert "V_bplus bplus 0 225" in text and "V_bias bias 0 -95" in text
+    assert "V_bplus bplus 0 {225*supply_bplus}" in text and "V_bias bias 0 {-95*supply_bias}" in text
+    assert ".param supply_bplus=1 supply_bias=1 supply_tol=0 rdir=0" in text  # corner parameters at nominal
     assert "V_out_z n2 out_z 0" in text
     assert text.count(".subckt TP_12AU7_TRIODE") == 1 and text.count(".subckt TP_5915_DUAL") == 1
     assert "XV2_1 n2 s2_g2 s2_g1 s2_g3 0 TP_5915_DUAL" in text  # pin order: catalogue spice_nodes
-    assert text.rstrip().endswith(".op\n.end") and "R12 n3 bias 100000" in text
+    assert text.rstrip().endswith(".op\n.end") and "R12 n3 bias {100000*(1-0.05*rdir)}" in text  # cathode load
     assert "h1" not in _nodes_of(_top_level(text))  # heaters are not in the DC logic circuit
     assert deck.with_inputs({"a": 1}).count(".param in_a=1") == 1
     assert ".param in_b=0" in deck.with_inputs({"a": 1})

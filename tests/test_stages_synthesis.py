@@ -152,7 +152,7 @@ def test_a_wrong_network_fails_the_proof():
 
 
 def test_proof_by_sat_above_twenty_inputs():
-    """21 inputs: the proof goes through planner.logic's SAT check (sympy's satisfiable)."""
+    """21 inputs: the proof goes through planner.logic's SAT check (CaDiCaL)."""
     names = [f"x{i}" for i in range(21)]
     d = Design("wide", "<test>", tuple(InputSpec(n) for n in names), (),
                (OutputSpec("y", parse_expression("x0 & x1 | x20"), sympy.false, ""),))

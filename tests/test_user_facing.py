@@ -87,8 +87,12 @@ def test_an_unwritable_output_directory_is_exit_2(tmp_path, write, run_cli, monk
     design, stock = write("design.yaml", DESIGN), write("stock.yaml", STOCK)
     out = tmp_path / "plan"
 
+    real_mkdtemp = write_module.tempfile.mkdtemp
+
     def refused(*args, **kwargs):  # what a read-only directory or mount answers, even for root
-        raise PermissionError(13, "Permission denied", str(tmp_path))
+        if Path(kwargs.get("dir", "")) == tmp_path:
+            raise PermissionError(13, "Permission denied", str(tmp_path))
+        return real_mkdtemp(*args, **kwargs)
 
     monkeypatch.setattr(write_module.tempfile, "mkdtemp", refused)
     status, stdout, err = run_cli("plan", design, "--stock", stock, "--out", out, "--quiet")
@@ -207,7 +211,7 @@ def test_yaml_hints(write, run_cli, text, line, hint):
 
 def test_swapped_design_and_stock_get_a_hint(write, run_cli, tmp_path):
     design, stock = write("design.yaml", DESIGN), write("stock.yaml", STOCK)
-    status, _, err = run_cli("plan", stock, "--stock", design, "--out", tmp_path / "plan")
+    status, _, err = run_cli("plan", stock, "--stock", design, "--out", tmp_path / "plan", "--quiet")
     assert status == 2 and _one_line(err).startswith(f"{stock}:1: ") and "swapped?" in err
     status, _, err = run_cli("check", design, "--stock", design)
     assert status == 2 and _one_line(err).startswith(f"{design}:1: ") and "swapped?" in err
@@ -231,15 +235,31 @@ def test_a_plate_supply_above_every_rating_names_the_rating(write, run_cli, tmp_
     assert "fan-out" not in err and "driver allows" not in err
 
 
+SPREAD = ("design: spread\ninputs: [a, b, c]\nsignals:\n  s: ~(a | b)\noutputs:\n"
+          "  y1: ~(s | c)\n  y2: ~(s | a)\n  y3: ~(s | b)\n")
+# Invented bench: only a 12.6 V winding. The 6SN7's heater is 6.3 V only (6SN7 heater 6.3 V, as in
+# the shared reference data), the 12AU7's 6.3 V or 12.6 V with its centre tap (Brimar 12AU7 report).
+ONLY_12V = STOCK.replace("{id: H1, volts: 6.3, max_amps: 6}", "{id: H2, volts: 12.6, max_amps: 3}")
+
+
 def test_why_free_sections_will_not_do(write, run_cli, tmp_path):
-    """A net with three loads: 12AU7 stages drive at most two at these rails, so 6AU6s are asked for."""
-    design = write("design.yaml", "design: spread\ninputs: [a, b, c]\nsignals:\n  s: ~(a | b)\noutputs:\n"
-                                  "  y1: ~(s | c)\n  y2: ~(s | a)\n  y3: ~(s | b)\n")
-    stock = write("stock.yaml", STOCK.replace("12AT7: {count: 6}", "12AU7: {count: 10}")
-                  .replace("{count: 4}", "{count: 0}"))
-    status, _, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "plan", "--quiet")
-    assert status == 3
-    assert "the free 12AU7 sections will not do" in err and "a 12AU7 stage drives at most" in err
+    """Ten 6SN7 on the shelf, but no 6.3 V winding: the purchase says why they will not do."""
+    design = write("design.yaml", SPREAD)
+    stock = write("stock.yaml", ONLY_12V.replace("12AT7: {count: 6}", "12AU7: {count: 0}")
+                  .replace("6AU6: {count: 4}", "6SN7: {count: 10}"))
+    status, out, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "plan", "--quiet")
+    assert status == 3 and out == ""
+    assert "x 12AU7 (the free 6SN7 sections will not do: the 6SN7's heater fits no heater winding)" in err
+
+
+def test_no_purchase_helps_is_exit_3_not_an_internal_error(write, run_cli, tmp_path):
+    """Only 6SN7 and only a 12.6 V winding: buying more 6SN7 cannot help; the reason says why."""
+    design = write("design.yaml", SPREAD)
+    stock = write("stock.yaml", ONLY_12V.replace("12AT7: {count: 6}\n", "").replace("6AU6: {count: 4}",
+                                                                                   "6SN7: {count: 10}"))
+    status, out, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "plan", "--quiet")
+    assert status == 3 and out == "" and "internal error" not in err
+    assert "the heaters of 6SN7 (6.3 V) fit no heater winding (H2 12.6 V)" in err
 
 
 def test_a_nearly_full_winding_is_a_warning(write, run_cli, tmp_path):

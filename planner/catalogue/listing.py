@@ -4,8 +4,6 @@ from __future__ import annotations
 
 from collections import Counter
 
-from tabulate import tabulate
-
 from .custom import SOURCE_PATHS
 from .models import CUTOFF_AMPS, cutoff_grid_volts
 from .types import Catalogue, TubeType
@@ -55,6 +53,8 @@ def format_catalogue(catalogue: Catalogue) -> str:
     """A plain-text table of every type (sorted by name), then the caution."""
     rows = [(t.name, kind_text(t), sections_text(t), heater_text(t), t.base, main_source(t))
             for t in (catalogue.get(n) for n in catalogue.names())]
+    from tabulate import tabulate  # here: reading a stock file (any command) needs no table layout
+
     table = tabulate(rows, headers=("type", "kind", "sections", "heater", "base", "source"),
                      tablefmt="simple")
     notes = [f"  {t.name}: {note}" for t in (catalogue.get(n) for n in catalogue.names()) for note in t.notes]

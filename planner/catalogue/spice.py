@@ -10,6 +10,11 @@ DC operating point in ngspice matches the Python model.
 Subcircuit names are deterministic: ``TP_<type>_<KIND>`` with the type name
 upper-cased and anything but letters and digits turned into "_", KIND one
 of TRIODE, PENTODE, DUAL, DIODE. ``spice_nodes`` gives the pin order.
+
+Every subcircuit takes one parameter, ``wear`` (default 1): the fraction of
+nominal plate and screen current the section gives, as the planner's models
+scale a worn tube (``planner.electrical`` multiplies those currents by the
+tube's condition; grid current is left alone).
 """
 
 from __future__ import annotations
@@ -81,18 +86,18 @@ def _tail(m: ModelParams) -> str:
 
 
 def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
-    """B-source lines for the plate (and screen) currents of one section."""
+    """B-source lines for the plate (and screen) currents of one section, scaled by ``wear``."""
     ep = "max(v(p,k),0)"
     if m.equation == "diode":
-        return [f"Bp p k I={_num(m.perveance)}*pow({ep},1.5)"]
+        return [f"Bp p k I={{wear}}*{_num(m.perveance)}*pow({ep},1.5)"]
     if m.equation == "child-langmuir":
         drive = f"max(v(g,k)+{ep}/{_num(m.mu)},0)"
-        return [f"Bp p k I={_num(m.perveance)}*pow({drive},1.5)"]
+        return [f"Bp p k I={{wear}}*{_num(m.perveance)}*pow({drive},1.5)"]
     if m.equation == "koren-triode":
         arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+(v(g,k)+{_num(m.vct or 0.0)})/sqrt({_num(m.kvb)}+{ep}*{ep}))"
         return [f"Be1 e1 0 V={ep}/{_num(m.kp)}*{_softplus(arg)}",
                 "Re1 e1 0 1G",
-                f"Bp p k I=2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]
+                f"Bp p k I={{wear}}*2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]
     # Koren pentode; the screen voltage floor keeps Eg1/Eg2 finite at 0 V.
     es = f"max(v(s,k),{_EPSILON_VOLTS})"
     arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+v(g,k)/{es})"
@@ -103,7 +108,7 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
              f"Bpp pp 0 V=2*v(ex)/{_num(m.kg1)}*atan({ep}/{_num(m.kvb)})",
              "Rpp pp 0 1G"]
     if kind != "dual-control":
-        return lines + ["Bp p k I=v(pp)", f"Bs s k I=v(ex)/{_num(m.kg2)}"]
+        return lines + ["Bp p k I={wear}*v(pp)", f"Bs s k I={{wear}}*v(ex)/{_num(m.kg2)}"]
     z = f"(v(g3,k)-({_num(m.g3_zero_volts)}))/{_num(-m.g3_zero_volts)}"
     n = _num(G3_SATURATION_POWER)
     return lines + [
@@ -111,15 +116,16 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
         "Ru u 0 1G",
         f"Bgate gate 0 V=v(u)/pow(1+pow(v(u),{n}),1/{n})",
         "Rgate gate 0 1G",
-        "Bp p k I=v(pp)*v(gate)",
-        f"Bs s k I=v(ex)/{_num(m.kg2)}+v(pp)*(1-v(gate))",
+        "Bp p k I={wear}*v(pp)*v(gate)",
+        f"Bs s k I={{wear}}*(v(ex)/{_num(m.kg2)}+v(pp)*(1-v(gate)))",
     ]
 
 
 def spice_subcircuit(tube: TubeType, kind_or_means: str) -> str:
     """A ``.subckt`` for one section of ``tube`` (kind or means: "triode", "single", "dual", ...).
 
-    Pins in the order of ``spice_nodes``; internal nodes e1, ex, pp, u, gate
+    Pins in the order of ``spice_nodes``, then ``params: wear=1`` (see the
+    module docstring); internal nodes e1, ex, pp, u, gate
     carry intermediate values (1 GOhm to ground keeps them defined). The
     grid-cathode diode (three-halves law, ``model.grid_perveance``) and the
     capacitances are included where known. Cost O(1).
@@ -130,7 +136,7 @@ def spice_subcircuit(tube: TubeType, kind_or_means: str) -> str:
     pins = " ".join(short[r] for r in NODES[kind])
     lines = [f"* {tube.name} {kind} section: {tube.description}",
              f"* model {m.equation}; source: {tube.sources.get('model', 'not stated')}",
-             f".subckt {subcircuit_name(tube, kind)} {pins}"]
+             f".subckt {subcircuit_name(tube, kind)} {pins} params: wear=1"]
     lines += _plate_expressions(m, kind)
     if kind != "diode" and m.grid_perveance is not None:
         lines.append(f"Bgk g k I={_num(m.grid_perveance)}*pow(max(v(g,k),0),1.5)")

@@ -67,6 +67,10 @@ class FrozenMap(Mapping):
     def __setattr__(self, name, value):
         raise AttributeError("FrozenMap is immutable")
 
+    def __reduce__(self):
+        # Rebuilt through the constructor (slots refuse setattr), so pickled families load.
+        return FrozenMap, (self._items,)
+
 
 @dataclass(frozen=True)
 class Section:

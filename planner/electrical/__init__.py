@@ -8,6 +8,8 @@ Public API:
 - ``design_family(rails, tubes, rules, elevations) -> Family`` with ``Driver``,
   ``Receiver``, ``Follower`` and ``Shortfall`` (why a part was rejected);
   ``heater_cathode_excess(tube, elevation, low, high)`` (heater-cathode check)
+- ``cached_family(rails, tubes, rules, elevations)``: the same family, kept on disk across runs
+  (``family_key``; ``planner.diskcache``, ``$TUBEPLAN_CACHE_DIR``)
 - ``design_template(tube, means, rails, fanout, rules) -> Template``,
   raising ``NoTemplate``
 - ``format_template(template) -> str`` (the ``tubeplan stage`` text)
@@ -29,6 +31,7 @@ from .bistable import (CAPACITOR_TOLERANCE, CLOCK_TOLERANCE, HOLD_FACTOR, RESET_
 from .circuit import Load, ScreenFeed
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
+from .family_cache import cached_family, family_key
 from .followers import heater_cathode_excess
 from .listing import format_template
 from .parts import Driver, Family, Follower, FollowerTemplate, NoTemplate, Receiver, Shortfall, Template
@@ -44,7 +47,8 @@ __all__ = [
     "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "FollowerTemplate", "Load", "ScreenFeed", "NoTemplate",
-    "RESISTOR_RATINGS_WATTS", "Rails", "Receiver", "Shortfall", "Template", "brent_root", "design_family",
+    "RESISTOR_RATINGS_WATTS", "Rails", "Receiver", "Shortfall", "Template", "brent_root", "cached_family",
+    "design_family", "family_key",
     "heater_cathode_excess", "design_template", "e_series", "format_template", "nearest_values",
     "resistor_rating_watts", "series_values",
 ]

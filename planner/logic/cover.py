@@ -44,6 +44,9 @@ class Cube:
 class Cover:
     """A sum of products over ``names``; ``exact`` is True only when proven minimum.
 
+    A cover not proven minimum may carry ``literal_bound``, a proven lower bound on
+    the literals of every cover (an exact cover stopped by its budget does).
+
     Cubes are kept in a canonical order (see :meth:`Cube.sort_key`), so equal
     covers print identically.
 
@@ -55,6 +58,8 @@ class Cover:
     names: tuple[str, ...]
     cubes: tuple[Cube, ...]
     exact: bool
+    #: A proven lower bound on the literals of any cover of the function (None: none known).
+    literal_bound: int | None = None
 
     def __post_init__(self) -> None:
         n = len(self.names)
@@ -72,6 +77,15 @@ class Cover:
     @property
     def terms(self) -> int:
         return len(self.cubes)
+
+    @property
+    def gap(self) -> float | None:
+        """(literals - literal_bound) / literals: 0 when proven minimum, None when no bound is known."""
+        if self.exact:
+            return 0.0
+        if self.literal_bound is None:
+            return None
+        return max(0, self.literals - self.literal_bound) / max(self.literals, 1)
 
     def bits(self) -> int:
         """Truth table (bitset, as :class:`TruthTable`) of the cover."""

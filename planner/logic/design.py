@@ -6,7 +6,7 @@ from collections.abc import Iterable
 
 import sympy
 
-from .table import Space, TruthTable, evaluate
+from .table import Space, TruthTable, evaluate, reindex, table_from_minterms
 
 
 def design_support(design, *exprs: sympy.Basic) -> tuple[str, ...]:
@@ -42,3 +42,30 @@ def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic = sympy.false
     on = evaluate(expr, bits, space.full)
     dc = evaluate(dont_care, bits, space.full)
     return TruthTable(names, on & (space.full ^ dc), dc)
+
+
+def output_support(design, output) -> tuple[str, ...]:
+    """The design inputs a design output depends on, in input order.
+
+    A minterm list depends on the inputs it ranges over (its ``over``); an
+    expression on those it reaches (:func:`design_support`). No sympy expression
+    is built for a minterm list.
+    """
+    if output.minterms is not None:
+        return _inputs_among(design, set(output.over))
+    return design_support(design, output.expr, output.dont_care)
+
+
+def output_table(design, output, names: Iterable[str] | None = None) -> TruthTable:
+    """Truth table of a design output over the design inputs ``names`` (default :func:`output_support`).
+
+    A minterm list becomes its table directly (:func:`table_from_minterms`, then
+    :func:`reindex` when ``names`` differs from its ``over``): cost linear in the
+    list, never a sympy expression of 2**n terms. An expression goes through
+    :func:`design_table`.
+    """
+    names = output_support(design, output) if names is None else tuple(names)
+    if output.minterms is None:
+        return design_table(design, output.expr, output.dont_care, names)
+    table = table_from_minterms(output.over, output.minterms, output.dont_care_minterms or ())
+    return table if table.names == names else reindex(table, names)

@@ -5,9 +5,7 @@ from __future__ import annotations
 from typing import Iterable
 
 import sympy
-from sympy.assumptions.cnf import EncodedCNF
 from sympy.logic.boolalg import And, Not, Or
-from sympy.logic.inference import satisfiable
 
 from .table import Space, assignment, evaluate, fold, symbol_names
 
@@ -38,7 +36,7 @@ class _Tseitin:
     """
 
     def __init__(self, names: tuple[str, ...]) -> None:
-        self.symbols: list[sympy.Symbol] = [sympy.Symbol(n) for n in names]
+        self.variables = len(names)
         self.index = {n: k + 1 for k, n in enumerate(names)}
         self.clauses: list[set[int]] = []
         self.gates: dict[tuple, int] = {}
@@ -46,8 +44,8 @@ class _Tseitin:
         self.clauses.append({self.true})
 
     def _fresh(self) -> int:
-        self.symbols.append(sympy.Dummy("t"))
-        return len(self.symbols)
+        self.variables += 1
+        return self.variables
 
     def encode(self, expr: sympy.Basic) -> int:
         """The literal equal to ``expr`` (a :func:`fold`: iterative, memo by node identity)."""
@@ -105,15 +103,45 @@ class _Tseitin:
         return -acc if parity else acc
 
 
+#: SAT solvers :func:`counterexample` can use above the exhaustive limit: CaDiCaL through
+#: python-sat (the default), or sympy's DPLL (kept for comparison, benchmarks/prove.py).
+SAT_SOLVERS = ("cadical", "sympy-dpll")
+
+
+def _model_cadical(clauses: list[set[int]], variables: int) -> dict[int, bool] | None:
+    """A satisfying assignment of the CNF ``clauses`` by CaDiCaL 1.5.3 (A. Biere et al.;
+    python-sat, A. Ignatiev, A. Morgado and J. Marques-Silva, SAT 2018), or None."""
+    from pysat.solvers import Solver
+
+    with Solver(name="cadical153", bootstrap_with=[sorted(c) for c in clauses]) as solver:
+        if not solver.solve():
+            return None
+        return {abs(v): v > 0 for v in solver.get_model()}
+
+
+def _model_sympy_dpll(clauses: list[set[int]], variables: int) -> dict[int, bool] | None:
+    """The same by sympy's ``satisfiable`` (DPLL with clause learning, pure Python)."""
+    from sympy.assumptions.cnf import EncodedCNF
+    from sympy.logic.inference import satisfiable
+
+    symbols = [sympy.Dummy(f"v{k}") for k in range(1, variables + 1)]
+    model = satisfiable(EncodedCNF(clauses, {s: k + 1 for k, s in enumerate(symbols)}), algorithm="dpll2")
+    if model is False:
+        return None
+    by_symbol = {s: bool(v) for s, v in model.items()}
+    return {k + 1: by_symbol.get(s, False) for k, s in enumerate(symbols)}
+
+
 def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,
-                   care: sympy.Basic = sympy.true) -> dict[str, bool] | None:
+                   care: sympy.Basic = sympy.true, *, sat_solver: str = "cadical") -> dict[str, bool] | None:
     """An assignment where ``care`` holds and ``a`` differs from ``b``, or None.
 
     ``names`` defaults to the sorted symbol names of the three expressions.
     Up to 20 inputs: exhaustive, one big-integer XOR over all 2**n
     assignments (the lowest-numbered difference is returned).  Above: the
-    Tseitin-encoded miter ``care & (a ^ b)`` goes to sympy's ``satisfiable``
-    (DPLL), and the model found is checked by evaluation.
+    Tseitin-encoded miter ``care & (a ^ b)`` goes to a SAT solver
+    (``sat_solver``, one of :data:`SAT_SOLVERS`: CaDiCaL by default), and the
+    model found is checked by evaluation before it is returned.
 
     >>> x, y = sympy.symbols("x y")
     >>> counterexample(x | y, x ^ y)
@@ -121,6 +149,8 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
     >>> counterexample(x | y, x ^ y, care=~(x & y)) is None
     True
     """
+    if sat_solver not in SAT_SOLVERS:
+        raise ValueError(f"unknown SAT solver {sat_solver!r}; expected one of {SAT_SOLVERS}")
     names = _names(names, a, b, care)
     n = len(names)
     if n <= EXHAUSTIVE_LIMIT:
@@ -134,12 +164,11 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
     enc = _Tseitin(names)
     la, lb, lc = enc.encode(a), enc.encode(b), enc.encode(care)
     enc.clauses += [{lc}, {la, lb}, {-la, -lb}]
-    cnf = EncodedCNF(enc.clauses, {s: k + 1 for k, s in enumerate(enc.symbols)})
-    model = satisfiable(cnf, algorithm="dpll2")
-    if model is False:
+    solve = _model_cadical if sat_solver == "cadical" else _model_sympy_dpll
+    model = solve(enc.clauses, enc.variables)
+    if model is None:
         return None
-    by_symbol = {s: bool(v) for s, v in model.items()}
-    values = {name: by_symbol.get(enc.symbols[k], False) for k, name in enumerate(names)}
+    values = {name: model.get(k + 1, False) for k, name in enumerate(names)}
     point = {name: int(v) for name, v in values.items()}
     if not (evaluate(a, point, 1) ^ evaluate(b, point, 1)) & evaluate(care, point, 1):
         raise AssertionError("internal error: SAT model is not a counterexample")
@@ -147,11 +176,11 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
 
 
 def equivalent(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,
-               care: sympy.Basic = sympy.true) -> bool:
+               care: sympy.Basic = sympy.true, *, sat_solver: str = "cadical") -> bool:
     """True when ``a`` and ``b`` agree wherever ``care`` holds (see :func:`counterexample`).
 
     >>> x, y = sympy.symbols("x y")
     >>> equivalent(~(x & y), ~x | ~y)
     True
     """
-    return counterexample(a, b, names, care) is None
+    return counterexample(a, b, names, care, sat_solver=sat_solver) is None

@@ -13,7 +13,13 @@ import time
 from dataclasses import dataclass
 
 from .cover import Cube
+from .isop import isop_cubes
 from .table import Space, TruthTable, iter_bits
+
+#: Memory the heuristic may give its cubes' bitsets (each one a whole table of 2**n bits).
+MEMORY_BUDGET_BYTES = 256 << 20
+#: Most products a cover may have: beyond it a block is refused (BlockTooLarge).
+MAX_COVER_CUBES = 200_000
 
 
 @dataclass
@@ -215,6 +221,13 @@ def _is_essential(t: _Term, on: int, off_mirrors: list[int]) -> bool:
 def heuristic_cover(table: TruthTable, *, time_limit_s: float | None = None) -> HeuristicResult:
     """An irredundant prime cover of ``table.on`` avoiding ``table.off`` (not proven minimum).
 
+    Memory stays within about :data:`MEMORY_BUDGET_BYTES`: when a bitset per on-set
+    assignment would not fit, the start is Minato's irredundant cover
+    (:func:`planner.logic.isop.isop_cubes`) instead of the assignments, and when a
+    bitset per cube of that would not fit either, that cover is returned as it is
+    (irredundant, not improved).  Past :data:`MAX_COVER_CUBES` products
+    :class:`BlockTooLarge` is raised.
+
     Expand the on-set assignments to primes, make the cover irredundant, set
     the essential primes aside (their assignments become don't-cares), then
     repeat reduce / expand / irredundant while the cost (literals, then
@@ -233,8 +246,15 @@ def heuristic_cover(table: TruthTable, *, time_limit_s: float | None = None) -> 
     start = time.monotonic()
     space = Space(table.n)
     on, dc, off = table.on, table.dc, table.off
-    all_inputs = (1 << table.n) - 1
-    terms = [_Term(all_inputs, m, 1 << m) for m in iter_bits(on)]
+    table_bytes = max(1, (1 << table.n) // 8)
+    if on.bit_count() * table_bytes // 2 <= MEMORY_BUDGET_BYTES:
+        all_inputs = (1 << table.n) - 1
+        terms = [_Term(all_inputs, m, 1 << m) for m in iter_bits(on)]
+    else:  # a bitset per minterm would not fit: start from an irredundant cover instead
+        cubes = isop_cubes(table, MAX_COVER_CUBES)
+        if 3 * len(cubes) * table_bytes > MEMORY_BUDGET_BYTES:  # nor a bitset per cube: keep it as it is
+            return HeuristicResult(tuple(Cube(m, v) for m, v in cubes), (), 0)
+        terms = [_Term(m, v, space.cube_bits(m, v)) for m, v in cubes]
     terms = _expand(space, terms, on, off)
     terms = _irredundant(terms, on, dc)
     off_mirrors = [space.flip(off, p) for p in range(table.n)]

@@ -10,10 +10,12 @@ from .minimise import Forms
 
 
 def forms_document(rows: Sequence[tuple[str, Forms]]) -> dict:
-    """``{"outputs": {name: {"sop", "inverted", "literals": {...}, "exact"}}}``.
+    """``{"outputs": {name: {"sop", "inverted", "literals": {...}, "exact", "gap": {...}}}}``.
 
     Both expressions are in design-file syntax and equal the output on its
-    care set; ``exact`` is True when both are proven minimum.
+    care set; ``exact`` is True when both are proven minimum; ``gap`` per form is
+    (literals - proven lower bound) / literals, 0 when proven, null when no bound
+    is known (the heuristic's forms).
 
     >>> from .table import table_from_minterms
     >>> from .minimise import forms
@@ -26,6 +28,7 @@ def forms_document(rows: Sequence[tuple[str, Forms]]) -> dict:
             "inverted": fm.inverted_text,
             "literals": {"sop": fm.sop.literals, "inverted": fm.inverted.literals},
             "exact": fm.exact,
+            "gap": {"sop": fm.sop.gap, "inverted": fm.inverted.gap},
         } for name, fm in rows}}
 
 
@@ -43,10 +46,13 @@ def format_forms(rows: Sequence[tuple[str, Forms]]) -> str:
     table = []
     for name, fm in rows:
         n = len(fm.sop.names)
-        table.append([name, n, "sum", fm.sop_text, fm.sop.literals, _proof(fm.sop.exact)])
-        table.append(["", "", "inverted", fm.inverted_text, fm.inverted.literals, _proof(fm.inverted.exact)])
+        table.append([name, n, "sum", fm.sop_text, fm.sop.literals, _proof(fm.sop)])
+        table.append(["", "", "inverted", fm.inverted_text, fm.inverted.literals, _proof(fm.inverted)])
     return tabulate(table, headers=["output", "inputs", "polarity", "form", "literals", "minimum"])
 
 
-def _proof(exact: bool) -> str:
-    return "proven" if exact else "heuristic"
+def _proof(cover) -> str:
+    """"proven", "gap 4.2 %" (an exact cover stopped by its budget) or "heuristic"."""
+    if cover.exact:
+        return "proven"
+    return "heuristic" if cover.gap is None else f"gap {cover.gap * 100:.1f} %"

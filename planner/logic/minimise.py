@@ -8,7 +8,7 @@ from typing import Iterable
 import sympy
 
 from .cover import Cover, Cube
-from .exact import minimum_cover
+from .exact import DEFAULT_COVER_BUDGET_S, minimum_cover
 from .heuristic import heuristic_cover
 from .primes import prime_implicants
 from .table import TruthTable, symbol_names, table_from_expr
@@ -22,13 +22,17 @@ def _check(table: TruthTable, cover: Cover) -> Cover:
     return cover
 
 
-def minimise(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | None = None) -> Cover:
+def minimise(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | None = None,
+             cover_budget_s: float | None = DEFAULT_COVER_BUDGET_S) -> Cover:
     """Minimum sum of products of ``table`` on its care set: fewest literals, then fewest terms.
 
     Up to ``exact_limit`` inputs: every prime implicant (:func:`prime_implicants`),
     then an exact minimum cover (:func:`minimum_cover`: essentials, dominance,
-    then a 0-1 integer program for CBC); ``exact`` is True when CBC proved the
-    optimum (a ``time_limit_s`` may stop it first).  Above the limit: the
+    then a 0-1 integer program for CBC, given ``cover_budget_s`` seconds, or
+    ``time_limit_s`` if smaller); ``exact`` is True when CBC proved the optimum.
+    Past the budget the cover is the better of the budget-stopped one and the
+    heuristic's, with ``literal_bound`` (and so ``gap``) from the LP relaxation.
+    Above the limit: the
     expand / irredundant / reduce heuristic of Brayton et al. 1984
     (:func:`heuristic_cover`); ``exact`` is then True only if every cube of
     the result is an essential prime, which makes the cover the unique
@@ -45,21 +49,28 @@ def minimise(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | 
         return Cover(names, (Cube(0, 0),), exact=True)
     if table.n <= exact_limit:
         primes = prime_implicants(table, useful_only=True)
-        solution = minimum_cover(table, primes, time_limit_s=time_limit_s)
-        return _check(table, Cover(names, solution.cubes, exact=solution.proven))
+        budget = cover_budget_s if time_limit_s is None else min(time_limit_s, cover_budget_s or time_limit_s)
+        solution = minimum_cover(table, primes, budget_s=budget)
+        cover = Cover(names, solution.cubes, solution.proven, solution.literal_bound)
+        if not solution.proven:
+            result = heuristic_cover(table)
+            other = Cover(names, result.cubes + result.essential, False, solution.literal_bound)
+            cover = min((cover, other), key=lambda c: (c.literals, c.terms))
+        return _check(table, cover)
     result = heuristic_cover(table, time_limit_s=time_limit_s)
     return _check(table, Cover(names, result.cubes + result.essential, exact=not result.cubes))
 
 
-def minimise_complement(table: TruthTable, *, exact_limit: int = 10,
-                        time_limit_s: float | None = None) -> Cover:
+def minimise_complement(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | None = None,
+                        cover_budget_s: float | None = DEFAULT_COVER_BUDGET_S) -> Cover:
     """Minimum sum of products of ``~f`` on the care set (see :func:`minimise`).
 
     >>> from .table import table_from_minterms
     >>> minimise_complement(table_from_minterms(("a", "b"), [0, 1, 2])).text()
     'a & b'
     """
-    return minimise(table.complement(), exact_limit=exact_limit, time_limit_s=time_limit_s)
+    return minimise(table.complement(), exact_limit=exact_limit, time_limit_s=time_limit_s,
+                    cover_budget_s=cover_budget_s)
 
 
 @dataclass(frozen=True)
@@ -92,7 +103,8 @@ class Forms:
         return f"~({self.inverted.text()})"
 
 
-def forms(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | None = None) -> Forms:
+def forms(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | None = None,
+          cover_budget_s: float | None = DEFAULT_COVER_BUDGET_S) -> Forms:
     """Minimised SOP of f and of ~f (see :func:`minimise`).
 
     >>> from .table import table_from_minterms
@@ -100,8 +112,8 @@ def forms(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | Non
     >>> fm.sop_text, fm.inverted_text
     ('~a | ~b', '~(a & b)')
     """
-    return Forms(minimise(table, exact_limit=exact_limit, time_limit_s=time_limit_s),
-                 minimise_complement(table, exact_limit=exact_limit, time_limit_s=time_limit_s))
+    limits = dict(exact_limit=exact_limit, time_limit_s=time_limit_s, cover_budget_s=cover_budget_s)
+    return Forms(minimise(table, **limits), minimise_complement(table, **limits))
 
 
 def used_inputs(order: Iterable[str], *exprs: sympy.Basic) -> tuple[str, ...]:

@@ -11,9 +11,9 @@ See docs/mapping.md.
 
 from .options import DEFAULT_TIME_LIMIT_S, MappingOptions
 from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Clock, Envelope, Part, PlacedBranch, PlacedRegister,
-                   PlacedStage, Plan, SectionUse, Solution, StageTiming, StockUse, Timing, WindingLoad)
+                   PlacedStage, Plan, NetworkTried, SectionUse, Solution, StageTiming, StockUse, Timing, WindingLoad)
 from .planning import Shortage, plan_design
 
 __all__ = ["BIAS_RAIL", "DEFAULT_TIME_LIMIT_S", "GROUND", "PLATE_RAIL", "Budget", "Clock", "Envelope",
            "MappingOptions", "Part", "PlacedBranch", "PlacedRegister", "PlacedStage", "Plan", "SectionUse", "Shortage",
-           "Solution", "StageTiming", "StockUse", "Timing", "WindingLoad", "plan_design"]
+           "NetworkTried", "Solution", "StageTiming", "StockUse", "Timing", "WindingLoad", "plan_design"]

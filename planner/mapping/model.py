@@ -314,10 +314,10 @@ class _Model:
         ranks = {t: r for r, t in enumerate(sorted(range(len(kinds)), key=lambda t: kinds[t].tube))}
         scale = TIE_BREAK / max(1, len(kinds)) / max(1, sum(cls.count for cls in classes) + len(kinds))
         # Among equal plans, fewer AND diodes: a one-input branch needs none, and solid-state
-        # diodes cost nothing in the objective, so without this a tie could add them anyway.
-        most_diodes = max(1, sum(cls.count * max((way.diodes for way in cls.ways), default=0) for cls in classes))
+        # diodes cost nothing in the objective, so without this a tie could add them anyway.  A whole
+        # TIE_BREAK per diode: a smaller share falls below the solver's tolerances and is ignored.
         self.tie = (pulp.lpSum(scale * (ranks[t] + 1) * self.n[t] for t in range(len(kinds)))
-                    + TIE_BREAK / most_diodes * pulp.lpSum(diodes))
+                    + TIE_BREAK * pulp.lpSum(diodes))
         self.purchase = pulp.lpSum(self.buy) if slack else 0
         self.overload = pulp.lpSum(var / max(limit, 1e-9) for var, limit in self._limits())
 

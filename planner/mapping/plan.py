@@ -162,6 +162,19 @@ class StockUse:
 
 
 @dataclass(frozen=True)
+class NetworkTried:
+    """One candidate stage network and how it fared: ``stages`` and ``sections`` after
+    fan-out repair (None when it could not be built), ``envelopes`` of its optimal plan
+    (None when it has none), ``note`` why not (empty when planned)."""
+
+    label: str
+    stages: int | None
+    sections: int | None
+    envelopes: float | None
+    note: str = ""
+
+
+@dataclass(frozen=True)
 class Solution:
     """The solver's account: objective value, LP relaxation bound, gap, status.
 
@@ -169,7 +182,8 @@ class Solution:
     objective sequence (criterion, value, LP-relaxation bound, solver gap);
     ``objective``/``lp_bound``/``gap`` are those of the last level.
     ``terms``: the plan's envelopes, heater watts, scarce envelopes and
-    weighted objective; ``network``: which stage-layer network was chosen.
+    weighted objective; ``network``: which stage-layer network was chosen;
+    ``networks``: every candidate network tried, in order (:class:`NetworkTried`).
     """
 
     solver: str
@@ -182,6 +196,7 @@ class Solution:
     levels: tuple[tuple[str, float, float, float], ...] = ()
     terms: tuple[tuple[str, float], ...] = ()
     network: str = ""
+    networks: tuple[NetworkTried, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -319,6 +334,10 @@ class Plan:
     ``follower_low_volts`` or less from a follower. ``registers`` and
     ``clock``: the clocked registers (none for a combinational design);
     ``timing``: the delay estimate and, with registers, the highest safe clock.
+    ``tube_wear``: (type, fraction of nominal current) the family was designed
+    for, per amplifying type in the stock (its condition, else the rules'
+    wear); ``supply_tolerance``: the fractional supply tolerance it was
+    designed for (resistor tolerances are on the parts).
     ``input_fanout_limits``: input -> the loads its source drives, where the
     design declares it (the others are ideal sources).
     """
@@ -341,4 +360,6 @@ class Plan:
     registers: tuple[PlacedRegister, ...] = ()
     clock: Clock | None = None
     timing: Timing | None = None
+    tube_wear: tuple[tuple[str, float], ...] = ()
+    supply_tolerance: float = 0.0
     input_fanout_limits: tuple[tuple[str, int], ...] = ()

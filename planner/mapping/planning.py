@@ -5,15 +5,16 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass, replace
 
-from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, design_bistables, design_family
+from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, cached_family, design_bistables
 from planner.electrical import is_dual_triode
-from planner.stages import FanoutError, Stage, SynthesisOptions, describe_net, prove, repair_fanout, synthesise
+from planner.stages import FanoutError, Stage, SynthesisOptions, cached_network, describe_net, prove, repair_fanout
 
 from .assemble import place
 from .build import build_plan
 from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
+from .multilevel import multilevel_networks
 from .options import MappingOptions
-from .plan import Plan, Solution
+from .plan import NetworkTried, Plan, Solution
 from .problem import DIODE_FANIN, build_problem, stage_ways, tube_kinds
 from .registers import COMPLEMENT, RegisterSetting, clock_nets, register_classes, register_view
 from .timing import plan_timing
@@ -218,9 +219,16 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
     found, seen = [], set()
     variants, fanin = _synthesis_variants(stock, family, rules, options)
     limits, names = _primary_limits(design, setting)
+    networks = []
     for variant, synth in variants:
-        for label, network, reason in _repaired(variant, synthesise(view, synth).network, family, stock, fanin,
-                                                limits, names, options):
+        options.say(f"mapping: synthesising and proving network '{variant}'")
+        networks.append((variant, cached_network(view, synth), ""))
+    networks += multilevel_networks(view, stock, family, variants, weights, options)
+    for variant, synthesised, failure in networks:
+        if synthesised is None:
+            found.append(_Candidate(variant, None, None, {}, failure))
+            continue
+        for label, network, reason in _repaired(variant, synthesised, family, stock, fanin, limits, names, options):
             if network is None:
                 found.append(_Candidate(label, None, None, {}, reason))
                 continue
@@ -266,7 +274,8 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     the rules' wear); with registers, a bistable for each stocked dual triode
     on one shared clock and the logic between the registers
     (:func:`planner.mapping.registers.register_view`); the stage networks the
-    stock allows (see :func:`_synthesis_variants`), each with followers
+    stock allows (see :func:`_synthesis_variants`) and the multi-level ones
+    (:func:`planner.mapping.multilevel.multilevel_networks`), each with followers
     wherever no stocked template can drive a net's loads, each proven against
     the design (next states and their complements included); the
     aggregated integer program for each (:mod:`planner.mapping.model`); the
@@ -282,8 +291,8 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
              for t in stock.tubes if stock.catalogue.get(t.tube).amplifying_sections]
     if not tubes:
         raise Shortage("the stock has no tube type with an amplifying section (triode, pentode or multigrid)")
-    options.say(f"mapping: designing the logic family for {len(tubes)} tube types")
-    family = design_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules,
+    options.say(f"mapping: the logic family for {len(tubes)} tube types (designed once, then kept in the cache)")
+    family = cached_family(Rails(stock.plate.volts, stock.bias.volts), tubes, rules,
                            elevations=tuple(w.elevated_volts for w in stock.windings))
     for (tube, what), why in sorted(family.rejected.items()):
         if what == "follower":
@@ -293,16 +302,20 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)
     best = None
+    tried = []
     for cand in candidates:
         if cand.problem is None:
+            tried.append(_tried(cand, None, cand.reason))
             continue
         try:
             counts = solve_problem(cand.problem, solver=options.solver, gap=options.gap,
                                    time_limit_s=max(1.0, deadline - time.monotonic()))
         except Infeasible:
             options.say(f"mapping: network '{cand.label}' does not fit the stock")
+            tried.append(_tried(cand, None, "does not fit the stock"))
             continue
         options.say(f"mapping: network '{cand.label}': {dict(counts.terms)['envelopes']:.0f} envelopes")
+        tried.append(_tried(cand, dict(counts.terms)["envelopes"], ""))
         if best is None or _rank(counts, weights) < _rank(best[1], weights):
             best = (cand, counts)
     if best is None:
@@ -313,12 +326,24 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     solution = Solution(options.solver, counts.status, last.value, last.lp_bound, last.gap,
                         time.monotonic() - start, weights.mode,
                         tuple((lv.criterion, lv.value, lv.lp_bound, lv.gap) for lv in counts.levels),
-                        counts.terms, cand.label)
+                        counts.terms, cand.label, tuple(tried))
     plan = build_plan(design, cand.network, family, stock, cand.problem, counts, placement, solution, rules, setting)
     options.say("mapping: estimating the timing")
     timing, flips = plan_timing(plan, cand.network, placement, family, stock, rules, setting)
     registers = tuple(replace(r, clock_to_q_seconds=flips[r.name]) for r in plan.registers)
-    return replace(plan, timing=timing, registers=registers)
+    wear: dict[str, float] = {}
+    for tube, condition in tubes:
+        wear[tube.name] = min(condition, wear.get(tube.name, condition))
+    return replace(plan, timing=timing, registers=registers, tube_wear=tuple(sorted(wear.items())),
+                   supply_tolerance=rules.supply_tolerance)
+
+
+def _tried(cand: _Candidate, envelopes: float | None, note: str) -> NetworkTried:
+    """What one candidate network needed: stages, sections and its plan's envelopes."""
+    if cand.network is None:
+        return NetworkTried(cand.label, None, None, None, note)
+    return NetworkTried(cand.label, len(cand.network.stages), cand.network.cost().sections,
+                        None if envelopes is None else round(envelopes, 6), note)
 
 
 def _section_word(tube) -> str:
@@ -330,12 +355,16 @@ def _section_word(tube) -> str:
 
 def _shortage(candidates, family, stock, options, deadline) -> Shortage:
     """Diagnose every buildable network; the smallest purchase (then least overload) wins."""
-    best = None
+    best, heaterless = None, ""
     for cand in candidates:
         if cand.problem is None:
             continue
-        counts = diagnose(cand.problem, solver=options.solver, gap=options.gap,
-                          time_limit_s=max(1.0, deadline - time.monotonic()))
+        try:
+            counts = diagnose(cand.problem, solver=options.solver, gap=options.gap,
+                              time_limit_s=max(1.0, deadline - time.monotonic()))
+        except Infeasible:  # no purchase helps: some stages only types with no usable heater winding can build
+            heaterless = heaterless or _heater_reasons(cand.problem, stock)
+            continue
         overload = sum(v / _limit(stock, w) for w, v in counts.overloads)
         key = (sum(counts.purchase), round(overload, 9), dict(counts.terms)["weighted"])
         if best is None or key < best[0]:
@@ -347,6 +376,8 @@ def _shortage(candidates, family, stock, options, deadline) -> Shortage:
             reasons = (ratings,) if ratings else reasons
         elif ratings:
             reasons += (f"(unusable here: {ratings})",)
+        if heaterless:
+            reasons += (heaterless,)
         return Shortage(f"no stocked tube type can build the design: {'; '.join(reasons)}", unbuildable=reasons)
     _, cand, counts = best
     problem = cand.problem
@@ -422,40 +453,57 @@ def _rating_reasons(family, stock) -> str:
     return "; ".join(parts)
 
 
+def _heater_reasons(problem: Problem, stock) -> str:
+    """The stocked types whose heaters fit no winding, in words (then buying more of them cannot help)."""
+    windings = ", ".join(f"{w.id} {w.volts:g} V" for w in stock.windings)
+    unpowered = []
+    for kind in problem.kinds:
+        if not kind.heaters and kind.sections:
+            tube = stock.catalogue.get(kind.tube)
+            volts = [tube.heater_volts] + ([tube.heater_series[0]] if tube.heater_series else [])
+            unpowered.append(f"{kind.tube} ({' or '.join(f'{v:g} V' for v in volts)})")
+    if not unpowered:
+        return "no purchase of stocked types makes the design fit"
+    return (f"the heaters of {', '.join(unpowered)} fit no heater winding ({windings}), and some stages only "
+            "those types can build: add a winding of their heater voltage")
+
+
 def _why_not_free(cand, counts, kind, purchase, sections_used, family) -> str:
     """Why the stock's free sections of other types cannot take the stages that need ``kind`` bought.
 
-    The stages the diagnosis put on ``kind`` with no way on a type that has
-    sections to spare: each either drives more loads than that type's
-    templates allow, or needs a template (two control grids, a diode gate) the
-    type has none of.
+    A free type whose heater fits no winding cannot be powered. Otherwise the
+    stages the diagnosis put on ``kind`` with no way on a free type either
+    drive more loads than that type's templates allow, or need a template (two
+    control grids, a diode gate) the type has none of.
     """
     problem = cand.problem
-    spare = [k.tube for k in problem.kinds if k.tube not in purchase and not k.diode_sections
-             and sections_used[k.tube] < max(k.usable, 0) * len(k.sections)]
-    if not spare:
-        return ""
+    free = [k for k in problem.kinds if k.tube not in purchase and not k.diode_sections and k.sections
+            and sections_used[k.tube] < max(k.usable, 0) * len(k.sections)]
+    reasons = [f"the {k.tube}'s heater fits no heater winding" for k in free if not k.heaters]
+    spare = [k.tube for k in free if k.heaters]
     loads = cand.network.load_counts()
     outputs = {stage.id: stage.output for stage in cand.network.stages}
     stuck, templates = [], set()
     for cls, row in zip(problem.classes, counts.ways):
         on_kind = sum(n for way, n in zip(cls.ways, row) if way.tube == kind.tube)
-        if on_kind and not any(way.tube in spare for way in cls.ways):
+        if spare and on_kind and not any(way.tube in spare for way in cls.ways):
             stuck += [loads[outputs[sid]] for sid in cls.stages if sid in outputs]
             templates |= {way.template for way in cls.ways if way.tube == kind.tube}
-    if not stuck:
+    if stuck:
+        fewest, most = min(stuck), max(stuck)
+        span = f"{fewest}" if fewest == most else f"{fewest} to {most}"
+        drive = "stage drives" if len(stuck) == 1 else "stages drive"
+        reasons.append(f"{len(stuck)} of these {drive} {span} loads")
+        for tube in spare:
+            limits = [family.drivers[(tube, t)].fanout_limit for t in sorted(templates)
+                      if (tube, t) in family.drivers]
+            if limits:
+                reasons.append(f"a {tube} stage drives at most {max(limits)}")
+            else:
+                reasons.append(f"{tube} has no {'/'.join(sorted(templates))} stage template")
+    if not reasons:
         return ""
-    reasons = []
-    for tube in spare:
-        limits = [family.drivers[(tube, t)].fanout_limit for t in sorted(templates) if (tube, t) in family.drivers]
-        if limits:
-            reasons.append(f"a {tube} stage drives at most {max(limits)} loads")
-        else:
-            reasons.append(f"{tube} has no {'/'.join(sorted(templates))} stage template")
-    fewest, most = min(stuck), max(stuck)
-    span = f"{fewest}" if fewest == most else f"{fewest} to {most}"
-    return (f"the free {', '.join(spare)} sections will not do: {len(stuck)} of these stages drive {span} loads "
-            f"and {'; '.join(reasons)}")
+    return f"the free {', '.join(k.tube for k in free)} sections will not do: {'; '.join(reasons)}"
 
 
 def _reserve_note(stock, problem, purchase) -> str:

@@ -13,7 +13,9 @@ from dataclasses import dataclass
 
 import pulp
 
-#: Fixed seeds and one thread: the same model always takes the same search path.
+#: Fixed seeds and CBC's serial search: the same model always takes the same path.  No ``threads``
+#: option: ``-threads 1`` starts CBC's parallel search with one worker, which sometimes sits idle
+#: for 10 s waiting on the main thread (benchmarks/solver_stalls.py); serial CBC never does.
 _CBC_OPTIONS = ("randomSeed 1", "randomCbcSeed 1")
 # pulp 3 warns that its bundled CBC will move to an extra in pulp 4; the warning is for pulp's
 # own users, not ours, and older pulp has no such switch.
@@ -67,7 +69,7 @@ def highs_available() -> bool:
 def solve(model: pulp.LpProblem, *, solver: str, time_limit_s: float, gap: float, relax: bool = False) -> Outcome:
     """Solve ``model`` (minimise) with CBC or HiGHS; ``relax``: its LP relaxation.
 
-    CBC runs single-threaded with fixed seeds; its proven bound is read from its
+    CBC runs its serial search with fixed seeds; its proven bound is read from its
     log.  HiGHS's bound comes from its info record (``mip_dual_bound``).
     """
     start = time.perf_counter()
@@ -87,7 +89,7 @@ def solve(model: pulp.LpProblem, *, solver: str, time_limit_s: float, gap: float
         handle, log = tempfile.mkstemp(prefix="tubeplan-cbc-", suffix=".log")
         os.close(handle)
         try:
-            engine = pulp.PULP_CBC_CMD(mip=not relax, msg=False, timeLimit=limit, gapRel=gap, threads=1,
+            engine = pulp.PULP_CBC_CMD(mip=not relax, msg=False, timeLimit=limit, gapRel=gap,
                                        logPath=log, options=list(_CBC_OPTIONS), **_CBC_QUIET)
             model.solve(engine)
             with open(log, encoding="utf-8", errors="replace") as handle_log:

@@ -6,7 +6,7 @@ from collections import Counter
 
 from tabulate import tabulate
 
-from planner.logic import MAX_TABLE_INPUTS, design_support, design_table
+from planner.logic import MAX_TABLE_INPUTS, output_support, output_table
 from planner.spec import Design, Stock
 
 
@@ -25,11 +25,11 @@ def design_summary(design: Design) -> str:
         lines.append(f"signals ({len(design.signals)}): {', '.join(design.signal_names)}")
     rows = []
     for output in design.outputs:
-        names = design_support(design, output.expr, output.dont_care)
+        names = output_support(design, output)
         if len(names) > MAX_TABLE_INPUTS:
             rows.append([output.name, f"{len(names)} inputs", "too many to count", ""])
             continue
-        table = design_table(design, output.expr, output.dont_care, names)
+        table = output_table(design, output, names)
         care = bin(table.care).count("1")
         rows.append([output.name, ", ".join(names) or "(constant)", f"{care} of {1 << len(names)}",
                      bin(table.on).count("1")])

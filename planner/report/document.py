@@ -158,6 +158,9 @@ def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
                      "objective": _num(plan.solution.objective), "lp_bound": _num(plan.solution.lp_bound),
                      "gap": _num(plan.solution.gap), "mode": plan.solution.mode,
                      "network": plan.solution.network,
+                     "networks": [{"network": n.label, "stages": n.stages, "sections": n.sections,
+                                   "envelopes": None if n.envelopes is None else _num(n.envelopes),
+                                   "note": n.note} for n in plan.solution.networks],
                      "levels": [{"criterion": _key(c), "value": _num(v), "lp_bound": _num(b), "gap": _num(g)}
                                 for c, v, b, g in plan.solution.levels],
                      "terms": {_key(name): _num(value) for name, value in plan.solution.terms}},

@@ -10,15 +10,34 @@ are the resistors the netlist puts on the stage's nets, with their values.
 from __future__ import annotations
 
 import re
+import sys
 from dataclasses import dataclass
 
-import schemdraw
-import schemdraw.elements as elm
-from schemdraw.segments import Segment, SegmentCircle, SegmentText
-
-from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedStage, Plan
+from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Part, PlacedRegister, PlacedStage, Plan
 
 from .designators import natural_key
+
+
+def _import_schemdraw_svg_only() -> None:
+    """Import schemdraw without its matplotlib backend: the drawings are SVG, and schemdraw's
+    optional import of matplotlib costs about a second of every plan's start-up. The block
+    (``sys.modules[name] = None`` makes that one import fail, as if matplotlib were absent)
+    is lifted at once, so an explicit import of the backend later still works."""
+    blocked = "schemdraw.backends.mpl"
+    if "schemdraw" in sys.modules or blocked in sys.modules:
+        return
+    sys.modules[blocked] = None
+    try:
+        import schemdraw  # noqa: F401
+    finally:
+        del sys.modules[blocked]
+
+
+_import_schemdraw_svg_only()
+
+import schemdraw  # noqa: E402
+import schemdraw.elements as elm  # noqa: E402
+from schemdraw.segments import Segment, SegmentCircle, SegmentText  # noqa: E402
 
 _GRID_Y = {"grid": -0.4, "screen": 0.0, "grid3": 0.4}
 #: Display scale of the drawings relative to schemdraw's default size.
@@ -295,6 +314,82 @@ def _draw_follower(stage: PlacedStage, net: _Netlist, plan: Plan) -> str:
     return _svg(d)
 
 
+def _draw_register(reg: PlacedRegister, net: _Netlist, plan: Plan) -> str:
+    """A register: the bistable's two sections with plate loads, cross-coupling dividers (the other
+    plate's net named at the divider's top), steering diode, capacitor and resistor, and the reset diode.
+
+    Drawn from the parts list, so the values are the plan's (docs/registers.md has the circuit).
+    """
+    d = schemdraw.Drawing(canvas="svg", show=False)
+    d.config(fontsize=11, lw=1.4)
+    reset_net = plan.clock.reset_net if plan.clock is not None else "RESET"
+    for side, x0 in ((1, 0.0), (2, 17.0)):
+        nets = net.sections.get((reg.envelope, side), {})
+        plate, grid = nets.get("plate", "?"), nets.get("grid", "?")
+        tube = d.add(TubeSymbol(("grid",), caption=f"{reg.envelope}.{side} {reg.tube}").at((x0, 0.0)).theta(0))
+        px, py = tube.absanchors["plate"]
+        node = (px, py + 2.5)
+        d.add(elm.Line().at((px, py)).to(node))
+        d.add(elm.Dot().at(node))
+        loads = [p for p, o in net.two_terminal(plate) if o == PLATE_RAIL]
+        top = (px, node[1] + 3.0)
+        d.add(elm.Resistor().at(node).to(top).label(_value(loads[0]) if loads else "", loc="bottom", fontsize=10))
+        _rail_label(d, top, PLATE_RAIL, "up")
+        d.add(elm.Line().at(node).to((px + 2.5, node[1])))
+        d.add(elm.Dot(open=True).at((px + 2.5, node[1])))
+        _text(d, (px + 2.8, node[1]), plate, ("left", "center"))
+        d.add(elm.Ground().at(tube.absanchors["cathode"]).theta(0))
+        gx, gy = tube.absanchors["grid"]
+        g = (gx - 1.5, gy)
+        d.add(elm.Line().at((gx, gy)).to(g))
+        d.add(elm.Dot().at(g))
+        resistors = net.two_terminal(grid)
+        upper = [(p, o) for p, o in resistors if o not in _RAIL_TEXT]
+        if upper:  # the cross-coupling divider from the other plate, its commutating capacitor across
+            label = _value(upper[0][0]) + "".join(f"\n+ {_value(c)} across" for c, o in
+                                                   net.two_terminal(grid, "capacitor") if o == upper[0][1])
+            d.add(elm.Resistor().at((g[0], g[1] + 4.4)).to(g).label(label, loc="bottom", fontsize=10))
+            _text(d, (g[0], g[1] + 4.7), upper[0][1], ("center", "bottom"))
+        junction = (g[0], g[1] - 1.0)
+        d.add(elm.Line().at(g).to(junction))
+        for part, rail in [(p, o) for p, o in resistors if o in _RAIL_TEXT][:1]:
+            end = (g[0], junction[1] - 3.0)
+            d.add(elm.Resistor().at(junction).to(end).label(_value(part), loc="top", fontsize=10))
+            _rail_label(d, end, rail, "down")
+        for label, cathode, _ in net.diodes_from(grid):
+            if cathode == reset_net:  # the reset diode: anode at the grid the reset state cuts off
+                d.add(elm.Dot().at(junction))
+                end = (g[0] + 2.4, junction[1] - 2.4)
+                d.add(elm.Diode().at(junction).to(end).label(label, loc="top", fontsize=10))
+                _text(d, (end[0], end[1] - 0.2), cathode, ("center", "top"))
+                continue
+            x = (g[0] - 4.0, g[1])  # the steering node, behind its diode
+            d.add(elm.Diode().at(g).to(x).label(label, loc="top", fontsize=10))
+            d.add(elm.Dot().at(x))
+            for cap, clock in net.two_terminal(cathode, "capacitor")[:1]:
+                end = (x[0], x[1] + 3.0)
+                d.add(elm.Capacitor().at(x).to(end).label(_value(cap), loc="bottom", fontsize=10))
+                _text(d, (end[0], end[1] + 0.2), clock, ("center", "bottom"))
+            for part, level in net.two_terminal(cathode)[:1]:
+                end = (x[0], x[1] - 3.0)
+                d.add(elm.Resistor().at(x).to(end).label(_value(part), loc="top", fontsize=10))
+                _text(d, (end[0], end[1] - 0.2), level, ("center", "top"))
+    return _svg(d)
+
+
+def register_templates(plan: Plan) -> tuple[Template, ...]:
+    """One drawing per distinct register (registers on the same tube with the same values share one)."""
+    net = _Netlist(plan)
+    groups: dict[tuple, list[PlacedRegister]] = {}
+    for reg in plan.registers:
+        key = (reg.tube, reg.plate_load_ohms, reg.upper_ohms, reg.lower_ohms, reg.commutating_farads,
+               reg.steering_farads, reg.steering_ohms, reg.reset)
+        groups.setdefault(key, []).append(reg)
+    return tuple(Template(f"register (bistable, reset to {members[0].reset}) on {members[0].tube}",
+                          tuple(r.name for r in members), _draw_register(members[0], net, plan))
+                 for members in groups.values())
+
+
 def _svg(d) -> str:
     """The drawing as an inline SVG element of class "schematic" (the report's CSS scales it)."""
     text = d.get_imagedata("svg").decode("utf-8")
@@ -317,7 +412,7 @@ def _signature(stage: PlacedStage, net: _Netlist) -> tuple:
 
 
 def stage_templates(plan: Plan) -> tuple[Template, ...]:
-    """One drawing per distinct stage template of the plan, drawn from its first stage.
+    """One drawing per distinct stage template of the plan, drawn from its first stage; then the registers.
 
     Cost: one schemdraw drawing per template (a few milliseconds each).
     """
@@ -336,4 +431,4 @@ def stage_templates(plan: Plan) -> tuple[Template, ...]:
             title = f"{first.view} on {', '.join(tubes)}"
             svg = _draw_inverting(first, net, plan)
         templates.append(Template(title, tuple(s.id for s in members), svg))
-    return tuple(templates)
+    return tuple(templates) + register_templates(plan)

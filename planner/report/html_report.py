@@ -10,8 +10,9 @@ from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
 from .content import ReportContent
 from .designators import counted
-from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
-                     stock_table, wiring_table)
+from .proof_section import simulation_html
+from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
+                     stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
 
 CSS = """
@@ -45,7 +46,13 @@ tbody tr:nth-child(even) td { background: #fafbfc; }
 .figure b { display: block; font-size: 20px; }
 .figure span { color: var(--muted); font-size: 12px; }
 .drawing { border: 1px solid var(--line); padding: 8px; margin: 6px 0 16px; overflow-x: auto; }
-svg.schematic { display: block; }
+svg.schematic { display: block; max-width: 100%; height: auto; }
+svg.plot { display: block; max-width: 100%; height: auto; }
+@media print {
+  .drawing { overflow: visible; break-inside: avoid; }
+  svg.schematic, svg.plot { max-width: 100%; height: auto; }
+  nav { display: none; }
+}
 code { font-family: "DejaVu Sans Mono", Consolas, monospace; font-size: 13px; }
 details { margin: 4px 0 14px; }
 summary { cursor: pointer; color: var(--accent); font-size: 13px; }
@@ -124,7 +131,8 @@ def _figure(value: str, caption: str) -> str:
 
 
 SECTIONS = (("summary", "Summary"), ("stock", "Stock"), ("budgets", "Budgets"), ("stages", "Stages"),
-            ("timing", "Registers and timing"), ("drawings", "Stage drawings"), ("bom", "Bill of materials"),
+            ("timing", "Registers and timing"), ("drawings", "Stage drawings"), ("simulation", "Simulation"),
+            ("bom", "Bill of materials"),
             ("wiring", "Wiring list"), ("safety", "Safety"))
 
 
@@ -174,6 +182,8 @@ def report_html(content: ReportContent) -> str:
            f'against an LP relaxation bound of {sol.lp_bound:.4g} (gap {sol.gap * 100:.2f} %).</p>',
            *(f'<p class="warning"><b>Warning:</b> {escape(warning)}</p>' for warning in supply_warnings(b)),
            _table(outputs_table(plan)),
+           f'<p>Stage networks tried; the plan is built on <b>{escape(sol.network)}</b>:</p>',
+           _table(networks_table(plan)),
            '<p class="note">Every inverting stage pulls its plate node low when any one of its branches '
            'conducts, and a branch conducts only when all of its inputs are high.</p>',
            '<h2 id="stock">Stock</h2>', _table(stock_table(plan)),
@@ -197,7 +207,7 @@ def report_html(content: ReportContent) -> str:
     for template in content.templates:
         out += [f"<h3>{escape(template.title)} <small>({escape(', '.join(template.stages))})</small></h3>",
                 f'<div class="drawing">{template.svg}</div>']
-    out += ['<h2 id="bom">Bill of materials</h2>', _table(bom_table(content.bom)),
+    out += [simulation_html(), '<h2 id="bom">Bill of materials</h2>', _table(bom_table(content.bom)),
             '<h2 id="wiring">Wiring list</h2>',
             '<p class="note">One row per connection; tube pins are numbered as on the catalogue\'s basing '
             '(seen from below the socket).</p>', _table(wiring_table(content.wiring)),

@@ -8,8 +8,9 @@ from .budgets import HEADROOM, SURGE_FACTORS, supply_warnings
 from .cautions import CAUTIONS
 from .designators import counted
 from .content import ReportContent
-from .tables import (Table, bom_table, heater_table, outputs_table, rail_table, resistor_table, stage_table,
-                     stock_table, wiring_table)
+from .proof_section import simulation_markdown
+from .tables import (Table, bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
+                     stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
 
 _BAR = 30
@@ -60,6 +61,8 @@ def report_markdown(content: ReportContent) -> str:
             f"{sol.lp_bound:.4g}, gap {sol.gap * 100:.2f} %",
             *(f"- **Warning:** {warning}" for warning in supply_warnings(b)), "",
             markdown_table(outputs_table(plan)), "",
+            f"Stage networks tried (the plan is built on `{sol.network}`):", "",
+            markdown_table(networks_table(plan)), "",
             "## Stock", "", markdown_table(stock_table(plan)), "",
             "## Budgets", "", "Supply loads:", ""]
     for w in b.windings:
@@ -88,6 +91,7 @@ def report_markdown(content: ReportContent) -> str:
     if plan.timing is not None:
         out += ["## Timing", ""] + [line for text in timing_lines(plan) for line in (text, "")]
         out += [markdown_table(stage_timing_table(plan)), ""]
+    out += [simulation_markdown(), ""]
     out += [
             "## Bill of materials", "", markdown_table(bom_table(content.bom)), "",
             "## Wiring list", "", markdown_table(wiring_table(content.wiring)), ""]

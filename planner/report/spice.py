@@ -5,7 +5,10 @@ netlist, tube sections as the catalogue's subcircuits (``spice_subcircuit``,
 the same equations as the Python models), the rails (B+, BIAS, GND = node 0),
 one source per primary input (and its complement, where declared) whose logic
 value is a ``.param in_NAME=0|1`` line, a 0 V source naming each design
-output's node ``out_NAME``, and an ``.op`` analysis. With registers, a clock
+output's node ``out_NAME``, and an ``.op`` analysis. Corner parameters
+(``CORNER_ROLES`` and the deck's header say what each does) default to the
+nominal plan, so the deck as written simulates the plan at nominal; ``tubeplan
+prove`` sets them for its worst-case corners. With registers, a clock
 source ``V_clk`` idling at the clock's swing (a falling step to 0 V clocks the
 registers) and a ``.nodeset`` putting each bistable in its reset state (a
 bistable has two stable operating points; the node set picks one). Heater pins
@@ -32,6 +35,15 @@ from .designators import natural_key
 #: diodes rated for the whole B+ to BIAS span, since an AND diode's cathode can
 #: sit at a high plate level while its anode is held near a low one.
 SILICON_DIODE_MODEL = ".model d_silicon D(IS=2.5n N=1.8 RS=0.6 CJO=4p)"
+
+#: The resistor roles that the corner parameter ``rdir`` moves, and the sign of their move: with
+#: ``rdir=+1`` a role marked +1 goes to the top of its tolerance and one marked -1 to the bottom,
+#: which lowers every high level (a larger plate load drops more across it; a smaller divider upper
+#: and cathode load draw more from the node; a larger divider lower and screen shunt, a smaller
+#: screen series and gate pull-up lift a cut-off grid and let its section leak more).
+#: ``rdir=-1`` is the other end of each, which raises every low level. Other roles stay nominal.
+CORNER_ROLES = {"plate load": 1, "divider lower": 1, "screen shunt": 1,
+                "divider upper": -1, "gate pull-up": -1, "screen series": -1, "cathode load": -1}
 
 
 
@@ -96,6 +108,28 @@ def _element(letter: str, ref: str) -> str:
     return ref if ref[:1].upper() == letter else f"{letter}{ref}"
 
 
+def _corner_header() -> list[str]:
+    """The comment lines that document the corner parameters (see ``CORNER_ROLES``)."""
+    up = ", ".join(r for r, sign in CORNER_ROLES.items() if sign > 0)
+    down = ", ".join(r for r, sign in CORNER_ROLES.items() if sign < 0)
+    return ["* corner parameters (tubeplan prove sets them; these defaults simulate the plan at nominal):",
+            "*   supply_bplus, supply_bias: each supply as a fraction of nominal (1; corners 1 +- supply_tol)",
+            "*   wear_TYPE: fraction of nominal plate and screen current of every TYPE section",
+            "*     (1 new; worn_TYPE is the wear the plan was designed for)",
+            "*   rdir: resistors at nominal (0); +1 each at the end of its tolerance that lowers high levels:",
+            f"*     {up}: high end; {down}: low end;",
+            "*     -1 the other end of each, which raises low levels;",
+            "*     other resistors stay nominal"]
+
+
+def _resistance(part) -> str:
+    """A resistor's value, written to follow ``rdir`` by its role (``CORNER_ROLES``)."""
+    sign = CORNER_ROLES.get(part.role, 0)
+    if not sign or not part.tolerance:
+        return _num(part.ohms)
+    return f"{{{_num(part.ohms)}*(1{'+' if sign > 0 else '-'}{_num(part.tolerance)}*rdir)}}"
+
+
 def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
     """The SPICE deck of ``plan``, every input at logic 0. Cost O(parts).
 
@@ -123,9 +157,13 @@ def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
              "",
              f".param logic_high={_num(plan.high_volts)} logic_low={_num(plan.low_volts)}"]
     lines += [f".param {params[name]}=0" for name, _ in plan.inputs]
+    wear = {sanitise(t): w for t, w in plan.tube_wear}
+    lines += ["", *_corner_header(), ".param supply_bplus=1 supply_bias=1 "
+              f"supply_tol={_num(plan.supply_tolerance)} rdir=0"]
+    lines += [f".param wear_{t}=1 worn_{t}={_num(w)}" for t, w in sorted(wear.items())]
     lines += ["", "* supplies",
-              f"V_bplus {nodes[PLATE_RAIL]} 0 {_num(plan.plate_volts)}",
-              f"V_bias {nodes[BIAS_RAIL]} 0 {_num(plan.bias_volts)}",
+              f"V_bplus {nodes[PLATE_RAIL]} 0 {{{_num(plan.plate_volts)}*supply_bplus}}",
+              f"V_bias {nodes[BIAS_RAIL]} 0 {{{_num(plan.bias_volts)}*supply_bias}}",
               "", "* primary inputs"]
     for name, complement in plan.inputs:
         p = params[name]
@@ -152,7 +190,7 @@ def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
     for part in plan.parts:
         pins = dict(part.pins)
         if part.kind == "resistor":
-            body.append(f"{_element('R', part.ref)} {nodes[pins['1']]} {nodes[pins['2']]} {_num(part.ohms)}")
+            body.append(f"{_element('R', part.ref)} {nodes[pins['1']]} {nodes[pins['2']]} {_resistance(part)}")
         elif part.kind == "capacitor":
             body.append(f"{_element('C', part.ref)} {nodes[pins['1']]} {nodes[pins['2']]} {_num(part.farads)}")
         elif part.kind == "diode":
@@ -168,7 +206,9 @@ def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
                 if None in wired:
                     body.append(f"* {part.ref} section {section.index} not wired")
                     continue
-                body.append(f"X{part.ref}_{section.index} {' '.join(nodes[n] for n in wired)} {name}")
+                worn = sanitise(tube.name)
+                scaled = f" wear={{wear_{worn}}}" if worn in wear and section.kind != "diode" else ""
+                body.append(f"X{part.ref}_{section.index} {' '.join(nodes[n] for n in wired)} {name}{scaled}")
     lines += body
     lines += ["", "* models"]
     if diode_model:

@@ -9,6 +9,7 @@ from planner.mapping import Plan
 from .bom import tube_label
 from .budgets import plan_budgets, supply_warnings
 from .designators import counted, ranges
+from .tables import networks_table
 from .timing_text import clock_lines, register_table, timing_lines
 
 
@@ -53,4 +54,7 @@ def plan_summary(plan: Plan) -> str:
     solver = [[s.solver, s.status, f"{s.objective:.4g}", f"{s.lp_bound:.4g}", f"{s.gap * 100:.2f} %",
                f"{s.seconds:.1f} s"]]
     lines += ["", tabulate(solver, headers=["solver", "status", "objective", "LP bound", "gap", "time"])]
+    networks = networks_table(plan)
+    lines += ["", f"stage network chosen: {s.network}",
+              tabulate([list(row) for row in networks.rows], headers=list(networks.headers))]
     return "\n".join(lines)

@@ -31,6 +31,18 @@ def outputs_table(plan: Plan) -> Table:
                  tuple((name, net, forms.get(name, "")) for name, net in plan.outputs))
 
 
+def networks_table(plan: Plan) -> Table:
+    """Every candidate stage network the planner tried: stages, sections, envelopes, chosen or why not."""
+    chosen = plan.solution.network
+    rows = []
+    for n in plan.solution.networks:
+        envelopes = "" if n.envelopes is None else f"{n.envelopes:g}"
+        verdict = "chosen" if n.label == chosen else n.note
+        rows.append((n.label, "" if n.stages is None else str(n.stages),
+                     "" if n.sections is None else str(n.sections), envelopes, verdict))
+    return Table(("network", "stages", "sections", "envelopes", ""), tuple(rows), numeric=(1, 2, 3))
+
+
 def stock_table(plan: Plan) -> Table:
     return Table(("tube", "on hand", "used", "left in stock", "reserve kept", "scarce"),
                  tuple((tube_label(s), str(s.on_hand), str(s.used), str(s.on_hand - s.used), str(s.reserve),

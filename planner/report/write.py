@@ -136,6 +136,36 @@ def _check_writable(directory: Path, what: str) -> None:
                                             "system); choose another --out")
 
 
+def claim_files(out_dir: Path, names: Iterable[str]) -> None:
+    """List ``names`` in the plan marker of ``out_dir`` as files tubeplan wrote, so a re-plan replaces them.
+
+    For a command that adds files to a plan directory after the plan
+    (``tubeplan prove`` adds prove.json). Refuses (InputError) a directory
+    without the marker and a name that is already there as a file of the
+    user's (not listed). The marker is rewritten whole by a rename.
+    """
+    out_dir = Path(out_dir)
+    marker = out_dir / MARKER
+    if not marker.is_file():
+        raise InputError(str(out_dir), 0, f"has no {MARKER} marker, so it is not a plan directory tubeplan "
+                                          "wrote; give the --out directory of tubeplan plan")
+    tools = _written_by_tool(out_dir, PLAN_FILES)
+    for name in sorted(names):
+        if name not in tools and (out_dir / name).exists():
+            raise InputError(str(out_dir / name), 0, "is a file of yours (the plan marker does not list it), so it "
+                                                     "will not be overwritten; move it away and run again")
+    listed = sorted((tools - {MARKER}) | set(names))
+    handle, temporary = tempfile.mkstemp(prefix=f"{MARKER}.", dir=out_dir)
+    try:
+        with os.fdopen(handle, "w", encoding="utf-8") as out:
+            out.write(_marker_text(listed))
+        os.chmod(temporary, 0o644)
+        os.replace(temporary, marker)
+    except BaseException:
+        Path(temporary).unlink(missing_ok=True)
+        raise
+
+
 def kept_files(out_dir: Path, files: Iterable[str] = ()) -> list[str]:
     """Names in an earlier plan ``out_dir`` that a re-plan keeps (not written by tubeplan), sorted."""
     out_dir = Path(out_dir)

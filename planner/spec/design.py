@@ -4,14 +4,17 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-
-import sympy
+from functools import cached_property
+from typing import TYPE_CHECKING
 
 from .errors import InputError
 from .expressions import expression_names, is_valid_name, parse_expression
 from .fields import (check_keys, check_not_swapped, describe, describe_name, expect_list, expect_mapping, get_bool,
                      get_int, get_text, line_of)
 from .yamlfile import Mapping, YamlFile, read_yaml
+
+if TYPE_CHECKING:  # sympy is loaded only when an expression is parsed or built
+    import sympy
 
 #: Most inputs a minterm list may range over (2**20 assignments).
 MAX_MINTERM_INPUTS = 20
@@ -49,16 +52,43 @@ class OutputSpec:
     """A design output: ``expr`` on the care set; ``dont_care`` where any value will do.
 
     For outputs given as minterm lists, ``over`` names the inputs (first = most
-    significant bit) and ``minterms`` / ``dont_care_minterms`` keep the lists.
+    significant bit) and ``minterms`` / ``dont_care_minterms`` keep the lists; the
+    logic layer builds their truth tables from the lists directly
+    (``planner.logic.output_table``). ``given_expr`` / ``given_dont_care`` are the
+    expressions as read (None for a minterm list; ``given_dont_care`` None also means
+    no don't-cares); ``expr`` and ``dont_care`` are always sympy expressions, for a
+    minterm list the sum of its minterms, built only when first asked for.
     """
 
     name: str
-    expr: sympy.Basic
-    dont_care: sympy.Basic = sympy.false
+    given_expr: sympy.Basic | None
+    given_dont_care: sympy.Basic | None = None
     text: str = ""
     over: tuple[str, ...] | None = None
     minterms: tuple[int, ...] | None = None
     dont_care_minterms: tuple[int, ...] | None = None
+
+    @property
+    def is_minterm_list(self) -> bool:
+        return self.minterms is not None
+
+    @cached_property
+    def expr(self) -> sympy.Basic:
+        """The function as a sympy expression (for a minterm list: the OR of its minterms)."""
+        if self.given_expr is not None:
+            return self.given_expr
+        return _sum_of_minterms(self.over, self.minterms)
+
+    @cached_property
+    def dont_care(self) -> sympy.Basic:
+        """Where any value will do, as a sympy expression (``false`` when nowhere)."""
+        if self.given_dont_care is not None:
+            return self.given_dont_care
+        if self.minterms is not None:
+            return _sum_of_minterms(self.over, self.dont_care_minterms or ())
+        import sympy
+
+        return sympy.false
 
 
 @dataclass(frozen=True)
@@ -105,6 +135,8 @@ class Design:
         """
         if not self.registers:
             return self
+        import sympy
+
         inputs = self.inputs + tuple(InputSpec(reg.name, True) for reg in self.registers)
         outputs = self.outputs + tuple(OutputSpec(reg.next_output, reg.next, sympy.false,
                                                   f"next state of register {reg.name}")
@@ -171,6 +203,8 @@ class Design:
                              f"its named signals are written out; the limits are {MAX_FLATTENED_NODES} and "
                              f"{MAX_FLATTENED_DEPTH}: keep it under 20 inputs so it can be checked by truth "
                              "table, or use each signal fewer times")
+        import sympy
+
         needed = self.reached_names(expr)
         flat: dict = {}
         for signal in self.signals:
@@ -187,6 +221,8 @@ MAX_FLATTENED_DEPTH = 150
 
 def _tree_shape(expr: sympy.Basic, leaves: dict[str, tuple[int, int]]) -> tuple[int, int]:
     """(nodes, depth) of ``expr`` as a tree, where a symbol named in ``leaves`` stands for that shape."""
+    import sympy
+
     memo: dict[int, tuple[int, int]] = {}
     stack = [(expr, False)]
     while stack:
@@ -388,12 +424,12 @@ def _read_output(file: YamlFile, output_map: Mapping, name: str, value, known: s
     if not isinstance(value, Mapping):
         expr = _expression_value(file, output_map, name, value, what)
         _check_references(file, line, what, expr, known, outputs)
-        return OutputSpec(name, expr, sympy.false, str(output_map.raw.get(name, value)))
+        return OutputSpec(name, expr, None, str(output_map.raw.get(name, value)))
     if "minterms" not in value and "expr" in value:
         check_keys(file, value, ("expr", "dont_care"), what, required=("expr",))
         expr = _expression_value(file, value, "expr", value["expr"], what)
         _check_references(file, line, what, expr, known, outputs)
-        dont_care = sympy.false
+        dont_care = None
         if "dont_care" in value:
             dont_care = _expression_value(file, value, "dont_care", value["dont_care"], f"{what} dont_care")
             _check_references(file, line_of(value, "dont_care"), f"{what} dont_care", dont_care, known, outputs)
@@ -421,10 +457,8 @@ def _read_output(file: YamlFile, output_map: Mapping, name: str, value, known: s
     if both:
         raise file.error(line_of(value, "dont_care"),
                          f"{what}: minterm {both[0]} is listed both as a minterm and as a don't-care")
-    symbols = [sympy.Symbol(n) for n in over]
     text = f"minterms {list(on)} over {', '.join(over)}"
-    return OutputSpec(name, _sum_of_minterms(symbols, on), _sum_of_minterms(symbols, dc), text,
-                      tuple(over), on, dc)
+    return OutputSpec(name, None, None, text, tuple(over), on, dc)
 
 
 def _read_indices(file: YamlFile, mapping: Mapping, key: str, what: str, size: int) -> tuple[int, ...]:
@@ -442,8 +476,15 @@ def _read_indices(file: YamlFile, mapping: Mapping, key: str, what: str, size: i
     return tuple(sorted(seen))
 
 
-def _sum_of_minterms(symbols: list, indices) -> sympy.Basic:
-    """OR of the minterms ``indices`` over ``symbols`` (first symbol = most significant bit)."""
+def _sum_of_minterms(names, indices) -> sympy.Basic:
+    """OR of the minterms ``indices`` over inputs ``names`` (first = most significant bit).
+
+    Built only when a sympy expression of a minterm list is asked for (proofs by SAT
+    above 20 inputs, flattening); truth tables come from the lists themselves.
+    """
+    import sympy
+
+    symbols = [sympy.Symbol(n) for n in names]
     width = len(symbols)
     terms = []
     for index in indices:

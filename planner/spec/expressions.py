@@ -13,10 +13,12 @@ so deep nesting can never exhaust Python's recursion limit.
 from __future__ import annotations
 
 import re
-
-import sympy
+from typing import TYPE_CHECKING
 
 from .errors import InputError
+
+if TYPE_CHECKING:
+    import sympy
 
 #: Longest expression text accepted; longer blocks belong in named signals.
 MAX_EXPRESSION_CHARS = 20_000
@@ -67,6 +69,8 @@ def _tokens(text: str, path: str, line: int):
 
 def _apply(op: str, operands: list, depths: list) -> None:
     """Pop the operands of ``op`` and push the sympy node it builds."""
+    import sympy
+
     if op == "~":
         arg = operands.pop()
         depth = depths.pop() + 1
@@ -91,6 +95,8 @@ def parse_expression(text: str, *, path: str = "<expression>", line: int = 1) ->
     >>> parse_expression("1")
     True
     """
+    import sympy  # here, not at the top: commands that parse no expression never load it
+
     if not isinstance(text, str):
         raise InputError(path, line, f"expected an expression as text, found {text!r}")
     if len(text) > MAX_EXPRESSION_CHARS:

@@ -21,6 +21,8 @@ keeps its heuristic circuit) after :data:`EXACT_MAX_STATES` states.
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 EXACT_MAX_VARIABLES = 3
 EXACT_MAX_GATES = 6
 EXACT_MAX_STATES = 20_000
@@ -47,6 +49,15 @@ def nand_circuit(start: list[int], target: int, care: int, full: int, max_gates:
     return None
 
 
+@lru_cache(maxsize=4096)
+def cached_nand_circuit(start: tuple[int, ...], target: int, care: int, full: int,
+                        max_gates: int) -> tuple[tuple[int, int], ...] | None:
+    """:func:`nand_circuit`, memoised on its arguments (all values, so a hit is the same answer):
+    the network variants a plan tries meet the same blocks and never repeat a search."""
+    found = nand_circuit(list(start), target, care, full, max_gates)
+    return None if found is None else tuple(found)
+
+
 def _search(nodes: list[int], gates: list[tuple[int, int]], target: int, care: int, full: int, left: int,
             seen: dict[frozenset[int], int], budget: list[int]) -> list[tuple[int, int]] | None:
     """Depth-first: add one gate, at most ``left`` more; return the gate list when the target appears."""
@@ -57,6 +68,15 @@ def _search(nodes: list[int], gates: list[tuple[int, int]], target: int, care: i
     budget[0] -= 1
     n = len(nodes)
     if left == 1:
+        # Below the top, only gates reading the newest node can be new here: a gate on older
+        # nodes alone would have finished a smaller circuit, found at an earlier depth (the
+        # same first match, in the same order, as trying every pair).
+        if gates:
+            newest = nodes[-1]
+            for i in range(n):
+                if ((full & ~(nodes[i] & newest)) ^ target) & care == 0:
+                    return gates + [(i, n - 1)]
+            return None
         for i in range(n):
             for j in range(i, n):
                 if ((full & ~(nodes[i] & nodes[j])) ^ target) & care == 0:

@@ -6,7 +6,7 @@ from typing import Mapping
 
 import sympy
 
-from planner.logic import EXHAUSTIVE_LIMIT, counterexample, design_table
+from planner.logic import EXHAUSTIVE_LIMIT, counterexample, output_table
 
 from .network import Network
 
@@ -113,7 +113,7 @@ def prove(network: Network, design) -> None:
     if len(names) <= EXHAUSTIVE_LIMIT:
         values = simulate(network)
         for out in design.outputs:
-            table = design_table(design, out.expr, out.dont_care, names)
+            table = output_table(design, out, names)
             wrong = (values[network.outputs[out.name]] ^ table.on) & table.care
             if wrong:
                 index = (wrong & -wrong).bit_length() - 1

@@ -31,11 +31,13 @@ from typing import Callable, Mapping
 
 import sympy
 
-from planner.logic import EXHAUSTIVE_LIMIT, Cover, TruthTable, minimise, minimise_complement, table_from_expr
-from planner.logic import design_support, design_table, used_inputs
+from planner.logic import (EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, minimise, minimise_complement,
+                           table_from_expr)
+from planner.logic import design_support, design_table, output_support, output_table, used_inputs
 
 from .builder import Builder
-from .nand_exact import EXACT_MAX_GATES, EXACT_MAX_VARIABLES, nand_circuit
+from .nand_exact import EXACT_MAX_GATES, EXACT_MAX_VARIABLES, cached_nand_circuit
+from .nand_table import best_completion
 from .network import SECTIONS_PER_BRANCH, Network
 from .options import SynthesisOptions
 from .simulate import input_patterns, prove
@@ -137,15 +139,21 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
     full = 0
     if exhaustive:
         bits, full = input_patterns(names)
-    specs = [(s.name, "signal", s.expr, sympy.false) for s in design.signals]
-    specs += [(o.name, "output", o.expr, o.dont_care) for o in design.outputs]
+    specs = [(s.name, "signal", s.expr, sympy.false, None) for s in design.signals]
+    specs += [(o.name, "output", None, None, o) for o in design.outputs]
     blocks = []
-    for name, kind, expr, dc in specs:
-        support = design_support(design, expr, dc)
-        if options.flatten_limit is not None and len(support) <= options.flatten_limit:
-            table = design_table(design, expr, dc, support)
+    for name, kind, expr, dc, output in specs:
+        if output is not None and output.minterms is not None:  # read as a table, never an expression
+            support = output_support(design, output)
+            table = output_table(design, output, support)
         else:
-            table = table_from_expr(expr, used_inputs(order, expr, dc), dc)
+            if output is not None:
+                expr, dc = output.expr, output.dont_care
+            support = design_support(design, expr, dc)
+            if options.flatten_limit is not None and len(support) <= options.flatten_limit:
+                table = design_table(design, expr, dc, support)
+            else:
+                table = table_from_expr(expr, used_inputs(order, expr, dc), dc)
         variables = table.names
         if exhaustive and signal_set & set(variables):
             unreachable = table.full & ~_reachable(variables, bits, full)
@@ -155,9 +163,17 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
             if kind == "signal":
                 bits[name] = design_table(design, expr, names=names).on
             if options.fanin >= 2 and len(support) <= EXACT_MAX_VARIABLES:
-                flat = design_table(design, expr, dc, support)
-        blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
+                flat = table if expr is None else design_table(design, expr, dc, support)
+        try:
+            blocks.append(_Block(name, kind, table, minimise(table), minimise_complement(table), flat))
+        except BlockTooLarge as problem:
+            raise BlockTooLarge(f"{kind} {name!r}: {problem}") from None
     return blocks
+
+
+def _table_node(i: int, starts: int) -> int:
+    """A table circuit's node index among ``starts`` start nets: inputs keep theirs, gates follow the starts."""
+    return i if i < 3 else starts + i - 3
 
 
 def _form(block: _Block, polarity: bool, exact: bool) -> str:
@@ -274,7 +290,7 @@ class _Assembly:
             funcs = [values[x] for x in nets]
         key = (tuple(funcs), target, care, bound)
         if key not in self.cache:
-            self.cache[key] = nand_circuit(funcs, target, care, full, bound)
+            self.cache[key] = self._table_or_search(names, nets, funcs, target, care, full, bound)
         gates = self.cache[key]
         if gates is None:
             return None
@@ -283,6 +299,31 @@ class _Assembly:
         for i, j in gates:
             nets.append(self.builder.complement(nets[i]) if i == j else self.builder.stage([[nets[i], nets[j]]]))
         return nets[-1]
+
+    def _table_or_search(self, names: tuple[str, ...], nets: list[str], funcs: list[int], target: int,
+                         care: int, full: int, bound: int) -> list[tuple[int, int]] | None:
+        """Gates over ``nets`` (as :func:`nand_circuit` returns them) for ``target`` within ``bound``.
+
+        Three variables: the stored minimum circuit from the plain inputs
+        (:func:`nand_table.best_completion`); a search runs only when other nets
+        (complements, other blocks' nets) might share gates, and only for a circuit
+        smaller than the table's. Searches are memoised by their start functions,
+        so network variants never repeat one (:func:`cached_nand_circuit`).
+        """
+        if any((f ^ target) & care == 0 for f in funcs):
+            return []
+        stored = None
+        if len(names) == 3 and nets[:3] == list(names):
+            found = best_completion(target, care)
+            if found is not None:
+                stored = [(_table_node(i, len(nets)), _table_node(j, len(nets))) for i, j in found]
+        if stored is not None and (len(nets) == 3 or len(stored) == 1):
+            return stored if len(stored) <= bound else None
+        limit = bound if stored is None else min(bound, len(stored) - 1)
+        searched = cached_nand_circuit(tuple(funcs), target, care, full, limit) if limit >= 1 else None
+        if searched is not None:
+            return searched
+        return stored if stored is not None and len(stored) <= bound else None
 
     def output_net(self, block: _Block) -> tuple[str, bool, bool]:
         """The cheaper of the two candidates for an output: (net carrying f, polarity, exact)."""
