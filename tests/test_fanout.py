@@ -424,7 +424,9 @@ def test_a_failing_repair_is_said_and_others_plan(tmp_path, monkeypatch):
     lines = []
     plan = plan_design(design, load_stock(str(path)), MappingOptions(progress=lines.append))
     assert any("fails: buffer trees: net n4 (output p) cannot be spread (test)" in line for line in lines), lines
-    assert "duplicated drivers" in plan.solution.network
+    # Another strategy's network (duplicates, or followers where none fit: a buffer tree) is planned.
+    assert any(words in plan.solution.network for words in ("buffer trees", "duplicated drivers", "followers"))
+    assert all(s.fanout <= s.fanout_limit for s in plan.stages)
 
 
 @settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
