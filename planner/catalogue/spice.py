@@ -79,15 +79,26 @@ def _softplus(x: str) -> str:
 
 
 def _tail(m: ModelParams) -> str:
-    """The cut-off tail factor E1^2 / (E1^2 + tail_volts^2), as in ``models``; empty without one."""
+    """The cut-off tail factor E1^2 / (E1^2 + tail_volts^2), as in ``models``; empty without one.
+
+    E1 is clamped to [0, 1e4] V inside the factor (it never exceeds a few hundred volts at a
+    solution) so that wild Newton iterates cannot overflow the square.
+    """
     if m.tail_volts is None:
         return ""
-    return f"*v(e1)*v(e1)/(v(e1)*v(e1)+{_num(m.tail_volts ** 2)})"
+    e1 = f"min(max(v(e1),0),{_num(_BOUND_VOLTS)})"
+    return f"*{e1}*{e1}/({e1}*{e1}+{_num(m.tail_volts ** 2)})"
+
+
+_BOUND_VOLTS = 1e4
+"""Bound on the triode's internal voltages in the deck (far above any real one)."""
 
 
 def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
     """B-source lines for the plate (and screen) currents of one section, scaled by ``wear``."""
-    ep = "max(v(p,k),0)"
+    # Bounded at 10 kV (far above any plate voltage here) so that Newton steps far outside the circuit's
+    # range (a follower's cathode swinging during a transient) cannot overflow the squares.
+    ep = f"min(max(v(p,k),0),{_num(_BOUND_VOLTS)})"
     if m.equation == "diode":
         return [f"Bp p k I={{wear}}*{_num(m.perveance)}*pow({ep},1.5)"]
     if m.equation == "child-langmuir":
@@ -95,7 +106,7 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
         return [f"Bp p k I={{wear}}*{_num(m.perveance)}*pow({drive},1.5)"]
     if m.equation == "koren-triode":
         arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+(v(g,k)+{_num(m.vct or 0.0)})/sqrt({_num(m.kvb)}+{ep}*{ep}))"
-        return [f"Be1 e1 0 V={ep}/{_num(m.kp)}*{_softplus(arg)}",
+        return [f"Be1 e1 0 V=min({ep}/{_num(m.kp)}*{_softplus(arg)},{_num(_BOUND_VOLTS)})",
                 "Re1 e1 0 1G",
                 f"Bp p k I={{wear}}*2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]
     # Koren pentode; the screen voltage floor keeps Eg1/Eg2 finite at 0 V.
@@ -139,7 +150,7 @@ def spice_subcircuit(tube: TubeType, kind_or_means: str) -> str:
              f".subckt {subcircuit_name(tube, kind)} {pins} params: wear=1"]
     lines += _plate_expressions(m, kind)
     if kind != "diode" and m.grid_perveance is not None:
-        lines.append(f"Bgk g k I={_num(m.grid_perveance)}*pow(max(v(g,k),0),1.5)")
+        lines.append(f"Bgk g k I={_num(m.grid_perveance)}*pow(min(max(v(g,k),0),1e4),1.5)")
     if kind == "dual-control" and m.grid_perveance is not None:
         lines.append(f"Bg3k g3 k I={_num(m.grid_perveance)}*pow(max(v(g3,k),0),1.5)")
     caps = (("Cin", "g k" if kind != "diode" else "p k", tube.c_in_pf),
