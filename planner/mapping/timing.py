@@ -46,8 +46,8 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from planner.electrical import (DIODE_DROP_VOLTS, DIODE_PF, ESTIMATE_TOLERANCE, HOLD_FACTOR, NOMINAL_CORNER, WIRING_PF,
-                                InverterTiming, Load, ScreenFeed, TimingCorner, Wave, flip_edges, follower_edge,
-                                inverter_edge, slow_corner)
+                                InverterTiming, Load, ScreenFeed, Steering, TimingCorner, Wave, flip_edges,
+                                follower_edge, inverter_edge, slow_corner)
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
@@ -271,14 +271,21 @@ def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict
         base = ((tube.c_out_pf or 0.0) + c_series) * 1e-12
         latest = 0.0
         c, f = nets.corner, nets.corner.farads_scale
-        for rising, falling in ((reg.output, reg.complement), (reg.complement, reg.output)):
+        # A flip cuts off the side whose level input is low: q rises when ~D (side 2's) was low.
+        for rising, falling, level in ((reg.output, reg.complement, reg.next_complement),
+                                       (reg.complement, reg.output, reg.next)):
+            # Steered by its own outputs (a toggle), the cut-off side's Rs hangs on the rising plate;
+            # away from nominal the clock may give its largest step (the deepest pulse, the slowest rise).
+            swing = b.clock_swing_volts * (1.0 if c.name == "nominal" else 1.0 + b.clock_tolerance)
+            steering = Steering(b.steering_ohms * c.ohms_scale, b.steering_pf * 1e-12 * f,
+                                b.steering_node_pf * 1e-12 * f, swing) if level == rising else None
             up, down = flip_edges(c.tube(tube), c.wear(tube, nets.wear(reg.tube)),
                                   nets.stock.plate.volts * c.supply_scale, b.plate_load_ohms * c.ohms_scale,
                                   c.load(own), b.commutating_pf * 1e-12 * f, grid * 1e-12 * f,
                                   nets.loads_at_corner(nets.load_pairs(rising, (own,))),
                                   nets.loads_at_corner(nets.load_pairs(falling, (own,))),
                                   (base + nets.node_farads(rising) + (tube.c_gp_pf or 0.0) * 1e-12) * f,
-                                  (base + nets.node_farads(falling)) * f, mid)
+                                  (base + nets.node_farads(falling)) * f, mid, steering)
             origin = f"register {reg.name}"
             k = c.bound_factor
             arrivals[(rising, RISE)] = _Arrival(k * up.seconds, up.output, None, origin)
