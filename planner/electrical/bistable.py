@@ -172,25 +172,28 @@ def _heavy_load(family: Family, types, bias_volts: float) -> Load:
 
 @dataclass(frozen=True)
 class Steering:
-    """The steered side's steering network, for a flip whose rising plate is that side's level input.
+    """Steering inputs on a flip's rising plate: ``count`` alike steering nodes whose level input it is.
 
-    A register steered by its own outputs (a toggle: D = ~q, ~D = q) has the
-    steering resistor of the side the clock cuts off on the very plate that
-    then rises. ``ohms``: Rs; ``farads``: Cs; ``node_farads``: the steering
-    node's own capacitance (wiring, diode); ``swing_volts``: the clock's
-    falling step.
-    """
+    A plate that rises after the clock's edge was low at the edge, so every
+    steering node with that plate as its level input took the pulse: the
+    register's own cut-off side when it is steered by its own outputs (a
+    toggle: D = ~q, ~D = q), a following register's side in a shift chain.
+    Each hangs on the plate through its Rs. ``ohms``: Rs; ``farads``: Cs;
+    ``node_farads``: the steering node's own capacitance (wiring, diode);
+    ``swing_volts``: the clock's falling step.
+"""
 
     ohms: float
     farads: float
     node_farads: float
     swing_volts: float
+    count: int = 1
 
 
 def _steered_rise(supply_volts: float, plate_load_ohms: float, divider: Load, rising_loads, rising_farads: float,
                   c_grid: float, commutating_farads: float, falling_farads: float, low: float, high: float,
                   steering: Steering):
-    """The rising plate as a function of time when the steered node hangs on it through Rs.
+    """The rising plate as a function of time when steered nodes hang on it through their Rs.
 
     The clock's step takes the steering node from the plate's low level down
     by ``Cs / (Cs + C_x)`` of the step until its diode conducts (the grid at
@@ -216,13 +219,14 @@ def _steered_rise(supply_volts: float, plate_load_ohms: float, divider: Load, ri
     if steering.swing_volts > first:
         x0 = g_on - drop - (steering.swing_volts - first) * cs / c_node
     tap_hi, r_th = thevenin(divider, high)
-    gs = 1.0 / steering.ohms
+    gs, n_steer = 1.0 / steering.ohms, steering.count
     g_p = 1.0 / plate_load_ohms + sum(n / (ld.upper_ohms + ld.lower_ohms) for n, ld in rising_loads
                                       if ld.diode_drop_volts is None)
     i_p = supply_volts / plate_load_ohms + sum(n * ld.bias_volts / (ld.upper_ohms + ld.lower_ohms)
                                                for n, ld in rising_loads if ld.diode_drop_volts is None)
     # The nodal equations C dv/dt = J - G v, v = (plate, steering node).
-    g11, g12, g21, g22 = g_p + gs, -gs, -gs, gs + 1.0 / r_th
+    # Alike steering nodes move together: each is one node, the plate sees all of them.
+    g11, g12, g21, g22 = g_p + n_steer * gs, -n_steer * gs, -gs, gs + 1.0 / r_th
     j1, j2 = i_p, tap_hi / r_th
     det = g11 * g22 - g12 * g21
     p_inf = (j1 * g22 - g12 * j2) / det
@@ -261,11 +265,11 @@ def flip_edges(tube: TubeType, wear: float, supply_volts: float, plate_load_ohms
     (:func:`planner.electrical.timing.inverter_edge`). ``*_loads``: each
     plate's loads (the other side's divider included).
 
-    ``steering``: given when the rising plate is the steered side's own level
-    input (a register steered by its outputs). Rs then ties the rising plate
-    to a steering node the pulse left tens of volts below ground, which
-    recovers slowly (its time constant is Cs's): the plate stalls well below
-    its high level and the other grid only creeps past its threshold. The
+    ``steering``: given when the rising plate is a level input of steering
+    nodes (:class:`Steering`). Each Rs then ties the rising plate to a
+    steering node the pulse left tens of volts below ground, which recovers
+    slowly (its time constant is Cs's): the plate stalls well below its high
+    level and the other grid only creeps past its threshold. The
     rising plate is then the two-node closed form of :func:`_steered_rise`;
     the other section's grid passes its threshold when that plate passes the
     level whose divider tap is the threshold, and the falling edge is timed
