@@ -1,9 +1,13 @@
 """tubeplan: plan digital logic built from vacuum tubes.
 
-Layers, each knowing only those below it:
-``spec`` -> ``logic`` -> ``stages`` -> ``electrical`` -> ``mapping`` -> ``report``.
-``catalogue`` is tube data used by ``spec`` (type names, custom types),
-``electrical``, ``mapping`` and ``report``.
+Two branches meet in ``mapping``: the logic branch ``spec`` -> ``logic`` ->
+``stages`` (proven stage networks, knowing nothing of tubes) and the electrical
+branch ``catalogue`` -> ``electrical`` (the logic family and its templates,
+knowing nothing of the design).  ``mapping.plan_design`` chooses tube types with
+an integer program and returns a ``Plan``; ``report`` writes it out; ``prove``
+checks a written plan in ngspice.  ``pipeline`` composes ``tubeplan plan``;
+``cli`` holds arguments and printing.  A module reaches another package only
+through its ``__init__``.  See docs/architecture.md.
 """
 
 __version__ = "0.1.0"

@@ -44,8 +44,6 @@ def plan_files(design_path: Path, stock_path: Path, out_dir: Path,
     with the shortage as the summary, and writes nothing.
     """
     progress = None if quiet else _progress_since(time.monotonic())
-    if progress:
-        progress(f"reading {design_path} and {stock_path}")
     design = load_design(design_path)
     stock = load_stock(stock_path)
     inputs = (Path(design_path), Path(stock_path))

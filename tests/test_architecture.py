@@ -52,6 +52,7 @@ def test_the_check_sees_a_reach_in(tmp_path, monkeypatch):
     fake = tmp_path / "planner"
     (fake / "mapping").mkdir(parents=True)
     (fake / "electrical").mkdir()
-    (fake / "mapping" / "bad.py").write_text("from planner.electrical.circuit import Load\nfrom ..electrical import Rails\n")
+    (fake / "mapping" / "bad.py").write_text("from planner.electrical.circuit import Load\n"
+                                             "from ..electrical import Rails\n")
     monkeypatch.setattr(__import__(__name__), "ROOT", fake)
     assert reach_ins() == ["planner/mapping/bad.py:1: planner.electrical.circuit"]

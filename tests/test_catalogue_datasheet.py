@@ -125,7 +125,7 @@ def test_dual_control_needs_both_grids_high():
         g1_cut = cutoff_grid_volts(tube, plate_volts=ep, screen_volts=es)
         g3_cut = cutoff_grid_volts(tube, plate_volts=ep, screen_volts=es, grid3=True)
 
-        def ip(g1, g3):
+        def ip(g1, g3, tube=tube, ep=ep, es=es):
             return plate_current_amps(tube, plate_volts=ep, screen_volts=es, grid_volts=g1, grid3_volts=g3)
 
         both = ip(0.0, 0.0)

@@ -42,7 +42,8 @@ def test_stage_text_states_the_cutoff_and_the_allowance(run_cli):
     status, out, _ = run_cli("stage", "12AT7", "--plate-volts", 250, "--bias-volts", -100)
     assert status == 0
     cut = cutoff_grid_volts(CAT.get("12AT7"), plate_volts=262.5)  # the catalogue's 10 uA cut-off
-    assert f"cut-off          {cut:+.1f} V at a load's grid (10 uA) with the plate at the highest supply, 262.5 V" in out
+    line = f"cut-off          {cut:+.1f} V at a load's grid (10 uA) with the plate at the highest supply, 262.5 V"
+    assert line in out
     status, out, _ = run_cli("stage", "6AU6", "--plate-volts", 250, "--bias-volts", -100)
     assert status == 0 and "15% deeper: 6AU6's data are from memory" in out
 

@@ -129,7 +129,7 @@ def test_family_levels_and_parts():
     for f in fam.followers.values():
         assert f.high_volts >= fam.high_min_volts and f.low_volts <= fam.follower_low_max_volts
         assert f.section_watts_worst <= CAT.get(f.tube).max_plate_watts  # catalogue rating
-    for key, why in fam.rejected.items():
+    for _key, why in fam.rejected.items():
         assert why.message and why.limit
 
 

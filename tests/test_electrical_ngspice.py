@@ -75,7 +75,8 @@ def test_plate_node_and_grids_match_ngspice(name, means, kind, state, tmp_path):
     section = SectionState(tube, grid, 0.0, 1.0, feed)
     # A corner of the tolerance box (resistors and supplies off nominal), as concrete values.
     supply, bias, rl = 250 * 1.05, -100 * 0.95, d.plate_load_ohms * 0.95
-    loads = [Load(r.upper_ohms * k1, r.lower_ohms * k2, bias, tube) for k1, k2 in ((0.95, 1.05), (1.0, 1.0), (1.05, 0.95))]
+    loads = [Load(r.upper_ohms * k1, r.lower_ohms * k2, bias, tube)
+             for k1, k2 in ((0.95, 1.05), (1.0, 1.0), (1.05, 0.95))]
     v = solve_plate(supply, rl, ((1, section),), tuple((1, ld) for ld in loads))
     spice = _ngspice(_netlist(tube, kind, supply, rl, section, loads, bias), tmp_path)
     assert _close(v, spice["p"]), (v, spice)  # ngspice operating point, same equations

@@ -15,7 +15,8 @@ CAT = builtin_catalogue()
 
 
 def test_brent_root_simple_functions():
-    assert brent_root(lambda x: x**3 - 2 * x - 5, 2.0, 3.0) == pytest.approx(2.0945514815, abs=1e-7)  # the classic cubic of Wallis; root from memory
+    # The classic cubic of Wallis; its root from memory.
+    assert brent_root(lambda x: x**3 - 2 * x - 5, 2.0, 3.0) == pytest.approx(2.0945514815, abs=1e-7)
     assert brent_root(math.cos, 0.0, 3.0) == pytest.approx(math.pi / 2, abs=1e-7)
     assert brent_root(lambda x: x - 1.0, 1.0, 4.0) == 1.0
     with pytest.raises(NoBracket, match=r"^no sign change on \[-1.0, 1.0\]"):

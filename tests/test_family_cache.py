@@ -77,3 +77,13 @@ def test_heater_elevations_are_part_of_the_key():
     rails, rules = Rails(250, -100), DesignRules()
     assert family_key(rails, _tubes(), rules, (0.0, 60.0)) != family_key(rails, _tubes(), rules)
     assert family_key(rails, _tubes(), rules, (0.0,)) == family_key(rails, _tubes(), rules, ())
+
+
+def test_every_field_of_an_input_is_part_of_the_network_key():
+    from planner.spec import load_design
+    from planner.stages import SynthesisOptions, network_key
+
+    design = load_design("inventory_demo/design.yaml")
+    limited = dataclasses.replace(design, inputs=(dataclasses.replace(design.inputs[0], fanout=2),)
+                                  + design.inputs[1:])
+    assert network_key(limited, SynthesisOptions()) != network_key(design, SynthesisOptions())

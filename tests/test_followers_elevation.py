@@ -120,7 +120,7 @@ def test_elevation_fixes_a_follower_that_fails_without_it():
     # Drivers' receivers keep the drivers' window; the followers' loads get dividers of their own.
     assert raised.follower_low_max_volts > raised.low_max_volts
     assert set(raised.follower_receivers) == set(raised.receivers)
-    for key, rec in raised.follower_receivers.items():
+    for _key, rec in raised.follower_receivers.items():
         assert rec.margin_high_volts >= 0 and rec.margin_low_volts >= raised.rules.margin_volts
 
 

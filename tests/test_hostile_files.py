@@ -75,7 +75,7 @@ def test_plans_are_byte_identical_across_hash_seeds(tmp_path):
         out = tmp_path / f"plan_{seed}"
         runs.append((out, subprocess.Popen(_plan_command(DEMO_DESIGN, "--stock", DEMO_STOCK, "--out", out),
                                            env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE)))
-    for out, process in runs:
+    for _out, process in runs:
         _, err = process.communicate(timeout=600)
         assert process.returncode == 0, err.decode()
     first, second = (_snapshot(out) for out, _ in runs)

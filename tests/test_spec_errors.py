@@ -133,7 +133,8 @@ def test_deep_yaml_nesting(write, run_cli):
 
 def test_injection_runs_nothing_in_a_real_process(write, tmp_path):
     """A separate interpreter, as a user would run it: no traceback, exit 2, no file written."""
-    path = write("design.yaml", DESIGN_MISTAKES[22][1])
+    text = next(text for label, text, _line, _words in DESIGN_MISTAKES if label == "python tag injection")
+    path = write("design.yaml", text)
     result = subprocess.run([sys.executable, "-m", "planner.cli", "check", str(path)], cwd=tmp_path,
                             capture_output=True, text=True)
     assert result.returncode == 2

@@ -101,7 +101,7 @@ def test_five_thousand_parentheses_parse():
 
 def test_deep_operator_nesting_is_a_clear_message():
     text = "a"
-    for index in range(MAX_EXPRESSION_DEPTH + 5):
+    for _index in range(MAX_EXPRESSION_DEPTH + 5):
         text = f"(b | {text}) & c"
     try:
         parse_expression(text)

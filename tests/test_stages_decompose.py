@@ -132,7 +132,7 @@ def test_de_morgan_on_every_rewrite(options):
     rng = random.Random(7)
     names = tuple(f"x{i}" for i in range(7))
     syms = {n: sympy.Symbol(n) for n in names}
-    for trial in range(12):
+    for _trial in range(12):
         complements = tuple(n for n in names if rng.random() < 0.4)
         b = Builder(options, {n: "~" + n for n in complements})
         k = rng.randint(1, 7)

@@ -86,13 +86,19 @@ def _tail(m: ModelParams) -> str:
     """
     if m.tail_volts is None:
         return ""
-    e1 = "min(max(v(e1),0),1e4)"
+    e1 = f"min(max(v(e1),0),{_num(_BOUND_VOLTS)})"
     return f"*{e1}*{e1}/({e1}*{e1}+{_num(m.tail_volts ** 2)})"
+
+
+_BOUND_VOLTS = 1e4
+"""Bound on the triode's internal voltages in the deck (far above any real one)."""
 
 
 def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
     """B-source lines for the plate (and screen) currents of one section, scaled by ``wear``."""
-    ep = "min(max(v(p,k),0),1e5)"  # clamped: wild Newton iterates must not overflow its square
+    # Bounded at 10 kV (far above any plate voltage here) so that Newton steps far outside the circuit's
+    # range (a follower's cathode swinging during a transient) cannot overflow the squares.
+    ep = f"min(max(v(p,k),0),{_num(_BOUND_VOLTS)})"
     if m.equation == "diode":
         return [f"Bp p k I={{wear}}*{_num(m.perveance)}*pow({ep},1.5)"]
     if m.equation == "child-langmuir":
@@ -100,7 +106,7 @@ def _plate_expressions(m: ModelParams, kind: str) -> list[str]:
         return [f"Bp p k I={{wear}}*{_num(m.perveance)}*pow({drive},1.5)"]
     if m.equation == "koren-triode":
         arg = f"{_num(m.kp)}*(1/{_num(m.mu)}+(v(g,k)+{_num(m.vct or 0.0)})/sqrt({_num(m.kvb)}+{ep}*{ep}))"
-        return [f"Be1 e1 0 V=min({ep}/{_num(m.kp)}*{_softplus(arg)},1e4)",
+        return [f"Be1 e1 0 V=min({ep}/{_num(m.kp)}*{_softplus(arg)},{_num(_BOUND_VOLTS)})",
                 "Re1 e1 0 1G",
                 f"Bp p k I={{wear}}*2*pow(max(v(e1),0)+1e-30,{_num(m.ex)})/{_num(m.kg1)}{_tail(m)}"]
     # Koren pentode; the screen voltage floor keeps Eg1/Eg2 finite at 0 V.

@@ -276,7 +276,8 @@ def follower_on_node(tube: TubeType, wear: float, supply_volts: float, node_load
 
     def residual(vk: float) -> float:
         vp, ig = node(vk)
-        r = wear * plate_current_amps(tube, plate_volts=supply_volts - vk, grid_volts=vp - vk) if vk < supply_volts else 0.0
+        r = (wear * plate_current_amps(tube, plate_volts=supply_volts - vk, grid_volts=vp - vk)
+             if vk < supply_volts else 0.0)
         r += ig - (vk - bias_volts) / cathode_ohms
         for n, ld in loads:
             r -= n * load_amps(ld, vk)

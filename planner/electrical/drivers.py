@@ -194,7 +194,7 @@ def design_driver(ctx: TubeContext, means: str, low_volts: float, high_volts: fl
         return _no_candidate(ctx, means, options, values, low_volts, high_volts, env, low_fails, high_fails)
     candidates.sort()
     first_problem = None
-    for _, _, neg_f, rl, oi, ri in candidates:
+    for _, _, neg_f, _rl, oi, ri in candidates:
         result = _verify(ctx, means, options[oi], values, ri, -neg_f, env, first_problem is None)
         if isinstance(result, Driver):
             return result

@@ -59,7 +59,8 @@ def design_follower(ctx: TubeContext, high_volts: float, accept_low_volts: float
         return Shortfall("section kind", 0.0, "", f"{ctx.name} has no triode section for a follower")
     if ctx.plate_rating_problem:
         limit, excess, unit = ctx.plate_rating_problem
-        return Shortfall(limit, excess, unit, f"the plate supply exceeds the {ctx.name}'s plate rating by {excess:.1f} V")
+        return Shortfall(limit, excess, unit,
+                         f"the plate supply exceeds the {ctx.name}'s plate rating by {excess:.1f} V")
     delta = accept_low_volts - drive_low_volts
     if delta <= 0:
         return Shortfall("follower allowance", 0.0, "V",

@@ -110,7 +110,8 @@ class TimingCorner:
         r, f = self.ohms_scale, self.farads_scale
         feed = stage.feed and ScreenFeed(stage.feed.series_ohms * r,
                                          None if stage.feed.shunt_ohms is None else stage.feed.shunt_ohms * r)
-        return replace(stage, tube=self.tube(stage.tube), wear=self.wear(stage.tube, stage.wear), supply_volts=stage.supply_volts * self.supply_scale,
+        return replace(stage, tube=self.tube(stage.tube), wear=self.wear(stage.tube, stage.wear),
+                       supply_volts=stage.supply_volts * self.supply_scale,
                        plate_load_ohms=stage.plate_load_ohms * r, divider=self.load(stage.divider),
                        loads=tuple((n, self.load(ld)) for n, ld in stage.loads), plate_farads=stage.plate_farads * f,
                        grid_farads=stage.grid_farads * f, feed=feed, speedup_farads=stage.speedup_farads * f)
@@ -433,7 +434,7 @@ def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load
     ``1 / (gm + 1/Rk + loads)``; falling, it cannot fall faster than its
     capacitance discharges through Rk and the loads towards the bias supply
     (an exponential edge from the high level), so it crosses the midpoint at
-    the later of its grid's crossing and that RC edge's. A grid stopper adds
+    the later of its grid's crossing (plus the tracking lag) and that RC edge's. A grid stopper adds
     its time constant with the grid's capacitance. Cost: two cathode solves.
     """
     c_grid = ((tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0)) * 1e-12
@@ -443,18 +444,19 @@ def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load
     k0 = follower_cathode_volts(tube, wear, supply_volts, drive.from_volts, cathode_load_ohms, bias_volts, loads)
     k1 = follower_cathode_volts(tube, wear, supply_volts, drive.to_volts, cathode_load_ohms, bias_volts, loads)
     t_in = drive.crossing_seconds(mid_volts)
+    # While the section conducts, the cathode tracks its grid one small-signal time constant behind.
+    k_on, g_on = (k1, drive.to_volts) if k1 > k0 else (k0, drive.from_volts)
+    h = 0.01
+    gm = wear * (plate_current_amps(tube, plate_volts=supply_volts - k_on, grid_volts=g_on - k_on + h)
+                 - plate_current_amps(tube, plate_volts=supply_volts - k_on, grid_volts=g_on - k_on - h)) / (2 * h)
+    lag = t_stop + cathode_farads / (gm + g_k)
     if k1 > k0:
-        h = 0.01
-        gm = wear * (plate_current_amps(tube, plate_volts=supply_volts - k1, grid_volts=drive.to_volts - k1 + h)
-                     - plate_current_amps(tube, plate_volts=supply_volts - k1, grid_volts=drive.to_volts - k1 - h)
-                     ) / (2 * h)
-        lag = t_stop + cathode_farads / (gm + g_k)
         return Edge(True, lag, lag, Wave(k0, k1, drive.shape, drive.seconds))
     tau = cathode_farads / g_k
     t_rc = tau * math.log((k0 - bias_volts) / (mid_volts - bias_volts))
     if t_rc > t_in:
         return Edge(False, t_stop + t_rc - t_in, t_stop, Wave(k0, k1, "exponential", tau))
-    return Edge(False, t_stop, t_stop, Wave(k0, k1, drive.shape, drive.seconds))
+    return Edge(False, lag, t_stop, Wave(k0, k1, drive.shape, drive.seconds))
 
 
 __all__ = ["DIODE_PF", "ESTIMATE_TOLERANCE", "NOMINAL_CORNER", "SLOW_FARADS_SCALE", "WIRING_PF", "Edge",

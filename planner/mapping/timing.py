@@ -234,7 +234,8 @@ def _corner_timing(plan: Plan, network, placement: Placement, family, stock, rul
                 if src is None:  # a constant input never makes this edge
                     continue
                 c = corner
-                edge = follower_edge(c.tube(tube), c.wear(tube, nets.wear(way.tube)), stock.plate.volts * c.supply_scale,
+                edge = follower_edge(c.tube(tube), c.wear(tube, nets.wear(way.tube)),
+                                     stock.plate.volts * c.supply_scale,
                                      follower.cathode_load_ohms * c.ohms_scale, nets.vc * c.supply_scale,
                                      nets.loads_at_corner(nets.load_pairs(stage.output)),
                                      nets.node_farads(stage.output) * c.farads_scale,

@@ -34,7 +34,8 @@ def deck_params(deck: str) -> dict[str, float]:
     """
     params = {}
     for line in re.findall(r"(?mi)^\s*\.param\s+(.*)$", deck):
-        for name, value in re.findall(r"(\w+)\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?)(?=\s|$)", line, re.IGNORECASE):
+        number = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?"
+        for name, value in re.findall(rf"(\w+)\s*=\s*({number})(?=\s|$)", line, re.IGNORECASE):
             params[name.lower()] = float(value)
     return params
 

@@ -90,7 +90,7 @@ def _number(document, where: str, *keys) -> float:
 
 def _stages(document, where: str) -> tuple[LogicStage, ...]:
     stages = []
-    for k, stage in enumerate(_field(document, where, "stages", kind=list)):
+    for stage in _field(document, where, "stages", kind=list):
         kind = _field(stage, where, "kind", kind=str)
         output = _field(stage, where, "output", kind=str)
         if kind == "follower":

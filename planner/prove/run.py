@@ -344,7 +344,8 @@ def _prove_registers(plan, deck, corners, executable, say, seed) -> Proof:
     lines = [body, ".control", "set noaskquit", "set wr_singlescale"]
     for k, corner in enumerate(corners):
         lines += deck.corner_commands(corner)
-        lines += [f"tran {period / 400:.9g} {cycles * period:.9g}", "linearize", f"wrdata corner{k}.txt " + " ".join(probes), "destroy all", f"echo @@corner {k}"]
+        lines += [f"tran {period / 400:.9g} {cycles * period:.9g}", "linearize",
+                  f"wrdata corner{k}.txt " + " ".join(probes), "destroy all", f"echo @@corner {k}"]
     lines += ["quit", ".endc", ".end", ""]
     if say:
         say(f"{plan.design}: {cycles} clock cycles of {period * 1e3:.4g} ms at {len(corners)} corners in ngspice "

@@ -128,7 +128,7 @@ def stage_library(options: SynthesisOptions, section_cost: Mapping[str, float] |
     it).  Cost: the number of shapes, under a few hundred.
 
     >>> [c.name for c in stage_library(SynthesisOptions(max_branches=2))]
-    ['one', 'zero', 'inv', 'nor2', 'nand2', 'aoi21', 'aoi22']
+    ['one', 'zero', 'nand2', 'inv', 'aoi22', 'aoi21', 'nor2']
     """
     costs = {"single": 1.0, "dual": 1.0, "diode": 1.0}
     costs.update(section_cost or {})

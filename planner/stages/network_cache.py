@@ -3,14 +3,15 @@
 Synthesis depends only on the design's logic and the options, and its exact NAND
 searches take most of a small plan's time; a builder who changes the stock or a rail
 and plans again meets the same networks. :func:`cached_network` keys each network by
-every input, signal, output and register of the design (expressions by ``srepr``,
-minterm lists as given), the options, and the source text of the ``spec``, ``logic`` and
+the whole design (every field of its inputs, signals, outputs and registers; expressions
+by ``srepr``, minterm lists as given), the options, and the source text of the ``spec``, ``logic`` and
 ``stages`` packages (so a change of the code that made it never reads a stale one). The
 caller proves the network against the design on every run, hit or miss.
 """
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 from planner.diskcache import cache_dir, key_of, remembered, source_digest
@@ -20,25 +21,28 @@ from .options import SynthesisOptions
 from .synthesis import synthesise
 
 
-def _expr(expr) -> str | None:
-    if expr is None:
-        return None
-    import sympy
+def _describe(value):
+    """A hashable, exact description of a design value: dataclasses field by field (the fields
+    that take part in equality, so a new field is keyed as soon as it exists), sympy
+    expressions by ``srepr``, anything else by ``repr``."""
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return (type(value).__name__,) + tuple(
+            (f.name, _describe(getattr(value, f.name))) for f in dataclasses.fields(value) if f.compare)
+    if isinstance(value, (tuple, list)):
+        return tuple(_describe(v) for v in value)
+    if type(value).__module__.startswith("sympy"):
+        import sympy
 
-    return sympy.srepr(expr)
+        return sympy.srepr(value)
+    return repr(value)
 
 
 def network_key(design, options: SynthesisOptions) -> str:
-    """The hash naming the cache entry of ``synthesise(design, options).network``."""
+    """The hash naming the cache entry of ``synthesise(design, options).network``: the whole
+    design (:func:`_describe`), the options and the source of the packages that synthesise."""
     packages = Path(__file__).resolve().parent.parent
     source = source_digest(packages / name for name in ("spec", "logic", "stages"))
-    return key_of(
-        source, options,
-        tuple((spec.name, spec.complement) for spec in design.inputs),
-        tuple((s.name, _expr(s.expr)) for s in design.signals),
-        tuple((o.name, _expr(o.given_expr), _expr(o.given_dont_care), o.over, o.minterms, o.dont_care_minterms)
-              for o in design.outputs),
-        tuple((r.name, _expr(r.next), r.reset) for r in design.registers))
+    return key_of(source, _describe(options), _describe(design))
 
 
 def cached_network(design, options: SynthesisOptions, *, directory: Path | None | str = "environment") -> Network:
