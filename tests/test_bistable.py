@@ -13,8 +13,8 @@ import subprocess
 import pytest
 
 from planner.catalogue import builtin_catalogue, spice_subcircuit, subcircuit_name
-from planner.electrical import (CAPACITOR_TOLERANCE, WIRING_PF, Bistable, DesignRules, Rails, design_bistable,
-                                design_family, flip_edges)
+from planner.electrical import (CAPACITOR_TOLERANCE, WIRING_PF, Bistable, DesignRules, Rails, Steering,
+                                design_bistable, design_family, flip_edges)
 from planner.electrical.circuit import Load
 from planner.electrical.context import TubeContext
 
@@ -141,8 +141,10 @@ def test_flip_estimate_against_ngspice(design, tmp_path):
     c_series = b.commutating_pf * b.grid_node_pf / (b.commutating_pf + b.grid_node_pf)
     farads = ((tube.c_out_pf or 0) + WIRING_PF + c_series + (tube.c_gp_pf or 0)) * 1e-12
     mid = 0.5 * (b.high_volts + b.low_volts)
+    # Steered by its own plates: the cut-off side's Rs hangs on the rising plate.
+    steering = Steering(b.steering_ohms, b.steering_pf * 1e-12, b.steering_node_pf * 1e-12, b.clock_swing_volts)
     up, down = flip_edges(tube, 1.0, RAILS.plate_volts, b.plate_load_ohms, own, b.commutating_pf * 1e-12,
-                          b.grid_node_pf * 1e-12, loads, loads, farads, farads, mid)
+                          b.grid_node_pf * 1e-12, loads, loads, farads, farads, mid, steering)
     edge = period / 2 + CLOCK_FALL / 2  # the clock's falling midpoint
     for estimate, measured in ((up.seconds, found["flip"] - edge), (down.seconds, found["flop"] - edge)):
         # Reference: ngspice, each plate's midpoint crossing after the clock's falling edge.

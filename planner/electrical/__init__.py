@@ -16,7 +16,8 @@ Public API:
 - ``brent_root(f, lo, hi)`` (the 1-D solver used throughout)
 - circuit values the timing model shares: ``Load``, ``ScreenFeed``, ``DIODE_DROP_VOLTS``
 - registers (docs/registers.md): ``design_bistable(family, tube, wear, types) -> Bistable``
-  (or ``Shortfall``), ``design_bistables`` (several types on one clock), ``flip_edges``,
+  (or ``Shortfall``), ``design_bistables`` (several types on one clock), ``flip_edges`` (with
+  ``Steering`` for a register steered by its own outputs),
   ``is_dual_triode``, ``RESET_PULLUP_OHMS``
 - timing: ``Wave``, ``Edge``, ``InverterTiming``, ``inverter_edge``, ``follower_edge``,
   ``WIRING_PF``, ``DIODE_PF``; corners ``TimingCorner``, ``NOMINAL_CORNER``,
@@ -27,7 +28,7 @@ mixing rule of a family.
 """
 
 from .bistable import (CAPACITOR_TOLERANCE, CLOCK_TOLERANCE, HOLD_FACTOR, RESET_PULLUP_OHMS, Bistable, design_bistable,
-                       design_bistables, flip_edges, is_dual_triode)
+                       Steering, design_bistables, flip_edges, is_dual_triode)
 from .circuit import Load, ScreenFeed
 from .eseries import RESISTOR_RATINGS_WATTS, e_series, nearest_values, resistor_rating_watts, series_values
 from .family import design_family
@@ -44,7 +45,7 @@ from .timing import (DIODE_PF, ESTIMATE_TOLERANCE, NOMINAL_CORNER, WIRING_PF, Ed
 __all__ = [
     "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_DROP_VOLTS", "DIODE_PF", "ESTIMATE_TOLERANCE", "HOLD_FACTOR",
     "NOMINAL_CORNER", "RESET_PULLUP_OHMS", "TimingCorner", "WIRING_PF", "slow_corner",
-    "Bistable", "Edge", "InverterTiming", "Wave", "design_bistable", "design_bistables", "flip_edges",
+    "Bistable", "Edge", "InverterTiming", "Steering", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "FollowerTemplate", "Load", "ScreenFeed", "NoTemplate",
     "RESISTOR_RATINGS_WATTS", "Rails", "Receiver", "Shortfall", "Template", "brent_root", "cached_family",

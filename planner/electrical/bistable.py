@@ -61,7 +61,8 @@ from .context import TubeContext
 from .eseries import nearest_values, resistor_rating_watts, series_values
 from .parts import Family, Shortfall
 from .rules import DIODE_DROP_VOLTS
-from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, inverter_edge
+from .roots import brent_root
+from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, inverter_edge, threshold_grid_volts
 
 #: The clock generator's falling step must stay within this fraction of its nominal swing (the plan
 #: states the nominal and the window it must keep to).
@@ -169,10 +170,90 @@ def _heavy_load(family: Family, types, bias_volts: float) -> Load:
     return Load(heavy.upper_ohms, heavy.lower_ohms, bias_volts, types[heavy.tube])
 
 
+@dataclass(frozen=True)
+class Steering:
+    """Steering inputs on a flip's rising plate: ``count`` alike steering nodes whose level input it is.
+
+    A plate that rises after the clock's edge was low at the edge, so every
+    steering node with that plate as its level input took the pulse: the
+    register's own cut-off side when it is steered by its own outputs (a
+    toggle: D = ~q, ~D = q), a following register's side in a shift chain.
+    Each hangs on the plate through its Rs. ``ohms``: Rs; ``farads``: Cs;
+    ``node_farads``: the steering node's own capacitance (wiring, diode);
+    ``swing_volts``: the clock's falling step.
+"""
+
+    ohms: float
+    farads: float
+    node_farads: float
+    swing_volts: float
+    count: int = 1
+
+
+def _steered_rise(supply_volts: float, plate_load_ohms: float, divider: Load, rising_loads, rising_farads: float,
+                  c_grid: float, commutating_farads: float, falling_farads: float, low: float, high: float,
+                  steering: Steering):
+    """The rising plate as a function of time when steered nodes hang on it through their Rs.
+
+    The clock's step takes the steering node from the plate's low level down
+    by ``Cs / (Cs + C_x)`` of the step until its diode conducts (the grid at
+    the conducting section's level), then by ``Cs / (Cs + C_x + C_grid)`` of
+    the rest, the grid with it. Afterwards two nodes, linear while the other
+    grid stays below its clamp: the plate (``rising_farads``, the plate load
+    and its dividers, Rs to the steering node) and the steering node with
+    its grid (Cs, C_x, the grid's capacitance, the commutating capacitor in
+    series with the other plate's node; Rs to the plate, the divider's
+    Thevenin source from the other plate at its high level). Its closed
+    form is two exponentials: ``p(t) = p_inf + a1 exp(-l1 t) + a2 exp(-l2 t)``
+    with ``l1, l2`` the eigenvalues of ``C^-1 G``, ``a1 + a2 = p(0) - p_inf``
+    and ``-(l1 a1 + l2 a2) = p'(0)``. Returns (p as a function of t, p_inf).
+    """
+    g_on = load_state(divider, high).grid_volts
+    drop = 0.5 * sum(DIODE_DROP_VOLTS["solid-state"])
+    cs, cx = steering.farads, steering.node_farads
+    cc = commutating_farads * falling_farads / (commutating_farads + falling_farads)
+    c_node = cs + cx + c_grid + cc
+    k = cs / (cs + cx)
+    first = max(0.0, (low - (g_on - drop)) / k)  # the part of the step before the diode conducts
+    x0 = low - k * min(first, steering.swing_volts)
+    if steering.swing_volts > first:
+        x0 = g_on - drop - (steering.swing_volts - first) * cs / c_node
+    tap_hi, r_th = thevenin(divider, high)
+    gs, n_steer = 1.0 / steering.ohms, steering.count
+    g_p = 1.0 / plate_load_ohms + sum(n / (ld.upper_ohms + ld.lower_ohms) for n, ld in rising_loads
+                                      if ld.diode_drop_volts is None)
+    i_p = supply_volts / plate_load_ohms + sum(n * ld.bias_volts / (ld.upper_ohms + ld.lower_ohms)
+                                               for n, ld in rising_loads if ld.diode_drop_volts is None)
+    # The nodal equations C dv/dt = J - G v, v = (plate, steering node).
+    # Alike steering nodes move together: each is one node, the plate sees all of them.
+    g11, g12, g21, g22 = g_p + n_steer * gs, -n_steer * gs, -gs, gs + 1.0 / r_th
+    j1, j2 = i_p, tap_hi / r_th
+    det = g11 * g22 - g12 * g21
+    p_inf = (j1 * g22 - g12 * j2) / det
+    a, b = g11 / rising_farads, g12 / rising_farads
+    c, d = g21 / c_node, g22 / c_node
+    half_trace, root = 0.5 * (a + d), math.sqrt(0.25 * (a - d) ** 2 + b * c)
+    l1, l2 = half_trace + root, half_trace - root
+    slope0 = (j1 - g11 * low - g12 * x0) / rising_farads
+    a1 = (-slope0 - l2 * (low - p_inf)) / (l1 - l2)
+    a2 = (low - p_inf) - a1
+    return (lambda t: p_inf + a1 * math.exp(-l1 * t) + a2 * math.exp(-l2 * t)), p_inf, 1.0 / l2
+
+
+def _crossing(f, volts: float, tau: float) -> float:
+    """When the rising ``f`` first passes ``volts`` (a scan in steps of a tenth of ``tau``, then Brent)."""
+    prev, t = 0.0, 0.1 * tau
+    while f(t) < volts:
+        if t > 50 * tau:
+            raise ValueError(f"the rising plate never passes {volts:.1f} V")
+        prev, t = t, t + 0.1 * tau
+    return brent_root(lambda s: f(s) - volts, prev, t, xtol=1e-4 * tau)
+
+
 def flip_edges(tube: TubeType, wear: float, supply_volts: float, plate_load_ohms: float, divider: Load,
                commutating_farads: float, grid_farads: float, rising_loads: tuple[tuple[int, Load], ...],
                falling_loads: tuple[tuple[int, Load], ...], rising_farads: float, falling_farads: float,
-               mid_volts: float) -> tuple[Edge, Edge]:
+               mid_volts: float, steering: Steering | None = None) -> tuple[Edge, Edge]:
     """The two output edges of a flip, timed from the clock's falling edge: (rising plate, falling plate).
 
     The steering pulse cuts the conducting section off at once (Cs is several
@@ -182,22 +263,48 @@ def flip_edges(tube: TubeType, wear: float, supply_volts: float, plate_load_ohms
     loads), an exponential edge. The other section is then an inverter driven
     by that edge through ``divider`` and the commutating capacitor
     (:func:`planner.electrical.timing.inverter_edge`). ``*_loads``: each
-    plate's loads (the other side's divider included). Cost: one inverter edge.
+    plate's loads (the other side's divider included).
+
+    ``steering``: given when the rising plate is a level input of steering
+    nodes (:class:`Steering`). Each Rs then ties the rising plate to a
+    steering node the pulse left tens of volts below ground, which recovers
+    slowly (its time constant is Cs's): the plate stalls well below its high
+    level and the other grid only creeps past its threshold. The
+    rising plate is then the two-node closed form of :func:`_steered_rise`;
+    the other section's grid passes its threshold when that plate passes the
+    level whose divider tap is the threshold, and the falling edge is timed
+    against the exponential to the high level that passes that level at the
+    same moment (the rising edge likewise, matched at the midpoint). Cost:
+    one inverter edge (and two Brent searches on the closed form).
     """
     conducting = InverterTiming(tube, wear, supply_volts, plate_load_ohms, divider, rising_loads, rising_farads,
                                 grid_farads)
     low = conducting.plate_volts(load_state(divider, supply_volts).grid_volts)
     high = conducting.plate_volts(-supply_volts)
-    g_rise = 1.0 / plate_load_ohms + sum(n / (ld.upper_ohms + ld.lower_ohms) for n, ld in rising_loads
-                                         if ld.diode_drop_volts is None)
-    tau = rising_farads / g_rise
-    t_rise = tau * math.log((high - low) / (high - mid_volts))
-    up = Wave(low, high, "exponential", tau)
     other = InverterTiming(tube, wear, supply_volts, plate_load_ohms, divider, falling_loads, falling_farads,
                            grid_farads, speedup_farads=commutating_farads)
-    down = inverter_edge(other, up, mid_volts)
+    if steering is None:
+        g_rise = 1.0 / plate_load_ohms + sum(n / (ld.upper_ohms + ld.lower_ohms) for n, ld in rising_loads
+                                             if ld.diode_drop_volts is None)
+        tau = rising_farads / g_rise
+        t_rise = tau * math.log((high - low) / (high - mid_volts))
+        up = Wave(low, high, "exponential", tau)
+        drive = up
+    else:
+        c_grid = grid_farads + (tube.c_gp_pf or 0.0) * 1e-12
+        plate, _, tau_slow = _steered_rise(supply_volts, plate_load_ohms, divider, rising_loads, rising_farads,
+                                           c_grid, commutating_farads, falling_farads, low, high, steering)
+        t_rise = _crossing(plate, mid_volts, tau_slow)
+        up = Wave(low, high, "exponential", t_rise / math.log((high - low) / (high - mid_volts)))
+        # The rising plate level at which the other grid's divider tap reaches its threshold.
+        k = divider.lower_ohms / (divider.upper_ohms + divider.lower_ohms)
+        level = (threshold_grid_volts(other, mid_volts) - divider.bias_volts * (1 - k)) / k
+        t_level = _crossing(plate, level, tau_slow)
+        drive = Wave(low, high, "exponential", t_level / math.log((high - low) / (high - level)))
+    down = inverter_edge(other, drive, mid_volts)
+    # inverter_edge times from its drive's midpoint crossing; the drive starts at the clock's edge.
     return (Edge(True, t_rise, 0.0, up),
-            Edge(False, t_rise + down.seconds, t_rise + down.grid_seconds, down.output))
+            Edge(False, drive.crossing_seconds(mid_volts) + down.seconds, down.grid_seconds, down.output))
 
 
 def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[str, TubeType],
@@ -398,5 +505,5 @@ def design_bistables(family: Family, tubes, types: Mapping[str, TubeType]) -> tu
     return swing, out
 
 
-__all__ = ["CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "Bistable",
+__all__ = ["CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "HOLD_FACTOR", "RESET_PULLUP_OHMS", "Bistable", "Steering",
            "design_bistable", "design_bistables", "flip_edges", "is_dual_triode"]

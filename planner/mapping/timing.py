@@ -46,8 +46,8 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from planner.electrical import (DIODE_DROP_VOLTS, DIODE_PF, ESTIMATE_TOLERANCE, HOLD_FACTOR, NOMINAL_CORNER, WIRING_PF,
-                                InverterTiming, Load, ScreenFeed, TimingCorner, Wave, flip_edges, follower_edge,
-                                inverter_edge, slow_corner)
+                                InverterTiming, Load, ScreenFeed, Steering, TimingCorner, Wave, flip_edges,
+                                follower_edge, inverter_edge, slow_corner)
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
@@ -273,13 +273,14 @@ def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict
         latest = 0.0
         c, f = nets.corner, nets.corner.farads_scale
         for rising, falling in ((reg.output, reg.complement), (reg.complement, reg.output)):
+            steering = _steering_on(plan, setting, rising, c)
             up, down = flip_edges(c.tube(tube), c.wear(tube, nets.wear(reg.tube)),
                                   nets.stock.plate.volts * c.supply_scale, b.plate_load_ohms * c.ohms_scale,
                                   c.load(own), b.commutating_pf * 1e-12 * f, grid * 1e-12 * f,
                                   nets.loads_at_corner(nets.load_pairs(rising, (own,))),
                                   nets.loads_at_corner(nets.load_pairs(falling, (own,))),
                                   (base + nets.node_farads(rising) + (tube.c_gp_pf or 0.0) * 1e-12) * f,
-                                  (base + nets.node_farads(falling)) * f, mid)
+                                  (base + nets.node_farads(falling)) * f, mid, steering)
             origin = f"register {reg.name}"
             k = c.bound_factor
             arrivals[(rising, RISE)] = _Arrival(k * up.seconds, up.output, None, origin)
@@ -287,6 +288,25 @@ def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict
             latest = max(latest, k * up.seconds, k * down.seconds)
         out[reg.name] = latest
     return out
+
+
+def _steering_on(plan: Plan, setting, net: str, corner: TimingCorner) -> Steering | None:
+    """The steering nodes whose level input is ``net``, as seen by a flip that raises it; None when none.
+
+    The net was low at the clock's edge, so each of those nodes took the pulse
+    and hangs on it through its Rs (the heaviest register's values taken for
+    all); away from nominal the clock may give its largest step (the deepest
+    pulse, the slowest rise).
+    """
+    found = [setting.bistables[r.tube] for r in plan.registers for level in (r.next, r.next_complement)
+             if level == net]
+    if not found:
+        return None
+    b = min(found, key=lambda x: (x.steering_ohms, -x.steering_pf))
+    swing = b.clock_swing_volts * (1.0 if corner.name == "nominal" else 1.0 + b.clock_tolerance)
+    f = corner.farads_scale
+    return Steering(b.steering_ohms * corner.ohms_scale, b.steering_pf * 1e-12 * f, b.steering_node_pf * 1e-12 * f,
+                    swing, len(found))
 
 
 def _settle(wave: Wave, mid: float) -> float:
