@@ -37,6 +37,27 @@ def family_cache_in_tmp(tmp_path_factory):
         yield
 
 
+# Invented fixture: a small design and a stock that carries it.
+SMALL_DESIGN = """\
+design: small
+inputs: [a, b, c]
+outputs:
+  y: a & b | ~c
+  z: ~(a | c)
+"""
+SMALL_STOCK = """\
+supplies:
+  plate: {volts: 170, max_ma: 200}
+  bias: {volts: -90, max_ma: 50}
+  heater:
+    - {id: H1, volts: 6.3, max_amps: 6}
+tubes:
+  12AT7: {count: 6}
+  6AU6: {count: 4}
+diodes: solid-state
+"""
+
+
 @pytest.fixture
 def write(tmp_path):
     """write(name, text) -> path of a file with dedented ``text`` in a fresh directory."""

@@ -14,29 +14,12 @@ from pathlib import Path
 
 import pytest
 
+from conftest import SMALL_DESIGN, SMALL_STOCK
+
 from planner.cli import DEMO_DESIGN, DEMO_STOCK
 
 PLAN_FILES = {"plan.json", "bom.csv", "bom.md", "wiring.csv", "plan.cir", "report.html", "report.md"}
 
-# Invented fixture: a small design and a stock that carries it.
-SMALL_DESIGN = """\
-design: small
-inputs: [a, b, c]
-outputs:
-  y: a & b | ~c
-  z: ~(a | c)
-"""
-SMALL_STOCK = """\
-supplies:
-  plate: {volts: 170, max_ma: 200}
-  bias: {volts: -90, max_ma: 50}
-  heater:
-    - {id: H1, volts: 6.3, max_amps: 6}
-tubes:
-  12AT7: {count: 6}
-  6AU6: {count: 4}
-diodes: solid-state
-"""
 
 # Slows every file write of the plan directory so a kill lands while files are being written.
 SLOW_WRITER = """\

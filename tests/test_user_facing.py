@@ -16,31 +16,16 @@ from pathlib import Path
 
 import pytest
 
+from conftest import SMALL_DESIGN, SMALL_STOCK
+
 import planner
 from planner.report import write as write_module
 from planner.report.designators import counted
 
 ROOT = Path(__file__).resolve().parent.parent
 
-# Invented fixture: a small design and a stock that carries it.
-DESIGN = """\
-design: small
-inputs: [a, b, c]
-outputs:
-  y: a & b | ~c
-  z: ~(a | c)
-"""
-STOCK = """\
-supplies:
-  plate: {volts: 170, max_ma: 200}
-  bias: {volts: -90, max_ma: 50}
-  heater:
-    - {id: H1, volts: 6.3, max_amps: 6}
-tubes:
-  12AT7: {count: 6}
-  6AU6: {count: 4}
-diodes: solid-state
-"""
+# The shared small fixture (invented data, tests/conftest.py).
+DESIGN, STOCK = SMALL_DESIGN, SMALL_STOCK
 
 
 def _one_line(err: str) -> str:
