@@ -17,7 +17,7 @@ import pytest
 
 from planner.logic import table_from_expr
 from planner.mapping import Shortage, plan_design
-from planner.report import MARKER, simulate, spice_deck, write_plan
+from planner.report import MARKER, run_deck, spice_deck, write_plan
 from planner.report.designators import natural_key
 from planner.spec import load_design, load_stock
 from test_report_bom import check_bom_against_plan, check_wiring_against_plan
@@ -202,7 +202,7 @@ def test_truth_table_reproduced_in_ngspice(planned, case):
     nodes = dict(deck.nodes)
     stage_nets = [s.output for s in plan.stages]
     probes = {**{f"output {o}": n for o, n in deck.outputs}, **{f"net {n}": nodes[n] for n in stage_nets}}
-    results = simulate(deck, vectors, probes=probes)
+    results = run_deck(deck, vectors, probes=probes)
     tables = _expected(design, names)
     mid = (plan.high_volts + plan.low_volts) / 2
     wrong, internal_wrong, levels = [], [], {}

@@ -10,7 +10,7 @@ from itertools import product
 import pytest
 
 from planner.catalogue import builtin_catalogue
-from planner.report import ngspice_path, sanitise, simulate, spice_deck
+from planner.report import ngspice_path, run_deck, sanitise, spice_deck
 from test_report_fixtures import FIXTURE_LOGIC, fixture_diode_plan, fixture_plan
 
 needs_ngspice = pytest.mark.skipif(ngspice_path() is None,
@@ -83,7 +83,7 @@ def check_truth_table(plan, deck, logic, vectors=None):
     """
     names = [name for name, _ in plan.inputs]
     vectors = vectors or [dict(zip(names, bits)) for bits in product((0, 1), repeat=len(names))]
-    results = simulate(deck, vectors)
+    results = run_deck(deck, vectors)
     mid = (plan.high_volts + plan.low_volts) / 2
     seen = {}
     wrong = []

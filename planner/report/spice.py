@@ -226,7 +226,7 @@ def ngspice_path() -> str | None:
     return shutil.which("ngspice")
 
 
-def simulate(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: Mapping[str, str] | None = None,
+def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: Mapping[str, str] | None = None,
              executable: str | None = None, timeout_s: float = 120.0) -> tuple[dict[str, float], ...]:
     """Node volts for each input vector, in one ngspice run: label -> V.
 
