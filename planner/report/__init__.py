@@ -10,7 +10,8 @@ Public API:
   (schema 2); ``input_file(role, path)``: an ``input_files`` entry (name and SHA-256)
 - ``plan_budgets(plan) -> Budgets``; ``bom_lines(plan, prices=, tube_prices=) -> tuple[BomLine, ...]``;
   ``wiring_rows(plan, catalogue) -> tuple[Connection, ...]``
-- ``spice_deck(plan, catalogue) -> SpiceDeck``; ``run_deck(deck, vectors) -> tuple[dict, ...]`` (the deck in ngspice, an operating point a vector)
+- ``spice_deck(plan, catalogue) -> SpiceDeck``; ``run_deck(deck, vectors) -> tuple[dict, ...]`` (the deck in
+  ngspice, an operating point a vector)
 - ``check_target(out_dir, files=(), protect=()) -> bool``: refuse (InputError) an output path that is not
   an earlier plan, cannot be written, or would replace a user's or an input file, before any work; True
   when an earlier plan is there
