@@ -99,5 +99,5 @@ def test_subcircuit_names_are_deterministic_and_distinct():
     assert len(set(names)) == len(names)
     assert spice_subcircuit(CAT.get("5915"), "dual") == spice_subcircuit(CAT.get("5915"), "dual-control")
     assert subcircuit_name(CAT.get("12AU7"), "single") == "TP_12AU7_TRIODE"
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match=r"^12AU7 has no dual section$"):
         subcircuit_name(CAT.get("12AU7"), "dual")

@@ -138,7 +138,7 @@ def test_max_flow_split_uses_the_restricted_sections_for_restricted_jobs():
     sections = (S({"single", "dual"}), S({"single"}))
     split = max_flow_split({"single": 3, "dual": 2}, sections, 3)
     assert split[("dual", 0)] == 2 and sum(v for (k, _s), v in split.items() if k == "single") == 3
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match=r"^\{'dual': 3\} does not fit in 2 envelopes$"):
         max_flow_split({"dual": 3}, sections, 2)
 
 

@@ -31,13 +31,13 @@ def test_textbook_views(branches, view):
 
 
 def test_branch_and_stage_checks():
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match=r"^a single branch cannot have 2 inputs$"):
         Branch(("a", "b"), "single")
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match=r"^a diode branch cannot have 1 inputs$"):
         Branch(("a",), "diode")
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match=r"^branch inputs repeat: \('a', 'a'\)$"):
         Branch(("a", "a"), "dual")
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match=r"^a follower has one input and no branches$"):
         Stage("S1", "n1", "follower", (b("a"),))
     with pytest.raises(ValueError, match="does not describe"):
         Stage("S1", "n1", "inverting", (b("a"),), view="NAND-2")
