@@ -68,10 +68,6 @@ class OutputSpec:
     minterms: tuple[int, ...] | None = None
     dont_care_minterms: tuple[int, ...] | None = None
 
-    @property
-    def is_minterm_list(self) -> bool:
-        return self.minterms is not None
-
     @cached_property
     def expr(self) -> sympy.Basic:
         """The function as a sympy expression (for a minterm list: the OR of its minterms)."""
