@@ -16,7 +16,7 @@ from planner.catalogue import builtin_catalogue
 from planner.electrical import is_dual_triode
 from planner.mapping import BIAS_RAIL, Shortage, plan_design
 from planner.mapping import planning
-from planner.report import plan_document, plan_summary, spice_deck
+from planner.report import plan_document, plan_summary, reset_press, spice_deck
 from planner.report.markdown_report import report_markdown
 from planner.report.content import report_content
 from planner.spec import load_design, load_stock
@@ -277,11 +277,9 @@ def _transient(plan, inputs: dict, edges: int, tmp_path) -> list[dict]:
     text = re.sub(r"(?m)^V_clk (\S+) 0 (\S+)$",
                   lambda m: f"V_clk {m.group(1)} 0 " + pulse.format(m.group(2), period / 2, period / 2, period), text)
     nodes = dict(deck.nodes)
-    # The reset contact is pressed from the start to a fifth of the first period, as on the bench: the deck's
-    # node set only hints at the reset state, and an operating point may settle elsewhere.
-    text = text.replace("\n.op\n", f"\nS_reset {nodes[plan.clock.reset_net]} {nodes[BIAS_RAIL]} reset_press 0 contact\n"
-                        f"V_reset reset_press 0 PWL(0 1 {period / 5!r} 1 {period / 5 + 1e-6!r} 0)\n"
-                        ".model contact sw vt=0.5 vh=0.1 ron=10 roff=1e12\n.op\n")
+    # The reset contact is pressed from the start to a fifth of the first period, as tubeplan prove does.
+    press = reset_press(nodes[plan.clock.reset_net], nodes[BIAS_RAIL], period / 5, 1e-6)
+    text = text.replace("\n.op\n", "\n" + press + ".op\n")
     control = [".control", f"tran 2u {(edges + 0.6) * period!r}"]
     for k in range(edges + 1):
         for r in plan.registers:

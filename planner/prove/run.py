@@ -19,7 +19,7 @@ import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
-from planner.report import sanitise
+from planner.report import reset_press, sanitise
 from planner.spec import InputError
 
 from .corners import Corner, corner_values, deck_params, plan_corners
@@ -331,12 +331,8 @@ def _prove_registers(plan, deck, corners, executable, say, seed) -> Proof:
     pulse = (f"V_clk {match.group(1)} {match.group(2)} PULSE({clock.swing_volts:.9g} 0 {period / 2:.9g} "
              f"{fall:.9g} {fall:.9g} {period / 2 - fall:.9g} {period:.9g})")
     body = body.replace(match.group(0), pulse, 1)
-    # The reset contact, pressed from the start to a fifth of the first period: every register starts in
-    # its reset state as on the bench, whichever operating point the deck's node set leads to.
-    release = period / 5
-    body += (f"\nS_prove_reset {sanitise(clock.reset_net)} bias prove_reset 0 prove_contact\n"
-             f"V_prove_reset prove_reset 0 PWL(0 1 {release:.9g} 1 {release + ramp:.9g} 0)\n"
-             ".model prove_contact sw vt=0.5 vh=0.1 ron=10 roff=1e12\n")
+    # The reset contact, pressed from the start to a fifth of the first period.
+    body += "\n" + reset_press(sanitise(clock.reset_net), "bias", period / 5, ramp)
     registers = {r.name: r for r in plan.registers}
     nodes = {name: sanitise(reg.output) for name, reg in registers.items()}
     labels = sorted(deck.outputs) + sorted(registers)

@@ -11,7 +11,7 @@ Public API:
 - ``plan_budgets(plan) -> Budgets``; ``bom_lines(plan, prices=, tube_prices=) -> tuple[BomLine, ...]``;
   ``wiring_rows(plan, catalogue) -> tuple[Connection, ...]``
 - ``spice_deck(plan, catalogue) -> SpiceDeck``; ``run_deck(deck, vectors) -> tuple[dict, ...]`` (the deck in
-  ngspice, an operating point a vector)
+  ngspice, an operating point a vector); ``reset_press(...)``: deck lines pressing the reset contact at the start
 - ``check_target(out_dir, files=(), protect=()) -> bool``: refuse (InputError) an output path that is not
   an earlier plan, cannot be written, or would replace a user's or an input file, before any work; True
   when an earlier plan is there
@@ -29,7 +29,7 @@ from .cautions import CAUTIONS
 from .check import design_summary, stock_summary
 from .document import SCHEMA, input_file, plan_document, plan_json
 from .proof_section import PROVE_FILE, replace_section, simulation_html, simulation_markdown
-from .spice import CORNER_ROLES, SpiceDeck, ngspice_path, run_deck, sanitise, spice_deck
+from .spice import CORNER_ROLES, SpiceDeck, ngspice_path, reset_press, run_deck, sanitise, spice_deck
 from .summary import plan_summary
 from .wiring import Connection, wiring_csv, wiring_rows
 from .write import MARKER, PLAN_FILES, check_target, claim_files, write_plan
@@ -37,6 +37,6 @@ from .write import MARKER, PLAN_FILES, check_target, claim_files, write_plan
 __all__ = ["CAUTIONS", "CORNER_ROLES", "HEADROOM", "MARKER", "PLAN_FILES", "PROVE_FILE", "SCHEMA", "SURGE_FACTORS",
            "BomLine", "Budgets", "Connection", "replace_section", "simulation_html", "simulation_markdown",
            "SpiceDeck", "bom_csv", "bom_lines", "bom_markdown", "check_target", "claim_files", "design_summary",
-           "input_file", "ngspice_path", "plan_budgets",
-           "plan_document", "plan_json", "plan_summary", "run_deck", "sanitise", "spice_deck", "stock_summary",
+           "input_file", "ngspice_path", "plan_budgets", "plan_document", "plan_json", "plan_summary", "reset_press",
+           "run_deck", "sanitise", "spice_deck", "stock_summary",
            "wiring_csv", "wiring_rows", "write_plan"]

@@ -221,6 +221,18 @@ def spice_deck(plan: Plan, catalogue: Catalogue) -> SpiceDeck:
                      plan.high_volts, plan.low_volts, clock_node)
 
 
+def reset_press(reset_node: str, bias_node: str, release_s: float, ramp_s: float) -> str:
+    """Deck lines for the reset contact pressed from the start until ``release_s`` (opening over ``ramp_s``).
+
+    A transient run starts every register in its reset state this way, as on the bench:
+    the deck's ``.nodeset`` only hints at that state, and an operating point may settle
+    elsewhere.
+    """
+    return (f"S_prove_reset {reset_node} {bias_node} prove_reset 0 prove_contact\n"
+            f"V_prove_reset prove_reset 0 PWL(0 1 {release_s:.9g} 1 {release_s + ramp_s:.9g} 0)\n"
+            ".model prove_contact sw vt=0.5 vh=0.1 ron=10 roff=1e12\n")
+
+
 def ngspice_path() -> str | None:
     """The ngspice executable on PATH, or None."""
     return shutil.which("ngspice")
