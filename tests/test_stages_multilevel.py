@@ -255,3 +255,37 @@ def test_stock_costs_send_scarce_dual_sections_where_they_save_most():
     prove(costed, design)
     assert duals(costed) < duals(plain)
     assert {b.means for s in costed.stages for b in s.branches} >= {"single"}
+
+
+def test_cached_multilevel_equals_a_fresh_one_and_a_changed_input_misses(tmp_path, monkeypatch):
+    import pickle
+
+    import planner.stages.network_cache as network_cache
+    from planner.stages import cached_multilevel, multilevel_key
+
+    design = load_design(FIXTURES / "full_adder.yaml")
+    options = SynthesisOptions()
+    costs = {"single": 0.6, "dual": 1.5}
+    fresh = multilevel(design, options, costs, 0.02)
+    stored = cached_multilevel(design, options, costs, 0.02, directory=tmp_path)  # a miss: runs the engine
+    again = cached_multilevel(design, options, costs, 0.02, directory=tmp_path)  # a hit: read back
+    assert len(list(tmp_path.glob("multilevel-*.pickle"))) == 1
+    for found in (stored, again):
+        assert found.network == fresh.network and found.script == fresh.script and found.area == fresh.area
+        assert list(found.areas.items()) == list(fresh.areas.items())
+        assert pickle.dumps(found.network.stages) == pickle.dumps(fresh.network.stages)
+    key = multilevel_key(design, options, costs, 0.02)
+    # Every input that decides the engine's result names another entry.
+    assert multilevel_key(design, options, {"single": 0.6, "dual": 1.6}, 0.02) != key
+    assert multilevel_key(design, options, costs, 0.03) != key
+    assert multilevel_key(design, SynthesisOptions(allow_dual=False), costs, 0.02) != key
+    assert multilevel_key(load_design(FIXTURES / "compare2.yaml"), options, costs, 0.02) != key
+    monkeypatch.setattr(network_cache, "engine_identity", lambda: ("/elsewhere/yosys-abc", 1, 2))
+    assert multilevel_key(design, options, costs, 0.02) != key
+    monkeypatch.undo()
+    monkeypatch.setattr(network_cache, "genlib_text", lambda cells: "GATE other 1 O=CONST1;\n")
+    assert multilevel_key(design, options, costs, 0.02) != key
+    monkeypatch.undo()
+    cheaper = cached_multilevel(design, options, {"single": 0.6, "dual": 3.0}, 0.02, directory=tmp_path)
+    assert len(list(tmp_path.glob("multilevel-*.pickle"))) == 2
+    assert cheaper.network == multilevel(design, options, {"single": 0.6, "dual": 3.0}, 0.02).network

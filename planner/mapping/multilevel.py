@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from planner.stages import EngineError, multilevel
+from planner.stages import EngineError, cached_multilevel
 
 #: Cost of a solid-state diode in a diode AND, in envelopes (small: a diode is cheap, but not free of wiring).
 SOLID_DIODE_COST = 0.02
@@ -45,7 +45,8 @@ def multilevel_networks(view, stock, family, variants, weights, options) -> list
     the whole design mapped onto the stages it allows with area = sections; for the
     first (richest) variant, also with area = the stock's objective cost per section
     (:func:`section_costs`), so scarce dual-control sections go where they save the most.
-    The caller repairs fan-out, proves and costs each like any other candidate.
+    The caller repairs fan-out, proves and costs each like any other candidate.  Each network
+    is kept on disk across runs (:func:`planner.stages.cached_multilevel`).
     """
     costs, diode = section_costs(stock, family, weights)
     tries = [(f"multi-level, {label}", synth, None, 0.0) for label, synth in variants]
@@ -55,7 +56,7 @@ def multilevel_networks(view, stock, family, variants, weights, options) -> list
     found = []
     for label, synth, section_cost, diode_cost in tries:
         try:
-            result = multilevel(view, synth, section_cost, diode_cost)
+            result = cached_multilevel(view, synth, section_cost, diode_cost)
         except EngineError as problem:
             if "not installed" in str(problem):
                 raise

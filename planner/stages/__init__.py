@@ -12,7 +12,8 @@ Public API
 - :class:`Branch`, :class:`Stage`, :class:`Network`, :class:`NetworkCost`, :func:`stage_view`, :data:`MEANS`
 - :class:`SynthesisOptions`, :data:`DEFAULT_MAX_BRANCHES`
 - :func:`synthesise` -> :class:`Synthesis` (``network``, ``candidates``: :class:`Candidate`)
-- :func:`cached_network` (``synthesise(...).network`` kept on disk across runs), :func:`network_key`
+- :func:`cached_network` (``synthesise(...).network`` kept on disk across runs), :func:`network_key`;
+  :func:`cached_multilevel` (``multilevel(...)`` likewise), :func:`multilevel_key`
 - :func:`repair_fanout` (buffer trees, duplicated drivers, followers), :class:`FanoutError`,
   :data:`STRATEGIES`, :func:`describe_net`
 - :func:`simulate`, :func:`input_patterns`, :func:`prove`, :class:`ProofError`
@@ -22,7 +23,7 @@ Public API
 """
 
 from .fanout import STRATEGIES, FanoutError, describe_net, repair_fanout
-from .network_cache import cached_network, network_key
+from .network_cache import cached_multilevel, cached_network, multilevel_key, network_key
 from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, Stage, stage_view
 from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
 from .simulate import ProofError, input_patterns, prove, simulate
@@ -34,6 +35,6 @@ __all__ = [
     "COLLAPSE_SCRIPTS", "ENGINE_SCRIPTS", "EngineError", "MultiLevel", "StageCell", "engine_binary", "genlib_text",
     "multilevel", "stage_library",
     "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "FanoutError", "MEANS", "MODES", "Network", "NetworkCost",
-    "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis", "SynthesisOptions", "cached_network",
-    "describe_net", "input_patterns", "network_key", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
+    "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis", "SynthesisOptions", "cached_multilevel",
+    "cached_network", "describe_net", "input_patterns", "multilevel_key", "network_key", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
 ]
