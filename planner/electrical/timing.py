@@ -372,7 +372,8 @@ def grid_times(stage: InverterTiming, drive: Wave, threshold_volts: float) -> tu
     return offset, offset + _first_crossing(grid, wave.end_seconds() + 20.0 * tau)
 
 
-def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
+def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float,
+                  thresholds: dict | None = None) -> Edge:
     """The output edge of an inverting stage whose driving node makes the edge ``drive``.
 
     The switching grid passes its threshold (:func:`grid_crossing_seconds`);
@@ -387,6 +388,10 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     threshold, as the section's current falls along it). Cost: one threshold search (about 15 plate solves), a
     grid scan of 512 closed-form points and a few plate solves.
 
+    ``thresholds``: a dict the caller keeps across calls, (stage, mid_volts) -> the switching
+    grid's threshold (:func:`threshold_grid_volts`, a pure function of those frozen values), so
+    the edges of every input of one stage, rising and falling, share one threshold search.
+
     >>> from planner.catalogue import builtin_catalogue
     >>> t = builtin_catalogue().get("12AU7")
     >>> div = Load(820e3, 820e3, -90.0, t)
@@ -396,7 +401,12 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     (True, 'exponential', True)
     """
     tube, div = stage.tube, stage.divider
-    vt = threshold_grid_volts(stage, mid_volts)
+    if thresholds is None:
+        vt = threshold_grid_volts(stage, mid_volts)
+    else:
+        if (stage, mid_volts) not in thresholds:
+            thresholds[(stage, mid_volts)] = threshold_grid_volts(stage, mid_volts)
+        vt = thresholds[(stage, mid_volts)]
     t_release, t_x = grid_times(stage, drive, vt)
     g0 = load_state(div, drive.from_volts).grid_volts
     p0 = stage.plate_volts(g0)

@@ -164,9 +164,13 @@ def _gate_wave(nets: _Nets, rec, width: int, drive: Wave, mid: float) -> Wave:
     return follows if follows.crossing_seconds(mid) >= charged.crossing_seconds(mid) else charged
 
 
-def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, drive: Wave, mid: float):
+def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, drive: Wave, mid: float,
+                    edges: dict, thresholds: dict):
     """The output edge of ``stage`` when input ``position`` of ``branch`` makes ``drive``, timed from
-    that input's midpoint crossing."""
+    that input's midpoint crossing.  ``edges`` and ``thresholds``: memos the caller keeps across one
+    corner's stages (pure functions of frozen values): the edge of an equal stage model and drive
+    is computed once (inputs of one branch, the primary inputs' equal steps), the threshold of an
+    equal stage model once for all its inputs and both edges."""
     tube = nets.tube(way.tube)
     role = input_role(way.template, len(branch.inputs), position)
     rec = branch_receivers(nets.family, way.tube, way.template, branch.inputs, nets.followed)[position]
@@ -181,7 +185,9 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
     if role == "diode":
         wave = _gate_wave(nets, rec, len(branch.inputs), drive, mid)
         shift = wave.crossing_seconds(mid) - drive.crossing_seconds(mid)
-    edge = inverter_edge(model, wave, mid)
+    if (model, wave, mid) not in edges:
+        edges[(model, wave, mid)] = inverter_edge(model, wave, mid, thresholds)
+    edge = edges[(model, wave, mid)]
     return edge.seconds + shift, edge.output
 
 
@@ -222,6 +228,8 @@ def _corner_timing(plan: Plan, network, placement: Placement, family, stock, rul
     flips = _register_flips(plan, nets, setting, mid, arrivals)
     k = corner.bound_factor  # every delay times it: the bound's tolerance on the estimate
     stage_rows = []
+    edges: dict = {}
+    thresholds: dict = {}
     for stage in network.stages:
         way = placement.ways[stage.id]
         out: dict[str, _Arrival] = {}
@@ -250,7 +258,8 @@ def _corner_timing(plan: Plan, network, placement: Placement, family, stock, rul
                         src = arrivals.get((net, e_in))
                         if src is None:
                             continue
-                        delay, wave = _inverter_delay(nets, stage, way, driver, branch, position, src.wave, mid)
+                        delay, wave = _inverter_delay(nets, stage, way, driver, branch, position, src.wave, mid,
+                                                      edges, thresholds)
                         worst[e_out] = max(worst[e_out], delay)
                         if e_out not in out or src.seconds + k * delay > out[e_out].seconds:
                             out[e_out] = _Arrival(src.seconds + k * delay, wave, (net, e_in), src.origin)
