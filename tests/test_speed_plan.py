@@ -1,8 +1,16 @@
 """Speed work on the plan path that must not change a result: memoised timing, the solver's bounds."""
 
+import random
+
+import pytest
+
 from planner.catalogue import builtin_catalogue
 from planner.electrical import InverterTiming, Wave, inverter_edge
 from planner.electrical.circuit import Load
+from planner.mapping import model as M
+from planner.mapping.solver import solve
+
+from test_mapping_model import _brute, _random_problem
 
 
 def test_a_shared_threshold_memo_gives_the_same_edges():
@@ -15,3 +23,25 @@ def test_a_shared_threshold_memo_gives_the_same_edges():
         for wave in (Wave(140.0, 12.0), Wave(12.0, 140.0), Wave(12.0, 140.0, "exponential", 2e-6)):
             assert inverter_edge(st, wave, 70.0, thresholds) == inverter_edge(st, wave, 70.0)
     assert set(thresholds) == {(stage, 70.0), (other, 70.0)}  # one threshold search per stage model
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_lower_bound_is_the_lp_relaxation_cbc_finds(seed):
+    """The in-process bound (HiGHS) equals the LP relaxation CBC (an outside solver, through pulp)
+    gives for the same model, never exceeds the integer optimum CBC finds nor brute-force
+    enumeration's, and is None only where both find no plan."""
+    problem = _random_problem(random.Random(seed))
+    bound = M.lower_bound(problem)
+    model = M._Model(problem, slack=False)
+    model.lp.setObjective(model.criterion("weighted"))
+    relaxed = solve(model.lp, solver="cbc", time_limit_s=60, gap=0.0, relax=True)
+    expected = _brute(problem)
+    if bound is None:
+        assert relaxed.status == "infeasible" and expected is None
+        with pytest.raises(M.Infeasible):
+            M.solve_problem(problem)
+        return
+    assert relaxed.status == "optimal" and bound == pytest.approx(relaxed.objective, abs=1e-6)
+    if expected is not None:
+        assert bound <= dict(M.solve_problem(problem).terms)["weighted"] + 1e-6
+        assert bound <= expected + 1e-6

@@ -475,6 +475,26 @@ def solve_problem(problem: Problem, *, solver: str = "cbc", time_limit_s: float 
                      deadline=deadline, gap=gap)
 
 
+def lower_bound(problem: Problem, *, time_limit_s: float = 60.0) -> float | None:
+    """A lower bound on the first criterion of ``problem``'s objective; None when it has no solution.
+
+    The first criterion is the weighted objective, or the scarce envelopes in lexicographic mode,
+    without the tie-break: every plan of the problem costs at least this much.  It is the
+    optimum of the model's LP relaxation, solved in this process by HiGHS through highspy
+    (no solver process started; Huangfu and Hall, "Parallelizing the dual revised simplex
+    method", Mathematical Programming Computation 2018), and None when that relaxation is
+    infeasible, which makes the integer program infeasible too.  ``-inf`` when HiGHS gives no
+    answer (no bound known).  The planner uses it to skip solving candidates that cannot beat
+    the best plan found (:mod:`planner.mapping.planning`).  Cost: one LP solve, milliseconds.
+    """
+    model = _Model(problem, slack=False)
+    model.lp.setObjective(model.criterion(_criteria(problem.weights)[0]))
+    outcome = solve(model.lp, solver="highs", time_limit_s=time_limit_s, gap=0.0, relax=True)
+    if outcome.status == "infeasible":
+        return None
+    return outcome.objective if outcome.objective is not None else float("-inf")
+
+
 def diagnose(problem: Problem, *, solver: str = "cbc", time_limit_s: float = 60.0, gap: float = 0.0,
              forbid: tuple[str, ...] = (), allow_only: tuple[str, ...] | None = None,
              fixed_purchase: tuple[tuple[str, int], ...] = ()) -> Counts:
