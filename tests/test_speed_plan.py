@@ -45,3 +45,45 @@ def test_lower_bound_is_the_lp_relaxation_cbc_finds(seed):
     if expected is not None:
         assert bound <= dict(M.solve_problem(problem).terms)["weighted"] + 1e-6
         assert bound <= expected + 1e-6
+
+
+def _plan_both_ways(design_path, stock_path, options, monkeypatch):
+    """The plan as planned (hopeless candidates not solved) and with every candidate solved in order
+    by CBC (the bound taken as minus infinity: the planner before candidates were skipped)."""
+    import dataclasses
+
+    import planner.pipeline._design as planning
+    from planner.pipeline import plan_design
+    from planner.spec import load_design, load_stock
+
+    design, stock = load_design(design_path), load_stock(stock_path)
+    pruned = plan_design(design, stock, options)
+    with monkeypatch.context() as patch:
+        patch.setattr(planning, "lower_bound", lambda problem, **kwargs: float("-inf"))
+        every = plan_design(design, stock, options)
+    plain = lambda plan: dataclasses.replace(  # noqa: E731
+        plan, solution=dataclasses.replace(plan.solution, networks=(), seconds=0.0))
+    return pruned, every, plain
+
+
+@pytest.mark.parametrize("design, stock, mode", [
+    ("inventory_demo/design.yaml", "inventory_demo/stock.yaml", None),
+    ("inventory_demo/design.yaml", "inventory_demo/stock.yaml", "lexicographic"),
+    ("tests/fixtures/synthesis/compare3.yaml", "tests/fixtures/synthesis/scarce.yaml", None),
+])
+def test_candidates_not_solved_never_change_the_plan(design, stock, mode, monkeypatch):
+    from planner.mapping import MappingOptions
+
+    pruned, every, plain = _plan_both_ways(design, stock, MappingOptions(mode=mode), monkeypatch)
+    assert plain(pruned) == plain(every)  # the same plan, to every value, as solving every candidate
+    assert pruned.solution.network == every.solution.network
+    skipped = 0
+    for mine, theirs in zip(pruned.solution.networks, every.solution.networks, strict=True):
+        if mine.note.startswith("not solved"):
+            skipped += 1
+            assert theirs.envelopes is not None and mine.envelopes is None  # it had a plan, a worse one
+            assert theirs.label != every.solution.network
+        else:
+            assert mine == theirs
+    if mode is None and "demo" in design:
+        assert skipped > 0

@@ -4,7 +4,8 @@ Public API
 ----------
 - :func:`build_problem` (one network's aggregated problem, with :func:`stage_ways` and
   :func:`tube_kinds`), :func:`solve_problem` (the optimum, or :class:`Infeasible`) and
-  :func:`diagnose` (the fewest envelopes to buy and the overloads when it does not fit)
+  :func:`diagnose` (the fewest envelopes to buy and the overloads when it does not fit),
+  :func:`lower_bound` (the LP relaxation's bound, in-process, for skipping hopeless candidates)
 - :func:`place` (stages and registers onto sockets), :func:`build_plan` (the :class:`Plan`),
   :func:`plan_timing` (its timing estimate)
 - registers: :func:`register_view`, :func:`register_classes`, :func:`clock_nets`,
@@ -18,7 +19,7 @@ See docs/mapping.md.
 
 from .assemble import place
 from .build import build_plan
-from .model import Counts, Infeasible, Problem, Weights, diagnose, solve_problem
+from .model import Counts, Infeasible, Problem, Weights, diagnose, lower_bound, solve_problem
 from .options import DEFAULT_TIME_LIMIT_S, MappingOptions
 from .plan import (BIAS_RAIL, GROUND, PLATE_RAIL, Budget, Clock, Envelope, NetworkTried, Part, PlacedBranch,
                    PlacedRegister, PlacedStage, Plan, SectionUse, Solution, StageTiming, StockUse, Timing, WindingLoad)
@@ -30,5 +31,5 @@ __all__ = ["BIAS_RAIL", "COMPLEMENT", "DEFAULT_TIME_LIMIT_S", "DIODE_FANIN", "GR
            "Counts", "Envelope", "Infeasible", "MappingOptions", "NetworkTried", "Part", "PlacedBranch",
            "PlacedRegister", "PlacedStage", "Plan", "Problem", "RegisterSetting", "SectionUse", "Solution",
            "StageTiming", "StockUse", "Timing", "Weights", "WindingLoad", "build_plan", "build_problem", "clock_nets",
-           "diagnose", "place", "plan_timing", "register_classes", "register_view", "solve_problem", "stage_ways",
+           "diagnose", "lower_bound", "place", "plan_timing", "register_classes", "register_view", "solve_problem", "stage_ways",
            "tube_kinds"]

@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+import math
 import time
 from dataclasses import dataclass, replace
 
 from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, cached_family, design_bistables
 from planner.electrical import is_dual_triode
 from planner.mapping import (COMPLEMENT, DIODE_FANIN, Counts, Infeasible, MappingOptions, NetworkTried, Plan,
-                             Problem, RegisterSetting, Solution, Weights, build_plan, build_problem, clock_nets, place,
-                             plan_timing, register_classes, register_view, solve_problem, stage_ways, tube_kinds)
+                             Problem, RegisterSetting, Solution, Weights, build_plan, build_problem, clock_nets,
+                             lower_bound, place, plan_timing, register_classes, register_view, solve_problem,
+                             stage_ways, tube_kinds)
 from planner.stages import FanoutError, Stage, SynthesisOptions, cached_network, describe_net, prove, repair_fanout
 
 from ._multilevel import multilevel_networks
@@ -279,23 +281,7 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
     weights = _weights(stock, options)
     setting = _register_setting(design, stock, family, tubes) if design.registers else None
     candidates = _candidates(design, stock, family, rules, options, weights, setting)
-    best = None
-    tried = []
-    for cand in candidates:
-        if cand.problem is None:
-            tried.append(_tried(cand, None, cand.reason))
-            continue
-        try:
-            counts = solve_problem(cand.problem, solver=options.solver, gap=options.gap,
-                                   time_limit_s=max(1.0, deadline - time.monotonic()))
-        except Infeasible:
-            options.say(f"mapping: network '{cand.label}' does not fit the stock")
-            tried.append(_tried(cand, None, "does not fit the stock"))
-            continue
-        options.say(f"mapping: network '{cand.label}': {dict(counts.terms)['envelopes']:.0f} envelopes")
-        tried.append(_tried(cand, dict(counts.terms)["envelopes"], ""))
-        if best is None or _rank(counts, weights) < _rank(best[1], weights):
-            best = (cand, counts)
+    best, tried = _solve_candidates(candidates, weights, options, deadline)
     if best is None:
         raise diagnose_shortage(candidates, family, stock, options, deadline)
     cand, counts = best
@@ -314,6 +300,72 @@ def plan_design(design, stock, options: MappingOptions = MappingOptions()) -> Pl
         wear[tube.name] = min(condition, wear.get(tube.name, condition))
     return replace(plan, timing=timing, registers=registers, tube_wear=tuple(sorted(wear.items())),
                    supply_tolerance=rules.supply_tolerance)
+
+
+#: How far (relative) a candidate's lower bound must exceed the best plan's value before it is
+#: not solved: far above the LP solver's tolerances (about 1e-7), so a bound a rounding error too
+#: high never drops a plan that would have tied.
+_BOUND_MARGIN = 1e-6
+
+
+def _beyond(bound: float, best: Counts, weights: Weights) -> bool:
+    """Whether every plan of a candidate whose first criterion is at least ``bound`` ranks below ``best``."""
+    value = _rank(best, weights)[0]
+    return bound > value + _BOUND_MARGIN * max(1.0, abs(value))
+
+
+def _pruned_note(bound: float, best: Counts, weights: Weights) -> str:
+    if weights.mode == "lexicographic":
+        return (f"not solved: needs at least {math.ceil(bound - _BOUND_MARGIN)} scarce envelopes (LP bound), "
+                f"the chosen plan {_rank(best, weights)[0]}")
+    return f"not solved: objective at least {bound:.2f} (LP bound), the chosen plan's {_rank(best, weights)[0]:.2f}"
+
+
+def _solve_candidates(candidates, weights: Weights, options: MappingOptions, deadline: float):
+    """The best candidate and its counts (None when none fits), and what each candidate needed, in order.
+
+    Each buildable candidate's LP relaxation is solved first, in-process
+    (:func:`planner.mapping.lower_bound`): an infeasible one does not fit the
+    stock.  The others are solved exactly (:func:`planner.mapping.solve_problem`)
+    in order of their bounds, the lowest first; one whose bound already exceeds
+    the best plan found is not solved (it cannot win or tie) and is listed with
+    its bound.  The best is the least rank, then the earliest candidate, as if
+    every one were solved in order.
+    """
+    bounds = {}
+    for k, cand in enumerate(candidates):
+        if cand.problem is not None:
+            bounds[k] = lower_bound(cand.problem, time_limit_s=max(1.0, deadline - time.monotonic()))
+    outcomes: dict[int, tuple] = {}  # k -> (counts or None, note)
+    best = None  # (rank, k, counts)
+    for k in sorted((k for k in bounds if bounds[k] is not None), key=lambda k: (bounds[k], k)):
+        if best is not None and _beyond(bounds[k], best[2], weights):
+            continue
+        cand = candidates[k]
+        try:
+            counts = solve_problem(cand.problem, solver=options.solver, gap=options.gap,
+                                   time_limit_s=max(1.0, deadline - time.monotonic()))
+        except Infeasible:
+            outcomes[k] = (None, "does not fit the stock")
+            continue
+        outcomes[k] = (counts, "")
+        if best is None or (_rank(counts, weights), k) < best[:2]:
+            best = (_rank(counts, weights), k, counts)
+    tried = []
+    for k, cand in enumerate(candidates):
+        if cand.problem is None:
+            tried.append(_tried(cand, None, cand.reason))
+            continue
+        counts, note = outcomes.get(k, (None, "does not fit the stock" if bounds[k] is None else ""))
+        if k not in outcomes and bounds[k] is not None:
+            note = _pruned_note(bounds[k], best[2], weights)
+        if counts is None:
+            options.say(f"mapping: network '{cand.label}' {note}")
+            tried.append(_tried(cand, None, note))
+            continue
+        options.say(f"mapping: network '{cand.label}': {dict(counts.terms)['envelopes']:.0f} envelopes")
+        tried.append(_tried(cand, dict(counts.terms)["envelopes"], ""))
+    return (None if best is None else (candidates[best[1]], best[2])), tried
 
 
 def _tried(cand: _Candidate, envelopes: float | None, note: str) -> NetworkTried:
