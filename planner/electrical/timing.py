@@ -373,7 +373,7 @@ def grid_times(stage: InverterTiming, drive: Wave, threshold_volts: float) -> tu
 
 
 def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float,
-                  thresholds: dict | None = None) -> Edge:
+                  memo: dict | None = None) -> Edge:
     """The output edge of an inverting stage whose driving node makes the edge ``drive``.
 
     The switching grid passes its threshold (:func:`grid_crossing_seconds`);
@@ -388,9 +388,10 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float,
     threshold, as the section's current falls along it). Cost: one threshold search (about 15 plate solves), a
     grid scan of 512 closed-form points and a few plate solves.
 
-    ``thresholds``: a dict the caller keeps across calls, (stage, mid_volts) -> the switching
-    grid's threshold (:func:`threshold_grid_volts`, a pure function of those frozen values), so
-    the edges of every input of one stage, rising and falling, share one threshold search.
+    ``memo``: a dict the caller keeps across calls for the DC solves, pure functions of frozen
+    values: the switching grid's threshold per (stage, ``mid_volts``) and the plate voltage per
+    (stage, grid voltage), so the edges of every input of one stage, rising and falling, share
+    one threshold search and their levels' plate solves.
 
     >>> from planner.catalogue import builtin_catalogue
     >>> t = builtin_catalogue().get("12AU7")
@@ -401,16 +402,19 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float,
     (True, 'exponential', True)
     """
     tube, div = stage.tube, stage.divider
-    if thresholds is None:
-        vt = threshold_grid_volts(stage, mid_volts)
-    else:
-        if (stage, mid_volts) not in thresholds:
-            thresholds[(stage, mid_volts)] = threshold_grid_volts(stage, mid_volts)
-        vt = thresholds[(stage, mid_volts)]
+    memo = {} if memo is None else memo
+
+    def once(key, compute):
+        if key not in memo:
+            memo[key] = compute()
+        return memo[key]
+
+    vt = once(("threshold", stage, mid_volts), lambda: threshold_grid_volts(stage, mid_volts))
     t_release, t_x = grid_times(stage, drive, vt)
     g0 = load_state(div, drive.from_volts).grid_volts
-    p0 = stage.plate_volts(g0)
-    p1 = stage.plate_volts(load_state(div, drive.to_volts).grid_volts)
+    g1 = load_state(div, drive.to_volts).grid_volts
+    p0 = once(("plate", stage, g0), lambda: stage.plate_volts(g0))
+    p1 = once(("plate", stage, g1), lambda: stage.plate_volts(g1))
     tap_to, r_th = thevenin(div, drive.to_volts)
     c_gp = (tube.c_gp_pf or 0.0) * 1e-12
     # The grid-plate charge comes through the divider and, while the driving node still moves, a speed-up capacitor.

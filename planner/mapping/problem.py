@@ -217,22 +217,31 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
 
 
 def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int, registers: tuple = (),
-                  fixed_plate_ma: float = 0.0, fixed_bias_ma: float = 0.0) -> tuple[Problem, dict]:
+                  fixed_plate_ma: float = 0.0, fixed_bias_ma: float = 0.0,
+                  ways_memo: dict | None = None) -> tuple[Problem, dict]:
     """The aggregated problem of ``network`` and the ways of every stage (stage id -> ways).
 
     Classes are formed from stages with equal tuples of ways, in order of
     their first stage.  ``registers``: the register classes
     (:func:`planner.mapping.registers.register_classes`); ``fixed_*``:
-    supply currents no choice changes (the reset line's).  Cost: one pass
+    supply currents no choice changes (the reset line's).  ``ways_memo``: a dict
+    kept across the networks of one family, stock and ``diode_fanin``: the ways of a
+    stage depend only on its shape (kind, branch widths, which inputs a follower
+    feeds) and its loads, so equal shapes are worked out once.  Cost: one pass
     over the stages and their branches.
     """
     kinds = tube_kinds(stock, family)
     loads = network.load_counts()
     followers = frozenset(s.output for s in network.stages if s.kind == "follower")
+    memo = {} if ways_memo is None else ways_memo
     by_ways: dict[tuple, list[str]] = {}
     ways_of = {}
     for stage in network.stages:
-        ways = stage_ways(stage, loads[stage.output], family, kinds, followers, diode_fanin)
+        shape = (stage.kind, stage.input in followers,
+                 tuple(tuple(net in followers for net in b.inputs) for b in stage.branches), loads[stage.output])
+        if shape not in memo:
+            memo[shape] = stage_ways(stage, loads[stage.output], family, kinds, followers, diode_fanin)
+        ways = memo[shape]
         ways_of[stage.id] = ways
         by_ways.setdefault(ways, []).append(stage.id)
     classes = tuple(StageClass((i,), tuple(ids), ways) for i, (ways, ids) in enumerate(by_ways.items()))

@@ -165,12 +165,12 @@ def _gate_wave(nets: _Nets, rec, width: int, drive: Wave, mid: float) -> Wave:
 
 
 def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, drive: Wave, mid: float,
-                    edges: dict, thresholds: dict):
+                    edges: dict, solves: dict):
     """The output edge of ``stage`` when input ``position`` of ``branch`` makes ``drive``, timed from
-    that input's midpoint crossing.  ``edges`` and ``thresholds``: memos the caller keeps across one
+    that input's midpoint crossing.  ``edges`` and ``solves``: memos the caller keeps across one
     corner's stages (pure functions of frozen values): the edge of an equal stage model and drive
-    is computed once (inputs of one branch, the primary inputs' equal steps), the threshold of an
-    equal stage model once for all its inputs and both edges."""
+    is computed once (inputs of one branch, the primary inputs' equal steps), the threshold and
+    plate solves of an equal stage model once for all its inputs and both edges."""
     tube = nets.tube(way.tube)
     role = input_role(way.template, len(branch.inputs), position)
     rec = branch_receivers(nets.family, way.tube, way.template, branch.inputs, nets.followed)[position]
@@ -186,7 +186,7 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
         wave = _gate_wave(nets, rec, len(branch.inputs), drive, mid)
         shift = wave.crossing_seconds(mid) - drive.crossing_seconds(mid)
     if (model, wave, mid) not in edges:
-        edges[(model, wave, mid)] = inverter_edge(model, wave, mid, thresholds)
+        edges[(model, wave, mid)] = inverter_edge(model, wave, mid, solves)
     edge = edges[(model, wave, mid)]
     return edge.seconds + shift, edge.output
 
@@ -229,7 +229,7 @@ def _corner_timing(plan: Plan, network, placement: Placement, family, stock, rul
     k = corner.bound_factor  # every delay times it: the bound's tolerance on the estimate
     stage_rows = []
     edges: dict = {}
-    thresholds: dict = {}
+    solves: dict = {}
     for stage in network.stages:
         way = placement.ways[stage.id]
         out: dict[str, _Arrival] = {}
@@ -259,7 +259,7 @@ def _corner_timing(plan: Plan, network, placement: Placement, family, stock, rul
                         if src is None:
                             continue
                         delay, wave = _inverter_delay(nets, stage, way, driver, branch, position, src.wave, mid,
-                                                      edges, thresholds)
+                                                      edges, solves)
                         worst[e_out] = max(worst[e_out], delay)
                         if e_out not in out or src.seconds + k * delay > out[e_out].seconds:
                             out[e_out] = _Arrival(src.seconds + k * delay, wave, (net, e_in), src.origin)

@@ -204,6 +204,7 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
         options.say(f"mapping: synthesising and proving network '{variant}'")
         networks.append((variant, cached_network(view, synth), ""))
     networks += multilevel_networks(view, stock, family, variants, weights, options)
+    ways_memo: dict = {}  # the ways of each stage shape, shared by every candidate
     for variant, synthesised, failure in networks:
         if synthesised is None:
             found.append(_Candidate(variant, None, None, {}, failure))
@@ -224,7 +225,7 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
                 reset_ma = _reset_ma(stock, rules)
             # Every network may use every template the stock allows (diode ANDs included).
             problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin, registers=registers,
-                                          fixed_plate_ma=reset_ma, fixed_bias_ma=reset_ma)
+                                          fixed_plate_ma=reset_ma, fixed_bias_ma=reset_ma, ways_memo=ways_memo)
             loads = network.load_counts()
             stuck = [f"stage {s.id} ({s.view} driving {describe_net(network, s.output, names)}, "
                      f"{loads[s.output]} loads)" for s in network.stages if not ways[s.id]]
@@ -332,10 +333,17 @@ def _solve_candidates(candidates, weights: Weights, options: MappingOptions, dea
     its bound.  The best is the least rank, then the earliest candidate, as if
     every one were solved in order.
     """
-    bounds = {}
+    bounds, by_shape = {}, {}
     for k, cand in enumerate(candidates):
-        if cand.problem is not None:
-            bounds[k] = lower_bound(cand.problem, time_limit_s=max(1.0, deadline - time.monotonic()))
+        if cand.problem is None:
+            continue
+        # Problems differing only in which stages make up each class have the same model.
+        p = cand.problem
+        shape = (p.kinds, tuple((c.count, c.ways) for c in p.classes), p.supplies, p.weights, p.vacuum_diodes,
+                 tuple((r.count, r.ways) for r in p.registers))
+        if shape not in by_shape:
+            by_shape[shape] = lower_bound(p, time_limit_s=max(1.0, deadline - time.monotonic()))
+        bounds[k] = by_shape[shape]
     outcomes: dict[int, tuple] = {}  # k -> (counts or None, note)
     best = None  # (rank, k, counts)
     for k in sorted((k for k in bounds if bounds[k] is not None), key=lambda k: (bounds[k], k)):
