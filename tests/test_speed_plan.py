@@ -1,4 +1,5 @@
-"""Speed work on the plan path that must not change a result: memoised timing, the solver's bounds."""
+"""Speed work that must not change a result: memoised timing, the solver's bounds, candidates not
+solved, and the exact cover's budget counting the work before the solver."""
 
 import random
 
@@ -89,3 +90,32 @@ def test_candidates_not_solved_never_change_the_plan(design, stock, mode, monkey
             assert mine == theirs
     if mode is None and "demo" in design:
         assert skipped > 0
+
+
+def test_the_cover_budget_counts_the_work_before_the_solver(monkeypatch):
+    """CBC gets what is left of the budget after the reductions and the model (at least
+    MIN_SOLVER_S), so a block's exact search ends within its budget; the cover is still minimum."""
+    import importlib
+    import time
+
+    exact = importlib.import_module("planner.logic.exact")
+    from planner.logic import prime_implicants, table_from_minterms
+
+    table = table_from_minterms(("a", "b", "c"), [0, 1, 2, 5, 6, 7])  # cyclic: no essentials
+    limits = []
+    solve, reduce = exact._cbc, exact._reduce
+
+    def recorded(pulp, prob, budget_s, relax):
+        limits.append(budget_s)
+        return solve(pulp, prob, budget_s, relax)
+
+    def slow(*args):
+        time.sleep(0.3)
+        return reduce(*args)
+    monkeypatch.setattr(exact, "_cbc", recorded)
+    monkeypatch.setattr(exact, "_reduce", slow)
+    found = exact.minimum_cover(table, prime_implicants(table), budget_s=2.0)
+    assert limits[0] <= 2.0 - 0.3 and found.proven and len(found.cubes) == 3
+    limits.clear()
+    exact.minimum_cover(table, prime_implicants(table), budget_s=0.2)  # spent before CBC starts
+    assert limits[0] == exact.MIN_SOLVER_S

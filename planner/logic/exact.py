@@ -17,6 +17,8 @@ from .table import Space, TruthTable, iter_bits
 
 #: Seconds CBC may spend on one cyclic core before the minimum is given up (see :func:`minimum_cover`).
 DEFAULT_COVER_BUDGET_S = 1.0
+#: The least time CBC is given for a cyclic core when the budget is (nearly) spent before it starts.
+MIN_SOLVER_S = 0.1
 _LOWER_BOUND = re.compile(r"^Lower bound:\s*(-?[0-9.eE+-]+)", re.MULTILINE)
 
 
@@ -109,13 +111,15 @@ def _solve_ilp(rows: int, cols: int, col_rows: list[int], row_cols: dict[int, in
     Objective: literals * (T + 1) + terms, T the number of candidate columns,
     so fewer literals always wins and terms break ties.  Returns the chosen
     columns, whether CBC proved the optimum, and a proven lower bound on their
-    literals.  Past ``budget_s`` seconds CBC stops; its incumbent then depends on
+    literals.  ``budget_s`` counts from this call (building the model included): CBC
+    gets what is left of it (at least :data:`MIN_SOLVER_S`).  Past it CBC stops; its incumbent then depends on
     how far it got, so it is dropped and the cover is made without the clock
     (:func:`_greedy`), and the bound is the LP relaxation's (solved apart, also
     without the clock): a budget-stopped block gives the same cover on any machine.
     """
     import pulp  # loaded only when a cyclic core needs it
 
+    entered = time.perf_counter()
     columns = list(iter_bits(cols))
     weight = len(columns) + 1
     prob = pulp.LpProblem("cover", pulp.LpMinimize)
@@ -124,14 +128,15 @@ def _solve_ilp(rows: int, cols: int, col_rows: list[int], row_cols: dict[int, in
     for r in iter_bits(rows):
         prob += pulp.lpSum(x[c] for c in iter_bits(row_cols[r] & cols)) >= 1
     start = time.perf_counter()
-    _cbc(pulp, prob, budget_s, relax=False)
+    limit = None if budget_s is None else max(MIN_SOLVER_S, budget_s - (start - entered))
+    _cbc(pulp, prob, limit, relax=False)
     picked = [c for c in columns if (x[c].value() or 0) > 0.5]
     covered = 0
     for c in picked:
         covered |= col_rows[c]
     if prob.sol_status == pulp.LpSolutionOptimal and not rows & ~covered:
         return picked, True, sum(lits[c] for c in picked)
-    if budget_s is None or time.perf_counter() - start < budget_s * 0.9:
+    if limit is None or time.perf_counter() - start < limit * 0.9:
         raise AssertionError("internal error: CBC gave no optimal cover of the core before its budget")
     bound = _cbc(pulp, prob, None, relax=True)
     literal_bound = math.floor(bound / weight + 1e-9) if bound is not None else 0
@@ -196,8 +201,8 @@ def minimum_cover(table: TruthTable, primes: tuple[Cube, ...], *,
     """A cover of ``table.on`` by ``primes`` with fewest literals, then fewest terms.
 
     Reductions (:func:`_reduce`) first, then the cyclic core as an integer
-    program solved by CBC (:func:`_solve_ilp`) within ``budget_s`` seconds
-    (None: no limit).  ``proven`` is True when the core was empty or CBC proved
+    program solved by CBC (:func:`_solve_ilp`) within ``budget_s`` seconds from
+    this call on, the reductions included (None: no limit).  ``proven`` is True when the core was empty or CBC proved
     optimality; otherwise ``literal_bound`` and ``gap`` say how far from the
     minimum the cover may be.  ``primes`` must include every prime implicant
     that touches the on-set, else the result is only minimum among those given.
@@ -209,6 +214,7 @@ def minimum_cover(table: TruthTable, primes: tuple[Cube, ...], *,
     >>> len(s.cubes), s.proven, s.core_rows, s.core_columns, s.gap
     (3, True, 6, 6, 0.0)
     """
+    entered = time.perf_counter()
     space = Space(table.n)
     col_rows = [space.cube_bits(p.mask, p.value) & table.on for p in primes]
     lits = [p.literals for p in primes]
@@ -229,7 +235,8 @@ def minimum_cover(table: TruthTable, primes: tuple[Cube, ...], *,
     proven = True
     bound = sum(lits[c] for c in chosen)
     if rows:
-        picked, proven, core_bound = _solve_ilp(rows, cols, col_rows, row_cols, lits, budget_s)
+        left = None if budget_s is None else budget_s - (time.perf_counter() - entered)
+        picked, proven, core_bound = _solve_ilp(rows, cols, col_rows, row_cols, lits, left)
         chosen.extend(picked)
         bound += core_bound
     return CoverSolution(tuple(primes[c] for c in sorted(chosen)), proven, core_rows, core_cols, bound)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from dataclasses import dataclass
 from typing import Iterable
 
@@ -28,8 +29,8 @@ def minimise(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | 
 
     Up to ``exact_limit`` inputs: every prime implicant (:func:`prime_implicants`),
     then an exact minimum cover (:func:`minimum_cover`: essentials, dominance,
-    then a 0-1 integer program for CBC, given ``cover_budget_s`` seconds, or
-    ``time_limit_s`` if smaller); ``exact`` is True when CBC proved the optimum.
+    then a 0-1 integer program for CBC, within ``cover_budget_s`` seconds of the start
+    of this call, or ``time_limit_s`` if smaller); ``exact`` is True when CBC proved the optimum.
     Past the budget the cover is the better of the budget-stopped one and the
     heuristic's, with ``literal_bound`` (and so ``gap``) from the LP relaxation.
     Above the limit: the
@@ -48,8 +49,11 @@ def minimise(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | 
     if not table.off:
         return Cover(names, (Cube(0, 0),), exact=True)
     if table.n <= exact_limit:
+        entered = time.perf_counter()
         primes = prime_implicants(table, useful_only=True)
         budget = cover_budget_s if time_limit_s is None else min(time_limit_s, cover_budget_s or time_limit_s)
+        if budget is not None:  # the budget counts from here: the primes' time is spent from it
+            budget -= time.perf_counter() - entered
         solution = minimum_cover(table, primes, budget_s=budget)
         cover = Cover(names, solution.cubes, solution.proven, solution.literal_bound)
         if not solution.proven:
