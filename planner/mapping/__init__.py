@@ -27,9 +27,9 @@ from .problem import DIODE_FANIN, build_problem, stage_ways, tube_kinds
 from .registers import COMPLEMENT, RegisterSetting, clock_nets, register_classes, register_view
 from .timing import plan_timing
 
-__all__ = ["BIAS_RAIL", "COMPLEMENT", "DEFAULT_TIME_LIMIT_S", "DIODE_FANIN", "GROUND", "PLATE_RAIL", "Budget", "Clock",
-           "Counts", "Envelope", "Infeasible", "MappingOptions", "NetworkTried", "Part", "PlacedBranch",
+__all__ = ["BIAS_RAIL", "COMPLEMENT", "DEFAULT_TIME_LIMIT_S", "DIODE_FANIN", "GROUND", "PLATE_RAIL", "Budget",
+           "Clock", "Counts", "Envelope", "Infeasible", "MappingOptions", "NetworkTried", "Part", "PlacedBranch",
            "PlacedRegister", "PlacedStage", "Plan", "Problem", "RegisterSetting", "SectionUse", "Solution",
-           "StageTiming", "StockUse", "Timing", "Weights", "WindingLoad", "build_plan", "build_problem", "clock_nets",
-           "diagnose", "lower_bound", "place", "plan_timing", "register_classes", "register_view", "solve_problem", "stage_ways",
-           "tube_kinds"]
+           "StageTiming", "StockUse", "Timing", "Weights", "WindingLoad", "build_plan", "build_problem",
+           "clock_nets", "diagnose", "lower_bound", "place", "plan_timing", "register_classes", "register_view",
+           "solve_problem", "stage_ways", "tube_kinds"]

@@ -33,8 +33,8 @@ from .synthesis import Candidate, Synthesis, synthesise
 
 __all__ = [
     "COLLAPSE_SCRIPTS", "ENGINE_SCRIPTS", "EngineError", "MultiLevel", "StageCell", "engine_binary", "genlib_text",
-    "multilevel", "stage_library",
-    "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "FanoutError", "MEANS", "MODES", "Network", "NetworkCost",
-    "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis", "SynthesisOptions", "cached_multilevel",
-    "cached_network", "describe_net", "input_patterns", "multilevel_key", "network_key", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
+    "multilevel", "stage_library", "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "FanoutError", "MEANS", "MODES",
+    "Network", "NetworkCost", "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis",
+    "SynthesisOptions", "cached_multilevel", "cached_network", "describe_net", "input_patterns", "multilevel_key",
+    "network_key", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
 ]
