@@ -119,3 +119,9 @@ def test_the_cover_budget_counts_the_work_before_the_solver(monkeypatch):
     limits.clear()
     exact.minimum_cover(table, prime_implicants(table), budget_s=0.2)  # spent before CBC starts
     assert limits[0] == exact.MIN_SOLVER_S
+
+
+def test_without_highspy_no_bound_is_claimed(monkeypatch):
+    problem = _random_problem(random.Random(3))
+    monkeypatch.setattr(M, "highs_available", lambda: False)
+    assert M.lower_bound(problem) == float("-inf")  # every candidate is then solved by CBC, as before

@@ -56,7 +56,7 @@ from dataclasses import dataclass
 
 import pulp
 
-from .solver import Outcome, solve
+from .solver import Outcome, highs_available, solve
 
 KINDS = ("dual", "single", "follower")
 TIE_BREAK = 1e-6
@@ -484,9 +484,12 @@ def lower_bound(problem: Problem, *, time_limit_s: float = 60.0) -> float | None
     (no solver process started; Huangfu and Hall, "Parallelizing the dual revised simplex
     method", Mathematical Programming Computation 2018), and None when that relaxation is
     infeasible, which makes the integer program infeasible too.  ``-inf`` when HiGHS gives no
-    answer (no bound known).  The planner uses it to skip solving candidates that cannot beat
-    the best plan found (:mod:`planner.mapping.planning`).  Cost: one LP solve, milliseconds.
+    answer or highspy is not installed (no bound known).  The planner uses it to skip solving
+    candidates that cannot beat the best plan found (:mod:`planner.pipeline`).  Cost: one LP
+    solve, milliseconds.
     """
+    if not highs_available():
+        return float("-inf")
     model = _Model(problem, slack=False)
     model.lp.setObjective(model.criterion(_criteria(problem.weights)[0]))
     outcome = solve(model.lp, solver="highs", time_limit_s=time_limit_s, gap=0.0, relax=True)
