@@ -81,3 +81,21 @@ def test_minterm_table_matches_sympy_sop_on_every_assignment(tmp_path):
             assert bool(table.dc >> bit & 1) == bool(dc.subs(point)), (names, values)
     # The lazily built expression is the OR of the minterms (sympy decides the equivalence).
     assert sympy.simplify_logic(output.expr ^ SOPform(over, [0, 3, 5, 6])) == sympy.false
+
+
+def test_a_warm_plan_of_minterm_lists_loads_no_sympy(tmp_path):
+    """With its networks and family in the cache, a design of minterm lists plans without sympy."""
+    design = ROOT / "benchmarks" / "designs" / "seven_segment.yaml"
+    stock = ROOT / "inventory_demo" / "stock.yaml"
+    env = dict(os.environ, PYTHONPATH=str(ROOT), TUBEPLAN_CACHE_DIR=str(tmp_path / "cache"))
+    plan = [sys.executable, "-m", "planner.cli", "plan", str(design), "--stock", str(stock), "--quiet", "--out"]
+    cold = subprocess.run(plan + [str(tmp_path / "cold")], capture_output=True, text=True, env=env, timeout=600)
+    assert cold.returncode == 0, cold.stderr
+    probe = ("import sys\nfrom planner import cli\n"
+             f"cli.main(['plan', {str(design)!r}, '--stock', {str(stock)!r}, '--quiet', '--out', "
+             f"{str(tmp_path / 'warm')!r}])\n"
+             "print('loaded:' + ','.join(m for m in ('sympy', 'matplotlib') if m in sys.modules))")
+    warm = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, env=env, timeout=600)
+    assert warm.returncode == 0, warm.stderr
+    assert warm.stdout.splitlines()[-1] == "loaded:"
+    assert (tmp_path / "warm" / "plan.json").read_bytes() == (tmp_path / "cold" / "plan.json").read_bytes()

@@ -3,10 +3,12 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-
-import sympy
+from typing import TYPE_CHECKING
 
 from .table import Space
+
+if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+    import sympy
 
 
 @dataclass(frozen=True, order=True)
@@ -102,6 +104,8 @@ class Cover:
 
     def to_expr(self) -> sympy.Boolean:
         """The cover as a sympy expression (Or of And of literals)."""
+        import sympy
+
         terms = []
         for cube in self.cubes:
             lits = [sympy.Symbol(name) if positive else sympy.Not(sympy.Symbol(name))

@@ -3,10 +3,12 @@
 from __future__ import annotations
 
 from collections.abc import Iterable
-
-import sympy
+from typing import TYPE_CHECKING
 
 from .table import Space, TruthTable, evaluate, reindex, table_from_minterms
+
+if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+    import sympy
 
 
 def design_support(design, *exprs: sympy.Basic) -> tuple[str, ...]:
@@ -22,9 +24,9 @@ def _inputs_among(design, names: set[str]) -> tuple[str, ...]:
     return tuple(name for name in design.input_names if name in names)
 
 
-def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic = sympy.false,
+def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic | None = None,
                  names: Iterable[str] | None = None) -> TruthTable:
-    """Truth table of ``expr`` (don't-cares ``dont_care``) over the design inputs ``names``.
+    """Truth table of ``expr`` (don't-cares ``dont_care``, None: none) over the design inputs ``names``.
 
     Each named signal is evaluated once, bit-parallel, from the tables of the
     inputs and earlier signals, so the cost is linear in the size of the design's
@@ -32,6 +34,10 @@ def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic = sympy.false
     (substituting them as text can grow exponentially). ``names`` defaults to
     :func:`design_support` of the two expressions.
     """
+    if dont_care is None:
+        import sympy
+
+        dont_care = sympy.false
     reached = design.reached_names(expr, dont_care)
     names = _inputs_among(design, reached) if names is None else tuple(names)
     space = Space(len(names))

@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
-from typing import Iterable
-
-import sympy
-from sympy.logic.boolalg import And, Not, Or
+from typing import TYPE_CHECKING, Iterable
 
 from .table import Space, assignment, evaluate, fold, symbol_names
+
+if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+    import sympy
 
 EXHAUSTIVE_LIMIT = 20
 """Up to this many inputs equivalence is decided by full truth tables."""
@@ -53,6 +53,8 @@ class _Tseitin:
 
     def _gate(self, node: sympy.Basic, lits: list[int]) -> int:
         """The literal of one And/Or/Not/Xor node over its arguments' literals."""
+        from sympy.logic.boolalg import And, Not, Or
+
         if isinstance(node, Not):
             return -lits[0]
         if isinstance(node, And):
@@ -121,6 +123,7 @@ def _model_cadical(clauses: list[set[int]], variables: int) -> dict[int, bool] |
 
 def _model_sympy_dpll(clauses: list[set[int]], variables: int) -> dict[int, bool] | None:
     """The same by sympy's ``satisfiable`` (DPLL with clause learning, pure Python)."""
+    import sympy
     from sympy.assumptions.cnf import EncodedCNF
     from sympy.logic.inference import satisfiable
 
@@ -133,8 +136,8 @@ def _model_sympy_dpll(clauses: list[set[int]], variables: int) -> dict[int, bool
 
 
 def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,
-                   care: sympy.Basic = sympy.true, *, sat_solver: str = "cadical") -> dict[str, bool] | None:
-    """An assignment where ``care`` holds and ``a`` differs from ``b``, or None.
+                   care: sympy.Basic | None = None, *, sat_solver: str = "cadical") -> dict[str, bool] | None:
+    """An assignment where ``care`` holds (None: everywhere) and ``a`` differs from ``b``, or None.
 
     ``names`` defaults to the sorted symbol names of the three expressions.
     Up to 20 inputs: exhaustive, one big-integer XOR over all 2**n
@@ -143,6 +146,7 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
     (``sat_solver``, one of :data:`SAT_SOLVERS`: CaDiCaL by default), and the
     model found is checked by evaluation before it is returned.
 
+    >>> import sympy
     >>> x, y = sympy.symbols("x y")
     >>> counterexample(x | y, x ^ y)
     {'x': True, 'y': True}
@@ -151,6 +155,10 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
     """
     if sat_solver not in SAT_SOLVERS:
         raise ValueError(f"unknown SAT solver {sat_solver!r}; expected one of {SAT_SOLVERS}")
+    if care is None:
+        import sympy
+
+        care = sympy.true
     names = _names(names, a, b, care)
     n = len(names)
     if n <= EXHAUSTIVE_LIMIT:
@@ -176,9 +184,10 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
 
 
 def equivalent(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,
-               care: sympy.Basic = sympy.true, *, sat_solver: str = "cadical") -> bool:
+               care: sympy.Basic | None = None, *, sat_solver: str = "cadical") -> bool:
     """True when ``a`` and ``b`` agree wherever ``care`` holds (see :func:`counterexample`).
 
+    >>> import sympy
     >>> x, y = sympy.symbols("x y")
     >>> equivalent(~(x & y), ~x | ~y)
     True

@@ -4,15 +4,16 @@ from __future__ import annotations
 
 import time
 from dataclasses import dataclass
-from typing import Iterable
-
-import sympy
+from typing import TYPE_CHECKING, Iterable
 
 from .cover import Cover, Cube
 from .exact import DEFAULT_COVER_BUDGET_S, minimum_cover
 from .heuristic import heuristic_cover
 from .primes import prime_implicants
 from .table import TruthTable, symbol_names, table_from_expr
+
+if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+    import sympy
 
 
 def _check(table: TruthTable, cover: Cover) -> Cover:
@@ -125,6 +126,7 @@ def used_inputs(order: Iterable[str], *exprs: sympy.Basic) -> tuple[str, ...]:
 
     Raises ValueError if an expression uses a name that is not in ``order``.
 
+    >>> import sympy
     >>> a, b, c = sympy.symbols("a b c")
     >>> used_inputs(("c", "b", "a"), a & c)
     ('c', 'a')
@@ -139,14 +141,19 @@ def used_inputs(order: Iterable[str], *exprs: sympy.Basic) -> tuple[str, ...]:
     return tuple(name for name in order if name in used)
 
 
-def expr_forms(expr: sympy.Basic, order: Iterable[str], dont_care: sympy.Basic = sympy.false, *,
+def expr_forms(expr: sympy.Basic, order: Iterable[str], dont_care: sympy.Basic | None = None, *,
                exact_limit: int = 10, time_limit_s: float | None = None) -> Forms:
-    """:func:`forms` of ``expr`` over the inputs it (or ``dont_care``) uses, in ``order``.
+    """:func:`forms` of ``expr`` over the inputs it (or ``dont_care``; None: none) uses, in ``order``.
 
+    >>> import sympy
     >>> a, b, c = sympy.symbols("a b c")
     >>> expr_forms(~(a & b) & ~(a & c), ("a", "b", "c")).inverted_text
     '~(a & b | a & c)'
     """
+    if dont_care is None:
+        import sympy
+
+        dont_care = sympy.false
     names = used_inputs(order, expr, dont_care)
     table = table_from_expr(expr, names, dont_care)
     return forms(table, exact_limit=exact_limit, time_limit_s=time_limit_s)

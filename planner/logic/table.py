@@ -10,12 +10,10 @@ positions.  Whole tables are combined with single integer operations (``&``,
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable, Iterable, Mapping, TypeVar
+from typing import TYPE_CHECKING, Callable, Iterable, Mapping, TypeVar
 
-import sympy
-from sympy.logic.boolalg import (
-    And, BooleanFalse, BooleanTrue, Equivalent, ITE, Implies, Nand, Nor, Not, Or, Xnor, Xor,
-)
+if TYPE_CHECKING:  # sympy is loaded by the functions that read expressions: tables never need it
+    import sympy
 
 T = TypeVar("T")
 
@@ -137,6 +135,8 @@ def _core_form(node: sympy.Basic) -> sympy.Basic | None:
 
     Lets every traversal handle the few other sympy connectives without recursion.
     """
+    from sympy.logic.boolalg import ITE, And, Equivalent, Implies, Nand, Nor, Not, Or, Xnor, Xor
+
     if isinstance(node, (And, Or, Not, Xor)):
         return None
     args = node.args
@@ -166,12 +166,16 @@ def fold(expr: sympy.Basic, symbol: Callable[[str], T], true: T, false: T,
     node identity, so shared subexpressions are combined once and nesting depth
     is unlimited.  Cost: one ``combine`` call per distinct node.
 
+    >>> import sympy
     >>> a, b = sympy.symbols("a b")
     >>> def show(node, args):
     ...     return f"{type(node).__name__}({', '.join(args)})"
     >>> fold(sympy.Nand(a, b), str, "1", "0", show)
     'Not(And(a, b))'
     """
+    import sympy
+    from sympy.logic.boolalg import BooleanFalse, BooleanTrue
+
     memo: dict[int, T] = {}
     rewritten: dict[int, sympy.Basic] = {}  # keeps rewritten nodes alive while their ids are in use
     stack = [expr]
@@ -216,10 +220,13 @@ def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
     depth is unlimited.  Cost: one big-integer operation per argument of every
     distinct node.
 
+    >>> import sympy
     >>> a, b = sympy.symbols("a b")
     >>> bin(evaluate(a & ~b, {"a": 0b1100, "b": 0b1010}, 0b1111))
     '0b100'
     """
+    from sympy.logic.boolalg import And, Or, Xor
+
     def symbol(name: str) -> int:
         if name not in variables:
             raise ValueError(f"the expression uses {name!r}, which is not among the inputs "
@@ -250,9 +257,12 @@ def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
 def symbol_names(expr: sympy.Basic) -> frozenset[str]:
     """Names of the symbols in ``expr`` (iterative: any nesting depth).
 
+    >>> import sympy
     >>> sorted(symbol_names(sympy.Symbol("b") | ~sympy.Symbol("a")))
     ['a', 'b']
     """
+    import sympy
+
     seen: set[int] = set()
     names: set[str] = set()
     stack = [expr]
@@ -269,11 +279,12 @@ def symbol_names(expr: sympy.Basic) -> frozenset[str]:
 
 
 def table_from_expr(expr: sympy.Basic, names: Iterable[str],
-                    dont_care: sympy.Basic = sympy.false) -> TruthTable:
-    """Truth table of ``expr`` over ``names``; where ``dont_care`` holds the value is free.
+                    dont_care: sympy.Basic | None = None) -> TruthTable:
+    """Truth table of ``expr`` over ``names``; where ``dont_care`` holds (None: nowhere) the value is free.
 
     Cost: one big-integer operation per expression node (see :func:`evaluate`).
 
+    >>> import sympy
     >>> a, b = sympy.symbols("a b")
     >>> t = table_from_expr(a ^ b, ("a", "b"), dont_care=a & b)
     >>> bin(t.on), bin(t.dc)
@@ -283,7 +294,7 @@ def table_from_expr(expr: sympy.Basic, names: Iterable[str],
     space = Space(len(names))
     variables = {name: space.one[len(names) - 1 - k] for k, name in enumerate(names)}
     f = evaluate(expr, variables, space.full)
-    dc = evaluate(dont_care, variables, space.full)
+    dc = 0 if dont_care is None else evaluate(dont_care, variables, space.full)
     return TruthTable(names, f & (space.full ^ dc), dc)
 
 

@@ -19,8 +19,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import sympy
-
 from planner.electrical import RESET_PULLUP_OHMS, resistor_rating_watts
 from planner.spec import Design, OutputSpec
 
@@ -55,6 +53,8 @@ def register_view(design: Design) -> Design:
     """
     if not design.registers:
         return design
+    import sympy
+
     view = design.combinational()
     extra = tuple(OutputSpec(COMPLEMENT + reg.next_output, sympy.Not(reg.next), sympy.false,
                              f"complement of the next state of register {reg.name}") for reg in design.registers)

@@ -27,8 +27,6 @@ from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Mapping
 
-import sympy
-
 from .network import Network, renumber
 from .options import SynthesisOptions
 from .simulate import prove, simulate
@@ -214,6 +212,8 @@ def expression_blif(design, outputs: list[str]) -> str | None:
     holds an operator other than those four or a constant (then only the minimised
     form is used).  Names as in :func:`blif_text`.
     """
+    import sympy
+
     signals = [s.name for s in design.signals]
     rename = _design_names(design, signals, outputs)
     lines = _header(design, rename, outputs)

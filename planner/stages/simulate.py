@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
-from typing import Mapping
-
-import sympy
+from typing import TYPE_CHECKING, Mapping
 
 from planner.logic import EXHAUSTIVE_LIMIT, counterexample, output_table
 
 from .network import Network
+
+if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+    import sympy
 
 
 class ProofError(Exception):
@@ -78,6 +79,8 @@ def simulate(network: Network, assignment_bits: Mapping[str, int] | None = None,
 
 def network_exprs(network: Network) -> dict[str, sympy.Boolean]:
     """Every net as a sympy expression over the inputs (shared subexpressions, iterative)."""
+    import sympy
+
     exprs: dict[str, sympy.Boolean] = {name: sympy.Symbol(name) for name in network.inputs}
     for name in network.complements:
         exprs["~" + name] = sympy.Not(sympy.Symbol(name))
@@ -123,6 +126,8 @@ def prove(network: Network, design) -> None:
                                  f"{int(not table.on >> index & 1)} but the design needs "
                                  f"{table.on >> index & 1} at {_describe(assign, names)}")
         return
+    import sympy
+
     exprs = network_exprs(network)
     for out in design.outputs:
         line = design.lines.get("outputs", {}).get(out.name, 0)

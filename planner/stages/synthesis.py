@@ -29,8 +29,6 @@ from dataclasses import dataclass, replace
 from types import MappingProxyType
 from typing import Callable, Mapping
 
-import sympy
-
 from planner.logic import (EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, minimise, minimise_complement,
                            table_from_expr)
 from planner.logic import design_support, design_table, output_support, output_table, used_inputs
@@ -139,6 +137,8 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
     full = 0
     if exhaustive:
         bits, full = input_patterns(names)
+    import sympy  # here: a plan whose networks all come from the cache never needs it
+
     specs = [(s.name, "signal", s.expr, sympy.false, None) for s in design.signals]
     specs += [(o.name, "output", None, None, o) for o in design.outputs]
     blocks = []
