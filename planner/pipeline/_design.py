@@ -317,8 +317,8 @@ def _beyond(bound: float, best: Counts, weights: Weights) -> bool:
 
 def _pruned_note(bound: float, best: Counts, weights: Weights) -> str:
     if weights.mode == "lexicographic":
-        return (f"not solved: needs at least {math.ceil(bound - _BOUND_MARGIN)} scarce envelopes (LP bound), "
-                f"the chosen plan {_rank(best, weights)[0]}")
+        return (f"not solved: at least {math.ceil(bound - _BOUND_MARGIN)} scarce envelopes (LP bound), "
+                f"the chosen plan's {_rank(best, weights)[0]}")
     return f"not solved: objective at least {bound:.2f} (LP bound), the chosen plan's {_rank(best, weights)[0]:.2f}"
 
 
@@ -333,6 +333,8 @@ def _solve_candidates(candidates, weights: Weights, options: MappingOptions, dea
     its bound.  The best is the least rank, then the earliest candidate, as if
     every one were solved in order.
     """
+    options.say(f"mapping: bounding {sum(c.problem is not None for c in candidates)} candidate networks "
+                "(their LP relaxations), then solving the promising ones")
     bounds, by_shape = {}, {}
     for k, cand in enumerate(candidates):
         if cand.problem is None:
