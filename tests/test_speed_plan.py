@@ -125,3 +125,13 @@ def test_without_highspy_no_bound_is_claimed(monkeypatch):
     problem = _random_problem(random.Random(3))
     monkeypatch.setattr(M, "highs_available", lambda: False)
     assert M.lower_bound(problem) == float("-inf")  # every candidate is then solved by CBC, as before
+
+
+def test_memoised_section_solves_equal_fresh_ones():
+    from planner.electrical.circuit import ScreenFeed, SectionState, screen_volts, section_amps
+
+    tube = builtin_catalogue().get("6AU6")
+    state = SectionState(tube, -1.5, 0.0, 0.8, ScreenFeed(470e3, 220e3))
+    for plate in (20.0, 75.0, 150.0, 75.0):
+        assert screen_volts(state, 170.0, plate) == screen_volts.__wrapped__(state, 170.0, plate)
+        assert section_amps(state, 170.0, plate) == section_amps.__wrapped__(state, 170.0, plate)
