@@ -1,13 +1,14 @@
 """Results kept on disk between runs: files named by a hash of everything they depend on.
 
 Used for work that depends only on its inputs and takes long: the logic family
-(``planner.electrical.cached_family``) and the exact NAND searches of synthesis
-(``planner.stages``). Each entry is one file ``KIND-SHA256.pickle`` holding its own key
-beside the value; the key hashes the inputs and the source text of the packages that
-compute the value, so a changed input or line of code names another file and a stale
-entry is never read. The directory is safe to delete. Entries are written whole (a
-temporary file renamed into place); one that cannot be read, or records another key, is
-ignored and computed again, and a failure to write only costs the next run the work.
+(``planner.electrical.cached_family``) and the synthesised networks, two-level and
+multi-level (``planner.stages.cached_network``, ``planner.stages.cached_multilevel``). Each
+entry is one file ``KIND-SHA256.pickle`` holding its own key beside the value; the key
+hashes the inputs and the source text of the packages that compute the value, so a changed
+input or line of code names another file and a stale entry is never read. The directory is
+safe to delete. Entries are written whole (a temporary file renamed into place); one that
+cannot be read, or records another key, is ignored and computed again, and a failure to
+write only costs the next run the work.
 
 Where: ``$TUBEPLAN_CACHE_DIR`` when set (empty: no cache at all); else
 ``$XDG_CACHE_HOME/tubeplan``; else ``~/.cache/tubeplan``.
