@@ -14,7 +14,7 @@ import pytest
 
 from planner.catalogue import builtin_catalogue
 from planner.pipeline import plan_files
-from planner.report import CAUTIONS
+from planner.report import CAUTIONS, ProofSection, replace_section, simulation_html
 from planner.report.content import report_content
 from planner.report.html_report import report_html
 from planner.report.markdown_report import report_markdown
@@ -225,3 +225,23 @@ def test_what_the_user_wrote_is_escaped_in_a_planned_report(tmp_path):
     assert HOSTILE_WINDING in element_texts(page, "td")
     assert f"heater {HOSTILE_WINDING} (6.3 V)" in element_texts(page, "text")  # the chart's SVG label
     assert text.count(HOSTILE) == 3
+
+
+def test_the_simulation_section_escapes_names_and_keeps_the_plot():
+    """A proof's section (what tubeplan prove puts in report.html), read back through html.parser.
+
+    The names come as text and are escaped; the plot, matplotlib's SVG, goes in as it is.
+    """
+    plot = '<svg class="plot" xmlns="http://www.w3.org/2000/svg"><text>a &lt; b</text></svg>'
+    proof = ProofSection(f"{HOSTILE}: every one of the 4 input vectors at 1 corners in ngspice", False,
+                         (f"{HOSTILE} at corner nominal: margin -1 V",), plot,
+                         ("output", "corner", "right"), ((HOSTILE, "nominal", "4/4"),), (2,), (f"{HOSTILE}: x=1",))
+    section = simulation_html(proof)
+    assert plot in section
+    page = replace_section(report_html(_content()), section, html=True)
+    text = check_report_html(page)  # among its checks: no script element and every caution
+    assert "Not simulated yet" not in text
+    assert element_texts(section, "p")[0] == (f"{HOSTILE}: every one of the 4 input vectors at 1 corners in "
+                                              f"ngspice. Not proven: {HOSTILE} at corner nominal: margin -1 V")
+    assert element_texts(section, "td") == [HOSTILE, "nominal", "4/4"]
+    assert element_texts(section, "li") == [f"{HOSTILE}: x=1"]

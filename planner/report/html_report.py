@@ -1,17 +1,16 @@
 """report.html: one self-contained page (inline CSS and SVG; nothing is fetched from a network).
 
 The page is the jinja2 template ``templates/report.html.j2`` (with ``parts.html.j2``,
-``budget_chart.svg.j2`` and ``report.css``) rendered with autoescape on: every value the user wrote
-(design, input and output names, stock notes, file names) is escaped by the engine, never by hand.
-Only drawings made by a program that writes well-formed SVG go in unescaped, marked ``Markup``.
+``budget_chart.svg.j2`` and ``report.css``) rendered by ``engine.render`` with autoescape on: every
+value the user wrote (design, input and output names, winding names, file names) is escaped by the
+engine, never by hand. Only drawings made by a program that writes well-formed SVG, and the
+simulation section (rendered the same way), go in unescaped, marked ``Markup``.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import cache
 
-import jinja2
 from markupsafe import Markup
 
 import planner
@@ -21,23 +20,11 @@ from .cautions import CAUTIONS
 from .content import ReportContent
 from .designators import counted
 from .drawings import Template
+from .engine import render
 from .proof_section import simulation_html
 from .tables import (bom_table, heater_table, networks_table, outputs_table, rail_table, resistor_table,
                      stage_table, stock_table, wiring_table)
 from .timing_text import clock_lines, register_table, stage_timing_table, timing_lines
-
-
-@cache
-def environment() -> jinja2.Environment:
-    """The template engine for the report package's templates (built once; it caches compiled templates).
-
-    Autoescape on; ``trim_blocks`` and ``lstrip_blocks`` let a block tag stand on its own line without
-    leaving a blank one, and ``StrictUndefined`` makes a misspelt name an error rather than empty text.
-    """
-    return jinja2.Environment(loader=jinja2.PackageLoader("planner.report", "templates"), autoescape=True,
-                              trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
-                              undefined=jinja2.StrictUndefined)
-
 
 _BAR_WIDTH, _LABEL_WIDTH, _ROW = 460, 170, 30
 
@@ -123,8 +110,8 @@ def report_html(content: ReportContent) -> str:
               "stages": stage_table(plan), "registers": register_table(plan) if plan.registers else None,
               "stage_timing": stage_timing_table(plan) if plan.timing is not None else None,
               "bom": bom_table(content.bom), "wiring": wiring_table(content.wiring)}
-    page = environment().get_template("report.html.j2")
-    return page.render(
+    return render(
+        "report.html.j2",
         plan=plan, b=b, sol=plan.solution, version=planner.__version__, design_path=content.design_path,
         stock_path=content.stock_path, sections=SECTIONS, cautions=CAUTIONS, figures=figures,
         warnings=supply_warnings(b), tables=tables, chart=budget_chart(b), surge=SURGE_FACTORS, headroom=HEADROOM,
