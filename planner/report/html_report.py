@@ -57,7 +57,7 @@ class Chart:
 def budget_chart(budgets: Budgets) -> Chart:
     """Lay out the bar chart of each supply's planned load as a share of what it may deliver.
 
-    Green up to 60 %, amber up to 85 %, red beyond (common practice for a planning margin).
+    A bar is green up to 60 % of the limit, amber up to 85 %, red beyond; cost O(windings).
     """
     b = budgets
     rows = [(f"heater {w.id} ({w.volts_text})", w.amps, w.max_amps, f"{w.amps:.2f} of {w.max_amps:g} A")
@@ -118,5 +118,5 @@ def report_html(content: ReportContent) -> str:
         most_loaded=MOST_LOADED, clock_lines=clock_lines(plan) if plan.registers else (),
         timing_lines=timing_lines(plan) if plan.timing is not None else (),
         drawings=[_drawing(t) for t in content.templates],
-        # Safe to insert unescaped: the placeholder section is our own constant text, escaped where it is made.
+        # Safe to insert unescaped: the section is rendered by the same engine, with autoescape.
         simulation=Markup(simulation_html()))
