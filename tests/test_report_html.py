@@ -12,6 +12,7 @@ from pathlib import Path
 
 import pytest
 
+import planner
 from planner.catalogue import builtin_catalogue
 from planner.pipeline import plan_files
 from planner.report import CAUTIONS, ProofSection, replace_section, simulation_html
@@ -220,7 +221,7 @@ def test_what_the_user_wrote_is_escaped_in_a_planned_report(tmp_path):
     assert "<script>" not in page and "<i>" not in page and "<b>&" not in page
     assert element_texts(page, "title") == [f"Tube logic plan: {HOSTILE}"]
     assert element_texts(page, "h1") == [f"Tube logic plan: {HOSTILE}"]
-    assert element_texts(page, "footer")[0].startswith(f"tubeplan 0.1.0: plan for {HOSTILE}. ")
+    assert element_texts(page, "footer")[0].startswith(f"tubeplan {planner.__version__}: plan for {HOSTILE}. ")
     assert element_texts(page, "code") == [str(design), str(stock)]
     assert HOSTILE_WINDING in element_texts(page, "td")
     assert f"heater {HOSTILE_WINDING} (6.3 V)" in element_texts(page, "text")  # the chart's SVG label
