@@ -22,7 +22,6 @@ from planner.report.designators import natural_key
 from planner.spec import load_design, load_stock
 from test_report_bom import check_bom_against_plan, check_wiring_against_plan
 from test_report_html import ARTIFACTS, check_report_html, needs_chromium, render_in_chromium
-from test_report_spice import needs_ngspice
 
 DEMO = Path(__file__).resolve().parent.parent / "inventory_demo"
 
@@ -183,7 +182,7 @@ def stage_values(plan, vector):
     return values
 
 
-@needs_ngspice
+@pytest.mark.ngspice
 @pytest.mark.parametrize("case", CASES)
 def test_truth_table_reproduced_in_ngspice(planned, case):
     """ngspice (Debian package) DC operating point per input vector against planner.logic's truth table.
