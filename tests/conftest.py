@@ -90,6 +90,7 @@ NGSPICE_MISSING = "ngspice is not installed (Debian package ngspice; CI installs
 _PRINTED = re.compile(r"^\s*([^\s=]+)\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)(?=\s|$)", re.M)
 
 
+@pytest.hookimpl(tryfirst=True)
 def pytest_collection_modifyitems(items):
     """A test that takes the ``ngspice`` fixture carries the ``ngspice`` marker (``-m 'not ngspice'`` leaves it out)."""
     for item in items:

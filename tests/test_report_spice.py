@@ -9,7 +9,7 @@ from itertools import product
 import pytest
 
 from planner.catalogue import builtin_catalogue
-from planner.report import run_deck, sanitise, spice_deck
+from planner.report import NgspiceFailed, NgspiceMissing, run_deck, sanitise, spice_deck
 from test_report_fixtures import FIXTURE_LOGIC, fixture_diode_plan, fixture_plan
 
 def _nodes_of(text):
@@ -128,3 +128,29 @@ def test_diode_and_fixture_in_ngspice():
     deck = spice_deck(plan, builtin_catalogue())
     assert "D1 s1_x a d_silicon" in deck.text and deck.text.count(".model d_silicon D(") == 1
     check_truth_table(plan, deck, lambda out, v: 1 - (v["a"] & v["b"] & v["c"]))
+
+
+@pytest.mark.ngspice
+def test_the_runner_reads_printed_values_and_written_files(ngspice):
+    """The one runner (report.run_ngspice, through the fixture): 10 V over 1 k and 3 k in series puts
+    7.5 V at their junction (Ohm's law, common practice); files the deck writes come back by name."""
+    run = ngspice("* divider\nV1 a 0 10\nR1 a b 1k\nR2 b 0 3k\n.control\nop\nprint v(b)\nwrdata b.txt v(b)\n"
+                  ".endc\n.end\n", files=("b.txt", "absent.txt"))
+    assert run["v(b)"] == pytest.approx(7.5, rel=1e-6)  # ngspice
+    assert list(run.files) == ["b.txt"]
+    assert [float(x) for x in run.files["b.txt"].split()] == pytest.approx([10.0, 7.5], rel=1e-6)
+
+
+@pytest.mark.ngspice
+def test_the_runner_raises_on_a_deck_ngspice_cannot_load(ngspice):
+    # ngspice's own first error line (its wording, so not anchored).
+    with pytest.raises(NgspiceFailed, match=r"unknown subckt: x1 a 0 nosuch"):
+        ngspice("* no such subcircuit\nV1 a 0 10\nX1 a 0 NOSUCH\n.op\n.end\n")
+
+
+def test_run_deck_without_ngspice_says_how_to_install(tmp_path):
+    missing = str(tmp_path / "no-ngspice")
+    message = (f"tubeplan prove needs the ngspice simulator: {missing!r} is not an executable; "
+               "install it (Debian and Ubuntu: apt-get install ngspice) or put it on PATH")
+    with pytest.raises(NgspiceMissing, match=f"^{re.escape(message)}$"):
+        run_deck(spice_deck(fixture_plan(), builtin_catalogue()), [{"a": 0, "b": 0}], executable=missing)
