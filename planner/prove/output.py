@@ -7,17 +7,23 @@ from __future__ import annotations
 
 import json
 import os
+import sys
 import tempfile
 from pathlib import Path
 
 from tabulate import tabulate
 
-from planner.report import (PROVE_FILE, ProofSection, claim_files, replace_section, simulation_html,
+from planner.report import (PROVE_FILE, ProofSection, claim_files, find_ngspice, replace_section, simulation_html,
                             simulation_markdown)
 
 from .run import VECTOR_LIMIT, OutputCorner, Proof
 
 PROOF_SCHEMA = 1
+
+
+def say(message: str) -> None:
+    """A progress line on standard error."""
+    print(f"tubeplan prove: {message}", file=sys.stderr, flush=True)
 
 
 def _volts(v: float | None) -> str:
@@ -210,7 +216,6 @@ def prove_directory(directory: Path, *, executable: str | None = None, limit: in
     a re-plan replaces it.
     """
     from .directory import read_plan_directory
-    from .ngspice import find_ngspice
     from .run import prove_plan
 
     plan = read_plan_directory(Path(directory))
