@@ -57,7 +57,7 @@ def test_worst_case_steering_conditions(design):
     assert b.grid_pulse_volts <= ctx.cutoff_volts("grid") - margin
     assert b.pulse_hold_seconds >= 2 * b.flip_seconds
     # A steering input draws at most one family load's current from a high node.
-    heavy = max(r.load_ma_high for r in family.receivers.values()) / 1e3
+    heavy = max(r.load_amps_high for r in family.receivers.values())
     assert k_max * b.clock_swing_max_volts / (b.steering_ohms * (1 - t)) <= heavy
 
 

@@ -94,7 +94,7 @@ class Bistable:
     rising edge's kick); ``flip_seconds`` the estimated flip with the
     family's worst loading (the plan times its own loads). Diodes must stand
     ``diode_reverse_volts`` and capacitors ``capacitor_volts``.
-    ``bias_ma_worst``: what both dividers return to the bias supply, or, while
+    ``bias_amps_worst``: what both dividers return to the bias supply, or, while
     a reset is held, what a reset diode carries. ``steering_node_pf`` and
     ``grid_node_pf``: the steering node's and a grid's capacitance (wiring and
     diodes included; a grid's without its commutating capacitor).
@@ -112,9 +112,9 @@ class Bistable:
     steering_ohms: float
     steering_watts: float
     fanout_limit: int
-    supply_ma_worst: float
-    supply_ma_typical: float
-    bias_ma_worst: float
+    supply_amps_worst: float
+    supply_amps_typical: float
+    bias_amps_worst: float
     section_watts_worst: float
     high_volts: float
     low_volts: float
@@ -166,7 +166,7 @@ def _low_output_ohms(family: Family, types) -> float:
 
 def _heavy_load(family: Family, types, bias_volts: float) -> Load:
     """The family's heaviest receiver (most current at the high level) at nominal values."""
-    heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
+    heavy = max(family.receivers.values(), key=lambda r: (r.load_amps_high, r.tube, r.grid_role))
     return Load(heavy.upper_ohms, heavy.lower_ohms, bias_volts, types[heavy.tube])
 
 
@@ -357,7 +357,7 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     # Then the cut-off section's plate swings up and lifts the grid through the grid-plate capacitance.
     miller_charge = c_gp * (box.vb(+1) - driver.low_volts)
     node_x = WIRING_PF + DIODE_PF
-    heavy_amps = max(r.load_ma_high for r in family.receivers.values()) / 1e3
+    heavy_amps = max(r.load_amps_high for r in family.receivers.values())
     kick_ohms = _low_output_ohms(family, types)
     r_grid = 1.0 / (1.0 / box.r(rec.upper_ohms, -1) + 1.0 / box.r(rec.lower_ohms, -1))
     # Where the steered grid recovers to: the divider's highest tap from the other plate at its highest
@@ -387,14 +387,14 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     if steering_watts is None:
         return Shortfall("resistor watts", 0.0, "W", f"the {name} steering resistor needs more than a 2 W rating")
     span = box.vb(+1) - box.vc(+1)
-    reset_ma = span / box.r(rec.upper_ohms, -1) * 1e3  # a reset diode carries its divider's current
+    reset_amps = span / box.r(rec.upper_ohms, -1)  # a reset diode carries its divider's current
     return Bistable(
         tube=name, plate_load_ohms=driver.plate_load_ohms, plate_load_watts=driver.plate_load_watts,
         upper_ohms=rec.upper_ohms, lower_ohms=rec.lower_ohms, upper_watts=rec.upper_watts,
         lower_watts=rec.lower_watts, commutating_pf=commutating, steering_pf=cs, steering_ohms=rs,
         steering_watts=steering_watts, fanout_limit=fanout,
-        supply_ma_worst=driver.supply_ma_worst + (box.vb(+1) - high) / box.r(driver.plate_load_ohms, -1) * 1e3,
-        supply_ma_typical=2 * driver.supply_ma_typical, bias_ma_worst=2 * max(rec.bias_ma_worst, reset_ma),
+        supply_amps_worst=driver.supply_amps_worst + (box.vb(+1) - high) / box.r(driver.plate_load_ohms, -1),
+        supply_amps_typical=2 * driver.supply_amps_typical, bias_amps_worst=2 * max(rec.bias_amps_worst, reset_amps),
         section_watts_worst=driver.section_watts_worst, high_volts=driver.high_volts, low_volts=driver.low_volts,
         cutoff_volts=cutoff, grid_pulse_volts=pulse, pulse_hold_seconds=hold, flip_seconds=flip,
         clock_swing_volts=swing, clock_swing_min_volts=swing_min, clock_swing_max_volts=swing_max,

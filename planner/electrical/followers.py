@@ -161,9 +161,9 @@ def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_
         typical += 0.5 * plate_current_amps(tube, plate_volts=vn - k, grid_volts=grid - k)
     return Follower(
         tube=tube.name, cathode_load_ohms=rk, cathode_load_watts=rk_watts, fanout_limit=fanout,
-        supply_ma_worst=supply * 1e3, supply_ma_typical=typical * 1e3,
-        bias_ma_worst=(vk_max - vc_most) / rk_lo * 1e3, section_watts_worst=watts,
-        grid_ma_worst=grid_amps * 1e3, grid_stopper_ohms=stopper, cathode_volts_max=vk_max,
+        supply_amps_worst=supply, supply_amps_typical=typical,
+        bias_amps_worst=(vk_max - vc_most) / rk_lo, section_watts_worst=watts,
+        grid_amps_worst=grid_amps, grid_stopper_ohms=stopper, cathode_volts_max=vk_max,
         high_volts=high, low_volts=low, cathode_volts_min=vk_min,
         elevations=tuple(e for e in elevations if heater_cathode_excess(tube, e, vk_min, vk_max) <= 0))
 

@@ -62,7 +62,7 @@ def format_template(t: Template) -> str:
         f"  cut-off          {t.cutoff_volts:+.1f} V at a load's grid (10 uA) with the plate at the highest "
         f"supply, {t.rails.plate_volts * (1 + r.supply_tolerance):g} V"
         + (f" ({r.unsourced_allowance:.0%} deeper: {t.tube}'s data are from memory)" if t.from_memory else ""),
-        f"  plate supply     {d.supply_ma_worst:.2f} mA worst, {d.supply_ma_typical:.2f} mA typical per stage",
+        f"  plate supply     {d.supply_amps_worst * 1e3:.2f} mA worst, {d.supply_amps_typical * 1e3:.2f} mA typical per stage",
         f"  section          {d.section_watts_worst:.2f} W worst"
         + (f", screen {d.screen_watts_worst:.2f} W" if d.screen_watts_worst is not None else ""),
     ]

@@ -50,12 +50,12 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             nets = {"plate": PLATE_RAIL, "grid": grid, "cathode": stage.output}
             _use(net, uses, ref, tube, section, "follower", stage.id, nets)
             net.resistor(stage.output, BIAS_RAIL, follower.cathode_load_ohms, follower.cathode_load_watts,
-                         (follower.bias_ma_worst / 1e3) ** 2 * net.hi(follower.cathode_load_ohms),
+                         follower.bias_amps_worst ** 2 * net.hi(follower.cathode_load_ohms),
                          "cathode load", stage.id)
             placed.append(PlacedStage(stage.id, "follower", stage.output, stage.view, (), stage.input, way.tube,
                                       ref, section.index, None, follower.cathode_load_ohms, loads[stage.output],
-                                      follower.fanout_limit, follower.supply_ma_worst, follower.supply_ma_typical,
-                                      follower.bias_ma_worst, template="follower"))
+                                      follower.fanout_limit, follower.supply_amps_worst * 1e3,
+                                      follower.supply_amps_typical * 1e3, follower.bias_amps_worst * 1e3, template="follower"))
             continue
         driver = family.drivers[(way.tube, way.template)]
         net.plate_load(stage, driver)
@@ -93,8 +93,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             branches.append(PlacedBranch(branch.inputs, real.means, way.tube, ref, section.index, tuple(diodes)))
         placed.append(PlacedStage(stage.id, "inverting", stage.output, stage.view, tuple(branches), None,
                                   None, None, None, driver.plate_load_ohms,
-                                  None, loads[stage.output], driver.fanout_limit, driver.supply_ma_worst,
-                                  driver.supply_ma_typical, way.bias_ma, template=way.template))
+                                  None, loads[stage.output], driver.fanout_limit, driver.supply_amps_worst * 1e3,
+                                  driver.supply_amps_typical * 1e3, way.bias_ma, template=way.template))
     registers = _registers(design, network, stock, placement, net, uses, setting) if design.registers else ()
     envelopes = []
     for socket in placement.sockets:
@@ -151,8 +151,8 @@ def _registers(design, network, stock, placement: Placement, net: NetlistBuilder
             reg.name, reg.name, COMPLEMENT + reg.name, nets["next"], nets["next_complement"], reg.reset, way.tube, ref,
             network.forms.get(reg.next_output, ""), bistable.plate_load_ohms, bistable.upper_ohms,
             bistable.lower_ohms, bistable.commutating_pf * 1e-12, bistable.steering_pf * 1e-12,
-            bistable.steering_ohms, loads[reg.name], bistable.fanout_limit, bistable.supply_ma_worst,
-            bistable.supply_ma_typical, bistable.bias_ma_worst, setup_seconds=bistable.setup_seconds))
+            bistable.steering_ohms, loads[reg.name], bistable.fanout_limit, bistable.supply_amps_worst * 1e3,
+            bistable.supply_amps_typical * 1e3, bistable.bias_amps_worst * 1e3, setup_seconds=bistable.setup_seconds))
     reset_pullup(net, setting.reset)
     return tuple(placed)
 

@@ -178,8 +178,8 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
         for tube in names:
             f = family.followers.get(tube)
             if f is not None and f.fanout_limit >= loads:
-                ways.append(Way(tube, "follower", (("follower", 1),), f.supply_ma_worst, f.supply_ma_typical,
-                                f.bias_ma_worst, f.fanout_limit))
+                ways.append(Way(tube, "follower", (("follower", 1),), f.supply_amps_worst * 1e3,
+                                f.supply_amps_typical * 1e3, f.bias_amps_worst * 1e3, f.fanout_limit))
         return tuple(ways)
     widths = [len(b.inputs) for b in stage.branches]
     for tube in names:
@@ -200,7 +200,7 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
                     missing = True
                     break
                 for rec in recs[:1] if template == "diode" else recs:
-                    bias += rec.bias_ma_worst
+                    bias += rec.bias_amps_worst * 1e3
                     if rec.pullup_ohms is not None:
                         plate += pullup_ma_worst(family, rec)
                         typical += family.rails.plate_volts / rec.pullup_ohms * 1e3
@@ -210,9 +210,9 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
             kind = {"single": "single", "dual": "dual", "diode": "single"}[template]
             demand = ((kind, len(widths)),) if widths else ()
             # Each branch past the first adds its cut-off screen feed (the template's figure).
-            extra = max(0, len(widths) - 1) * driver.branch_supply_ma_worst
-            ways.append(Way(tube, template, demand, driver.supply_ma_worst + extra + plate,
-                            driver.supply_ma_typical + extra + typical, bias, driver.fanout_limit, diodes))
+            extra = max(0, len(widths) - 1) * driver.branch_supply_amps_worst * 1e3
+            ways.append(Way(tube, template, demand, driver.supply_amps_worst * 1e3 + extra + plate,
+                            driver.supply_amps_typical * 1e3 + extra + typical, bias, driver.fanout_limit, diodes))
     return tuple(ways)
 
 

@@ -85,7 +85,7 @@ class _Nets:
         self.loads: dict[str, list[Load]] = {}
         self.farads: dict[str, float] = {}
         self.followed = frozenset(s.output for s in network.stages if s.kind == "follower")
-        heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
+        heavy = max(family.receivers.values(), key=lambda r: (r.load_amps_high, r.tube, r.grid_role))
         self.heavy = Load(heavy.upper_ohms, heavy.lower_ohms, self.vc, self.tube(heavy.tube))
         for stage in network.stages:
             way = placement.ways[stage.id]
