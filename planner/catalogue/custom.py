@@ -9,6 +9,8 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 
+from planner.units import farads_from_picofarads
+
 from .types import (
     BASES,
     EQUATIONS,
@@ -48,7 +50,8 @@ TOP_KEYS = ("description", "kind", "base", "sections", "shared_cathode", "heater
 HEATER_KEYS = ("volts", "amps", "pins", "centre_tap", "series_volts", "series_amps")
 RATING_KEYS = ("max_plate_volts", "max_plate_watts", "max_plate_ma", "max_screen_volts",
                "max_screen_watts", "max_grid_ma", "max_heater_cathode_volts")
-CAP_KEYS = {"input": "c_in_pf", "output": "c_out_pf", "grid_plate": "c_gp_pf"}
+CAP_KEYS = {"input": "c_in_farads", "output": "c_out_farads", "grid_plate": "c_gp_farads"}
+"""Key under ``capacitance_pf`` (picofarads) -> TubeType field (farads)."""
 
 SOURCE_PATHS = {
     "base": "base", "sections": "sections",
@@ -242,8 +245,8 @@ def _capacitances(data: Mapping):
         return {v: None for v in CAP_KEYS.values()}
     caps = _mapping(caps, "capacitance_pf")
     _no_extra(caps, tuple(CAP_KEYS), "capacitance_pf")
-    return {v: _number(caps, k, "capacitance_pf", required=False, allow_zero=True)
-            for k, v in CAP_KEYS.items()}
+    picofarads = {v: _number(caps, k, "capacitance_pf", required=False, allow_zero=True) for k, v in CAP_KEYS.items()}
+    return {v: None if pf is None else farads_from_picofarads(pf) for v, pf in picofarads.items()}
 
 
 def _model(data: Mapping, kind: str) -> ModelParams:

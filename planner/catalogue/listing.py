@@ -4,7 +4,9 @@ from __future__ import annotations
 
 from collections import Counter
 
-from .custom import SOURCE_PATHS
+from planner.units import as_written, picofarads
+
+from .custom import CAP_KEYS, SOURCE_PATHS
 from .models import CUTOFF_AMPS, cutoff_grid_volts
 from .types import Catalogue, TubeType
 
@@ -111,7 +113,8 @@ def tube_document(tube: TubeType, plate_volts: tuple[float, ...] = LISTING_PLATE
         "ratings": {k: getattr(tube, k) for k in ("max_plate_volts", "max_plate_watts", "max_plate_ma",
                                                   "max_screen_volts", "max_screen_watts", "max_grid_ma",
                                                   "max_heater_cathode_volts")},
-        "capacitance_pf": {"input": tube.c_in_pf, "output": tube.c_out_pf, "grid_plate": tube.c_gp_pf},
+        "capacitance_pf": {key: None if getattr(tube, field) is None else as_written(picofarads(getattr(tube, field)))
+                           for key, field in CAP_KEYS.items()},
         "model": {k: v for k, v in vars(tube.model).items() if v is not None},
         "sources": {SOURCE_PATHS[k]: v for k, v in tube.sources.items()},
         "notes": list(tube.notes),

@@ -2,7 +2,8 @@
 
 Everything here is data: a tube type, its sections, its model parameters and
 the source of every value. Units are in the field names (``heater_volts``,
-``max_plate_watts``, ``c_in_pf``).
+``max_plate_watts``, ``c_in_farads``), in SI units (the catalogue format's mA and pF are
+converted where a type is read, :mod:`planner.units`).
 """
 
 from __future__ import annotations
@@ -158,9 +159,9 @@ class TubeType:
     max_screen_watts: float | None
     max_grid_ma: float | None
     max_heater_cathode_volts: float | None
-    c_in_pf: float | None
-    c_out_pf: float | None
-    c_gp_pf: float | None
+    c_in_farads: float | None
+    c_out_farads: float | None
+    c_gp_farads: float | None
     model: ModelParams
     sources: Mapping[str, str] = field(default_factory=FrozenMap)
     notes: tuple[str, ...] = ()

@@ -10,6 +10,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 from planner.catalogue import FrozenMap
+from planner.units import milliamps
 
 from .rules import DesignRules, Rails
 
@@ -50,7 +51,7 @@ class Receiver:
     the highest low level (diode inputs; 0 otherwise); ``bias_amps_worst``:
     the most it returns to the bias supply; ``grid_amps_worst``: the most
     clamp current into its grid.
-    ``speedup_pf``: capacitor across the upper resistor (compensated
+    ``speedup_farads``: capacitor across the upper resistor (compensated
     divider), when the rules ask for one.
     """
 
@@ -71,7 +72,7 @@ class Receiver:
     inject_amps_low: float = 0.0
     pullup_ohms: float | None = None
     pullup_watts: float | None = None
-    speedup_pf: float | None = None
+    speedup_farads: float | None = None
 
 
 @dataclass(frozen=True)
@@ -272,8 +273,8 @@ class Template:
                      "cutoff_plate_volts": self.rails.plate_volts * (1 + self.rules.supply_tolerance)},
             "from_memory": self.from_memory,
             "margins": {"high_volts": self.margin_high_volts, "low_volts": self.margin_low_volts},
-            "supply_ma_worst": d.supply_amps_worst * 1e3,
-            "supply_ma_typical": d.supply_amps_typical * 1e3,
+            "supply_ma_worst": milliamps(d.supply_amps_worst),
+            "supply_ma_typical": milliamps(d.supply_amps_typical),
             "section_watts_worst": d.section_watts_worst,
             "screen_watts_worst": d.screen_watts_worst,
             "follower": _follower_json(self.follower),

@@ -223,17 +223,17 @@ def _check(ctx: TubeContext, role: str, r1: float, r2: float, low: float, high: 
         return Shortfall("resistor watts", 0.0, "W", "a divider resistor needs more than a 2 W rating")
     load = load_amps(Load(box.r(r1, -1), box.r(r2, -1), box.vc(+1), tube), high)
     speedup = None
-    if rules.speedup_caps and tube.c_in_pf:
-        speedup = _nearest_e12(tube.c_in_pf * r2 / r1)
+    if rules.speedup_caps and tube.c_in_farads:
+        speedup = _nearest_e12(tube.c_in_farads * r2 / r1)
     return Receiver(
         tube=tube.name, grid_role=role, upper_ohms=r1, lower_ohms=r2, upper_watts=upper_w, lower_watts=lower_w,
         grid_high_volts=grid_high, grid_low_volts=grid_low, cutoff_volts=cutoff,
         margin_high_volts=tap_hi, margin_low_volts=margin_low,
         bias_amps_worst=lower_v / box.r(r2, -1), load_amps_high=load, grid_amps_worst=grid_amps,
-        speedup_pf=speedup)
+        speedup_farads=speedup)
 
 
-def _nearest_e12(pf: float) -> float:
-    """The E12 value nearest ``pf`` on a log scale (a compensated divider: R1*C1 = R2*Cin)."""
-    below, above = nearest_values(pf, "E12")
-    return below if pf * pf <= below * above else above
+def _nearest_e12(farads: float) -> float:
+    """The E12 value nearest ``farads`` on a log scale (a compensated divider: R1*C1 = R2*Cin)."""
+    below, above = nearest_values(farads, "E12")
+    return below if farads * farads <= below * above else above

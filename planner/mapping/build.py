@@ -55,7 +55,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             placed.append(PlacedStage(stage.id, "follower", stage.output, stage.view, (), stage.input, way.tube,
                                       ref, section.index, None, follower.cathode_load_ohms, loads[stage.output],
                                       follower.fanout_limit, follower.supply_amps_worst * 1e3,
-                                      follower.supply_amps_typical * 1e3, follower.bias_amps_worst * 1e3, template="follower"))
+                                      follower.supply_amps_typical * 1e3, follower.bias_amps_worst * 1e3,
+                                      template="follower"))
             continue
         driver = family.drivers[(way.tube, way.template)]
         net.plate_load(stage, driver)
@@ -150,7 +151,7 @@ def _registers(design, network, stock, placement: Placement, net: NetlistBuilder
         placed.append(PlacedRegister(
             reg.name, reg.name, COMPLEMENT + reg.name, nets["next"], nets["next_complement"], reg.reset, way.tube, ref,
             network.forms.get(reg.next_output, ""), bistable.plate_load_ohms, bistable.upper_ohms,
-            bistable.lower_ohms, bistable.commutating_pf * 1e-12, bistable.steering_pf * 1e-12,
+            bistable.lower_ohms, bistable.commutating_farads, bistable.steering_farads,
             bistable.steering_ohms, loads[reg.name], bistable.fanout_limit, bistable.supply_amps_worst * 1e3,
             bistable.supply_amps_typical * 1e3, bistable.bias_amps_worst * 1e3, setup_seconds=bistable.setup_seconds))
     reset_pullup(net, setting.reset)
@@ -163,8 +164,8 @@ def _clock(setting: RegisterSetting, registers) -> Clock:
     low = max(b.clock_swing_min_volts for b in used)
     high = min(b.clock_swing_max_volts for b in used)
     # The clock's fall must be short beside the steering time constant (it then loses under 1 % of its step).
-    fall = min(0.02 * b.steering_ohms * b.steering_pf * 1e-12 * (1 - CAPACITOR_TOLERANCE) for b in used)
-    load = sum(2 * b.steering_pf * 1e-12 * (1 + CAPACITOR_TOLERANCE) for b in used)
+    fall = min(0.02 * b.steering_ohms * b.steering_farads * (1 - CAPACITOR_TOLERANCE) for b in used)
+    load = sum(2 * b.steering_farads * (1 + CAPACITOR_TOLERANCE) for b in used)
     return Clock(setting.clock, setting.reset, setting.swing_volts, low, high, used[0].clock_tolerance, fall, load,
                  RESET_PULLUP_OHMS)
 

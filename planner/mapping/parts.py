@@ -150,8 +150,8 @@ class NetlistBuilder:
                       "divider upper", stage.id)
         self.resistor(node, BIAS_RAIL, rec.lower_ohms, rec.lower_watts,
                       rec.bias_amps_worst ** 2 * self.lo(rec.lower_ohms), "divider lower", stage.id)
-        if rec.speedup_pf:
-            self.capacitor(source, node, rec.speedup_pf * 1e-12, "speed-up", stage.id)
+        if rec.speedup_farads:
+            self.capacitor(source, node, rec.speedup_farads, "speed-up", stage.id)
 
     def diode_gate(self, stage, inputs, gate: str, grid: str, rec, vacuum: list | None) -> tuple[str, ...]:
         """A diode-AND gate: pull-up from B+ to the gate node, a diode from the gate to each input

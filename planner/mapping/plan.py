@@ -290,7 +290,7 @@ class Timing:
     registers: ``clock_to_q_seconds``, ``setup_seconds`` (worst over the
     registers), ``high_seconds_min`` / ``low_seconds_min`` the shortest clock
     phases, ``min_period_seconds`` (all nominal). ``output_seconds``: the
-    latest design output's midpoint crossing. ``wiring_pf``: the wiring
+    latest design output's midpoint crossing. ``wiring_farads``: the wiring
     allowance per node; ``corner``: the nominal conditions.
     The bound: ``corner_worst`` (the slow corner), ``path_worst`` from
     ``start_worst`` to ``end_worst`` and ``path_seconds_worst``,
@@ -306,7 +306,7 @@ class Timing:
     start: str
     end: str
     output_seconds: float
-    wiring_pf: float
+    wiring_farads: float
     margin: float
     corner: str
     clock_to_q_seconds: float | None = None

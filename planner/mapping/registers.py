@@ -124,9 +124,9 @@ def register_parts(net: NetlistBuilder, uses: dict, reg, bistable, tube, ref: st
                      "divider upper", stage)
         net.resistor(grid[k], BIAS_RAIL, b.lower_ohms, b.lower_watts,
                      (b.bias_amps_worst / 2) ** 2 * net.lo(b.lower_ohms), "divider lower", stage)
-        net.capacitor(plate[other], grid[k], b.commutating_pf * 1e-12, "commutating", stage,
+        net.capacitor(plate[other], grid[k], b.commutating_farads, "commutating", stage,
                       volts_rating=vb + vc)
-        net.capacitor(clock, node[k], b.steering_pf * 1e-12, "steering", stage, volts_rating=b.capacitor_volts)
+        net.capacitor(clock, node[k], b.steering_farads, "steering", stage, volts_rating=b.capacitor_volts)
         net.resistor(level[k], node[k], b.steering_ohms, b.steering_watts,
                      (vb + b.clock_swing_max_volts) ** 2 / net.lo(b.steering_ohms), "steering", stage)
         net.diode(grid[k], node[k], "steering diode", stage, volts_rating=b.diode_reverse_volts)

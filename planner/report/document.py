@@ -17,6 +17,7 @@ from pathlib import Path
 
 from planner import __version__
 from planner.mapping import Plan
+from planner.units import picofarads
 
 #: 2: keys are identifiers (solution terms and criteria), ``tool`` and ``input_files`` added.
 SCHEMA = 2
@@ -101,7 +102,8 @@ def _timing(t) -> dict | None:
             "output_seconds": _num(t.output_seconds), "clock_to_q_seconds": _num(t.clock_to_q_seconds),
             "setup_seconds": _num(t.setup_seconds), "high_seconds_min": _num(t.high_seconds_min),
             "low_seconds_min": _num(t.low_seconds_min), "min_period_seconds": _num(t.min_period_seconds),
-            "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz), "wiring_pf": _num(t.wiring_pf),
+            "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz),
+            "wiring_pf": _num(picofarads(t.wiring_farads)),
             "corner": t.corner,
             "worst": {"corner": t.corner_worst, "path": list(t.path_worst), "start": t.start_worst,
                       "end": t.end_worst, "path_seconds": _num(t.path_seconds_worst),
