@@ -67,6 +67,15 @@ def test_capacitances_are_read_in_picofarads_held_in_farads_and_listed_as_writte
     assert "Cin g k 0.46p" in spice_subcircuit(tube, "triode") and "Cgp g p 0.0035p" in spice_subcircuit(tube, "triode")
 
 
+def test_current_ratings_are_read_in_milliamperes_held_in_amperes_and_listed_as_written():
+    data = with_change("ratings", {"max_plate_volts": 250, "max_plate_watts": 1.0, "max_grid_ma": 0.35})
+    tube = tube_type_from_mapping("X1", data)
+    assert tube.max_grid_amps == pytest.approx(0.35e-3, rel=1e-15) and tube.max_plate_amps is None
+    ratings = tube_document(tube, ())["ratings"]
+    assert ratings["max_grid_ma"] == 0.35 and ratings["max_plate_ma"] is None  # the file's number, its unit
+    assert tube.sources["max_grid_amps"] == "invented for this test"
+
+
 @pytest.mark.parametrize("name", sorted(BUILTIN_DATA))
 def test_builtin_data_goes_through_the_same_reader(name):
     assert tube_type_from_mapping(name, BUILTIN_DATA[name]) == builtin_catalogue().get(name)

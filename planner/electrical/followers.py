@@ -22,6 +22,7 @@ from __future__ import annotations
 import math
 
 from planner.catalogue import plate_current_amps
+from planner.units import milliamps
 
 from .circuit import follower_cathode_volts, follower_on_node, load_amps
 from .context import TubeContext
@@ -130,9 +131,9 @@ def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_
         if grid_amps <= ctx.max_grid_amps:
             break
     else:
-        excess = (grid_amps - ctx.max_grid_amps) * 1e3
+        excess = milliamps(grid_amps - ctx.max_grid_amps)
         return Shortfall("grid current", excess, "mA",
-                         f"the follower's grid would draw {grid_amps * 1e3:.2f} mA even behind "
+                         f"the follower's grid would draw {milliamps(grid_amps):.2f} mA even behind "
                          f"{STOPPER_OHMS[-1] / 1e3:g} kOhm")
     # Highest cathode: new tube, no loads, Rk high, bias least negative.
     _, vk_max, _ = follower_on_node(tube, 1.0, vb_hi, node, rk_hi, vc_least, ())

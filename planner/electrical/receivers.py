@@ -33,6 +33,8 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from planner.units import milliamps
+
 from .circuit import Load, clamp_grid_volts, load_amps, thevenin
 from .context import TubeContext
 from .eseries import nearest_values, resistor_rating_watts
@@ -213,8 +215,8 @@ def _check(ctx: TubeContext, role: str, r1: float, r2: float, low: float, high: 
     vg_top = clamp_grid_volts(tube, vt, rth)
     grid_amps = (vt - vg_top) / rth
     if grid_amps > ctx.max_grid_amps:
-        excess = (grid_amps - ctx.max_grid_amps) * 1e3
-        return Shortfall("grid current", excess, "mA", f"clamp current exceeds {ctx.max_grid_amps * 1e3:g} mA")
+        excess = milliamps(grid_amps - ctx.max_grid_amps)
+        return Shortfall("grid current", excess, "mA", f"clamp current exceeds {milliamps(ctx.max_grid_amps):g} mA")
     # Resistor watts: the upper resistor carries at most the whole supply (grid clamped at 0 V or above).
     lower_v = vg_top + vc_most
     upper_w = resistor_rating_watts(vb**2 / box.r(r1, -1))
