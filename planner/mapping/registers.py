@@ -86,8 +86,7 @@ def register_classes(design: Design, network, bistables: dict, kinds) -> tuple[t
     by_ways: dict[tuple, list[str]] = {}
     stuck = []
     for reg in design.registers:
-        ways = tuple(RegisterWay(name, b.supply_amps_worst * 1e3, b.supply_amps_typical * 1e3, b.bias_amps_worst * 1e3,
-                                 b.fanout_limit)
+        ways = tuple(RegisterWay(name, b.supply_amps_worst, b.supply_amps_typical, b.bias_amps_worst, b.fanout_limit)
                      for name, b in sorted(bistables.items()) if name in stocked and b.fanout_limit >= loads[reg.name])
         if not ways:
             most = max((b.fanout_limit for b in bistables.values()), default=0)
