@@ -126,8 +126,7 @@ class TimingCorner:
                 f"{100 * (self.supply_scale - 1):+.0f} %, each tube type at its stock condition (types with "
                 f"models from memory {100 * self.unsourced_allowance:.0f} % weaker), capacitances and "
                 f"{picofarads(wiring_farads):g} pF of wiring per node {100 * (self.farads_scale - 1):+.0f} %; "
-                "the estimate "
-                f"there times {self.bound_factor:g} (its tolerance against ngspice)")
+                f"the estimate there times {self.bound_factor:g} (its tolerance against ngspice)")
 
 
 NOMINAL_CORNER = TimingCorner("nominal")
