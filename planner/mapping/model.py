@@ -339,8 +339,8 @@ class _Model:
     def _limits(self):
         supplies = self.problem.supplies
         limits = {ident: max_amps for ident, _v, max_amps in supplies.windings}
-        limits.update(plate=supplies.plate_max_amps * SUPPLY_ROW_SCALE, bias=supplies.bias_max_amps * SUPPLY_ROW_SCALE)
-        return [(var, limits[what]) for what, var in self.over.items()]
+        limits.update(plate=supplies.plate_max_amps, bias=supplies.bias_max_amps)
+        return [(var, limits[what] * _row_scale(what)) for what, var in self.over.items()]
 
     def _hosting(self, t: int, kind: TubeKind, demand: dict, bistables: list) -> list:
         """Packing of type ``t``, split over groups of heater ways that may host different sections.

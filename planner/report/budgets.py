@@ -50,7 +50,8 @@ class WindingBudget:
 
 @dataclass(frozen=True)
 class RailBudget:
-    """A DC rail: its volts, the planned current (worst case and typical) and what it may give, in mA as reported."""
+    """A DC rail as the reports print it: its volts, the planned current (worst case and typical) and what it may
+    give, in mA (the plan's amperes, converted here where the reports are made), and the worst-case watts."""
 
     name: str
     volts: float
