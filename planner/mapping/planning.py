@@ -7,6 +7,7 @@ from dataclasses import dataclass, replace
 
 from planner.electrical import RESET_PULLUP_OHMS, Bistable, DesignRules, Rails, cached_family, design_bistables
 from planner.electrical import is_dual_triode
+from planner.errors import StockShort
 from planner.stages import FanoutError, Stage, SynthesisOptions, cached_network, describe_net, prove, repair_fanout
 
 from .assemble import place
@@ -23,7 +24,7 @@ _DIODE_RULES = {"solid-state": "solid-state", "vacuum-only": "vacuum", "none": "
 _FOLLOWER_PROBE = Stage("F?", "#f?", "follower", input="x")
 
 
-class Shortage(Exception):
+class Shortage(StockShort):
     """The stock or the supplies cannot carry the design.
 
     ``message``: what is short, in words; ``purchase``: tube type -> envelopes

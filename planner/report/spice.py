@@ -26,6 +26,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from planner.catalogue import Catalogue, spice_nodes, spice_subcircuit, subcircuit_name
+from planner.errors import ToolError
 from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Plan
 
 from .designators import natural_key
@@ -246,14 +247,14 @@ def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: M
     default is every design output (label: output name, node out_NAME). The
     deck's ``.op`` is replaced by a ``.control`` block that, per vector, sets
     the input parameters (``alterparam``), re-loads the circuit (``reset``),
-    runs ``op`` and prints every probed node. Raises RuntimeError when
-    ngspice fails or prints fewer results than asked. Cost: one ngspice
+    runs ``op`` and prints every probed node. Raises ``planner.errors.ToolError``
+    when ngspice is missing, fails or prints fewer results than asked. Cost: one ngspice
     process, one operating point a vector.
     """
     probes = dict(deck.outputs if probes is None else probes)
     executable = executable or ngspice_path()
     if executable is None:
-        raise RuntimeError("ngspice is not on PATH")
+        raise ToolError("ngspice is not on PATH")
     control = [".control", "set noaskquit"]
     for k, vector in enumerate(vectors):
         control += [f"alterparam {param}={int(vector[name])}" for name, param in deck.params if name in vector]
@@ -278,6 +279,6 @@ def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: M
     complete = len(results) == len(vectors) and all(len(r) == len(probes) for r in results)
     if done.returncode != 0 or not complete:
         tail = "\n".join((done.stdout + done.stderr).splitlines()[-15:])
-        raise RuntimeError(f"ngspice failed (status {done.returncode}, {len(results)} of {len(vectors)} "
+        raise ToolError(f"ngspice failed (status {done.returncode}, {len(results)} of {len(vectors)} "
                            f"vectors):\n{tail}")
     return tuple(results)
