@@ -20,6 +20,9 @@ exit statuses in one table:
 - :class:`InternalError`: tubeplan found its own result wrong by a check that
   runs always (a network that does not compute the design): exit 1, report it.
 
+A family is raised directly where no finer class is needed (a missing
+``highspy``).
+
 Exit 4 (a wrong vector or a negative margin) is a result of ``tubeplan
 prove``, printed as its proof table, not an exception.
 
