@@ -6,7 +6,7 @@ is a NAND-2 of its net and an input of its own.  The stock (invented): 12AU7,
 12AT7 and 6AU6 in quantity at +150 V / -100 V, silicon diodes.
 
 Ours: :func:`planner.stages.repair_fanout` with each strategy at each stocked
-limit (as :func:`planner.mapping.planning.plan_design` tries them), every
+limit (as :func:`planner.pipeline.plan_design` tries them), every
 network through the aggregated integer program, the best kept.  Naive: every
 net over its limit gets an inverter pair per extra group of loads (the pair's
 second inverter drives a group; pairs hang on the driver, then on earlier
@@ -27,7 +27,7 @@ from pathlib import Path
 from planner.electrical import Rails, design_family
 from planner.mapping import MappingOptions
 from planner.mapping.model import Infeasible, solve_problem
-from planner.mapping.planning import _fanout_limits, _rank, _repair_caps, _weights, design_rules
+from planner.pipeline._design import _fanout_limits, _rank, _repair_caps, _weights, design_rules
 from planner.mapping.problem import DIODE_FANIN, build_problem
 from planner.spec import load_stock
 from planner.stages import Branch, Network, Stage, repair_fanout

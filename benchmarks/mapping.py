@@ -25,7 +25,7 @@ from planner.mapping.assemble import place
 from planner.mapping.build import build_plan
 from planner.mapping.model import Weights, solve_problem
 from planner.mapping.plan import Solution
-from planner.mapping.planning import _fanout_limits
+from planner.pipeline._design import _fanout_limits
 from planner.mapping.problem import DIODE_FANIN, build_problem
 from planner.spec import load_stock
 from planner.spec.design import Design, InputSpec, OutputSpec

@@ -23,8 +23,8 @@ import sympy
 from planner.electrical import Rails, design_family
 from planner.mapping import MappingOptions
 from planner.mapping.model import Infeasible, solve_problem
-from planner.mapping.multilevel import multilevel_networks
-from planner.mapping.planning import _repaired, _synthesis_variants, _weights, design_rules
+from planner.pipeline._multilevel import multilevel_networks
+from planner.pipeline._design import _repaired, _synthesis_variants, _weights, design_rules
 from planner.mapping.problem import build_problem
 from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock
 from planner.stages import prove, synthesise

@@ -325,8 +325,7 @@ def _run_logic(args) -> int:
     if args.stock and not args.networks:
         raise InputError("<command line>", 0, "--stock goes with --networks")
     if args.networks:
-        from planner.mapping import Shortage
-        from planner.pipeline import network_document
+        from planner.pipeline import Shortage, network_document
 
         try:
             document["networks"] = network_document(Path(args.design), Path(args.stock) if args.stock else None)

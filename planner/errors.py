@@ -2,7 +2,7 @@
 
 Every exception class tubeplan defines derives from :class:`TubeplanError`
 through one of the families below; the concrete classes live beside the code
-that raises them (``planner.spec.InputError``, ``planner.mapping.Shortage``,
+that raises them (``planner.spec.InputError``, ``planner.pipeline.Shortage``,
 ...) and keep any built-in base their callers catch (``ValueError``,
 ``RuntimeError``, ``ArithmeticError``). ``planner.cli`` maps the families to
 exit statuses in one table:

@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 from sympy.logic.inference import satisfiable
 
 from planner.catalogue import builtin_catalogue
-from planner.mapping import plan_design
+from planner.pipeline import plan_design
 from planner.mapping.registers import register_view
 from planner.report import plan_document, spice_deck
 from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock, parse_expression
@@ -217,7 +217,7 @@ def test_forty_eight_random_outputs_over_fourteen_inputs(tmp_path, run_cli, plat
 def two_level_only(monkeypatch):
     """Plan with the project's own networks only: the multi-level ones share the loaded nets
     differently and here need no repair, so they would win and leave the repair untested."""
-    from planner.mapping import planning
+    from planner.pipeline import _design as planning
     monkeypatch.setattr(planning, "multilevel_networks", lambda *args, **kwargs: [])
 
 
@@ -430,7 +430,8 @@ def test_repaired_plans_reproduce_their_truth_tables_in_ngspice(tmp_path, case, 
 
 def test_a_failing_repair_is_said_and_others_plan(tmp_path, monkeypatch, two_level_only):
     """A repair that fails says so on the progress stream with its reason; the other repairs still plan."""
-    from planner.mapping import MappingOptions, planning
+    from planner.mapping import MappingOptions
+    from planner.pipeline import _design as planning
     from planner.stages import repair_fanout as real
 
     def refuse_buffers(network, limit, limits=None, *, strategy="buffers", names=None):

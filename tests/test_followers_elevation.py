@@ -18,9 +18,10 @@ import pytest
 
 from planner.catalogue import builtin_catalogue, spice_nodes, spice_subcircuit, subcircuit_name
 from planner.electrical import Rails, design_family, design_template, heater_cathode_excess
-from planner.mapping import MappingOptions, Shortage, plan_design
+from planner.mapping import MappingOptions
+from planner.pipeline import Shortage, plan_design
 from planner.mapping import model as M
-from planner.mapping import planning
+from planner.pipeline import _design as planning
 from planner.mapping.assemble import place
 from planner.mapping.model import HOSTS, HeaterWay
 from planner.spec import InputError, load_design, load_stock

@@ -136,12 +136,12 @@ def test_exit_statuses(tmp_path, write, run_cli, monkeypatch):
     assert status == 3 and "needs" in err and out == ""  # the reason goes to stderr
     assert not (tmp_path / "short").exists()
 
-    import planner.pipeline
+    import planner.pipeline._files
 
     def broken(*args, **kwargs):
         raise ZeroDivisionError("simulated fault")
 
-    monkeypatch.setattr(planner.pipeline, "plan_design", broken)
+    monkeypatch.setattr(planner.pipeline._files, "plan_design", broken)
     status, _, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "x", "--quiet")
     assert status == 1 and err.count("\n") == 1 and "--debug" in err and "Traceback" not in err
     with pytest.raises(ZeroDivisionError):

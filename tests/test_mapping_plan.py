@@ -15,8 +15,9 @@ import textwrap
 import pytest
 
 from planner.electrical import design_family
-from planner.mapping import MappingOptions, Shortage, plan_design
-from planner.mapping import planning
+from planner.mapping import MappingOptions
+from planner.pipeline import Shortage, plan_design
+from planner.pipeline import _design as planning
 from planner.mapping.solver import highs_available
 from planner.spec import load_design, load_stock
 from planner.stages import Branch, Network, Stage, prove
@@ -276,7 +277,7 @@ def test_same_inputs_same_plan_under_other_hash_seeds(tmp_path):
     script = textwrap.dedent(f"""
         import dataclasses
         from planner.spec import load_design, load_stock
-        from planner.mapping import plan_design
+        from planner.pipeline import plan_design
         plan = plan_design(load_design({str(tmp_path / 'd.yaml')!r}), load_stock({str(stock_path)!r}))
         print(repr(dataclasses.replace(plan, solution=dataclasses.replace(plan.solution, seconds=0.0))))
         """)
@@ -372,7 +373,8 @@ def test_followers_are_placed_and_wired(tmp_path):
 def test_one_input_branches_get_no_needless_diodes(tmp_path):
     """Solid-state diodes cost nothing in the objective; a one-input branch must still not get one."""
     from planner.cli import DEMO_DESIGN, DEMO_STOCK
-    from planner.mapping import MappingOptions, plan_design
+    from planner.mapping import MappingOptions
+    from planner.pipeline import plan_design
     from planner.spec import load_design, load_stock
 
     plan = plan_design(load_design(DEMO_DESIGN), load_stock(DEMO_STOCK), MappingOptions())

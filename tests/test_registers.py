@@ -14,8 +14,9 @@ import pytest
 
 from planner.catalogue import builtin_catalogue
 from planner.electrical import is_dual_triode
-from planner.mapping import BIAS_RAIL, Shortage, plan_design
-from planner.mapping import planning
+from planner.mapping import BIAS_RAIL
+from planner.pipeline import Shortage, plan_design
+from planner.pipeline import _design as planning
 from planner.report import plan_document, plan_summary, reset_press, spice_deck
 from planner.report.markdown_report import report_markdown
 from planner.report.content import report_content

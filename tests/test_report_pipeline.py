@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 
 from planner.logic import table_from_expr
-from planner.mapping import Shortage, plan_design
+from planner.pipeline import Shortage, plan_design
 from planner.report import MARKER, run_deck, spice_deck, write_plan
 from planner.report.designators import natural_key
 from planner.spec import load_design, load_stock

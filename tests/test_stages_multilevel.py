@@ -233,8 +233,8 @@ def test_stock_costs_send_scarce_dual_sections_where_they_save_most():
     from planner.electrical import Rails, design_family
     from planner.mapping import MappingOptions
     from planner.mapping.model import Weights
-    from planner.mapping.multilevel import section_costs
-    from planner.mapping.planning import design_rules
+    from planner.pipeline._multilevel import section_costs
+    from planner.pipeline import design_rules
     from planner.spec import load_stock
 
     stock = load_stock(FIXTURES / "scarce.yaml")

@@ -41,7 +41,7 @@ def section_costs(stock, family, weights) -> tuple[dict[str, float], float]:
 def multilevel_networks(view, stock, family, variants, weights, options) -> list[tuple[str, object, str]]:
     """The multi-level networks for ``view``: (label, network or None, reason when none).
 
-    For every stage-layer variant of the stock (:func:`planner.mapping.planning._synthesis_variants`),
+    For every stage-layer variant of the stock (:func:`planner.pipeline._design._synthesis_variants`),
     the whole design mapped onto the stages it allows with area = sections; for the
     first (richest) variant, also with area = the stock's objective cost per section
     (:func:`section_costs`), so scarce dual-control sections go where they save the most.

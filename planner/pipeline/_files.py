@@ -1,7 +1,4 @@
-"""``tubeplan plan`` end to end: read the files, plan, prove, write the outputs.
-
-This module only composes the layers; each step's work lives in its package.
-"""
+"""``tubeplan plan`` end to end: read the files, plan, write the outputs (and the candidates for ``tubeplan logic``)."""
 
 from __future__ import annotations
 
@@ -11,9 +8,12 @@ import time
 from dataclasses import dataclass
 from pathlib import Path
 
-from planner.mapping import MappingOptions, Shortage, plan_design
+from planner.mapping import MappingOptions
 from planner.report import PLAN_FILES, check_target, plan_summary, write_plan
 from planner.spec import load_design, load_stock
+
+from ._design import plan_design
+from ._shortage import Shortage
 
 
 @dataclass(frozen=True)
