@@ -2,11 +2,15 @@
 
 from __future__ import annotations
 
+import re
+import shutil
 import textwrap
+from dataclasses import dataclass
 
 import pytest
 
 from planner import cli
+from planner.report import find_ngspice, run_ngspice
 
 # Invented data: a minimal valid stock file used by many tests.
 GOOD_STOCK = """\
@@ -75,4 +79,57 @@ def run_cli(capsys):
         status = cli.main([str(a) for a in args])
         captured = capsys.readouterr()
         return status, captured.out, captured.err
+    return _run
+
+
+# ---- ngspice: one marker, one fixture, one runner (planner.report.run_ngspice) ----
+
+NGSPICE_MISSING = "ngspice is not installed (Debian package ngspice; CI installs it)"
+
+#: A value ngspice prints as ``name = number`` (``print``, ``meas``, ``let`` vectors), at the start of its line.
+_PRINTED = re.compile(r"^\s*([^\s=]+)\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)(?=\s|$)", re.M)
+
+
+@pytest.hookimpl(tryfirst=True)
+def pytest_collection_modifyitems(items):
+    """A test that takes the ``ngspice`` fixture carries the ``ngspice`` marker (``-m 'not ngspice'`` leaves it out)."""
+    for item in items:
+        if "ngspice" in getattr(item, "fixturenames", ()) and item.get_closest_marker("ngspice") is None:
+            item.add_marker(pytest.mark.ngspice)
+
+
+@pytest.hookimpl(tryfirst=True)
+def pytest_runtest_setup(item):
+    """Tests marked ``ngspice`` skip, with the reason, where the simulator is absent."""
+    if item.get_closest_marker("ngspice") is not None and shutil.which("ngspice") is None:
+        pytest.skip(NGSPICE_MISSING)
+
+
+@dataclass(frozen=True)
+class SpiceRun:
+    """One ngspice run: its standard output, every ``name = number`` it printed, the files it wrote."""
+
+    stdout: str
+    values: dict
+    files: dict
+
+    def __getitem__(self, name: str) -> float:
+        return self.values[name]
+
+
+def printed_values(stdout: str) -> dict[str, float]:
+    """Every ``name = number`` line of ngspice's output (``print``, ``meas``): name -> value (the last wins)."""
+    return {name: float(value) for name, value in _PRINTED.findall(stdout)}
+
+
+@pytest.fixture
+def ngspice():
+    """ngspice(deck_text, files=(), timeout_s=300) -> SpiceRun: the deck run as ``ngspice -b`` in a fresh
+    directory by the package's own runner (planner.report.run_ngspice; NgspiceFailed when ngspice reports
+    a failure). ``run["v(p)"]`` is a printed value; ``run.stdout`` the whole output for other tables."""
+    executable = find_ngspice()
+
+    def _run(text: str, files: tuple[str, ...] = (), timeout_s: float = 300.0) -> SpiceRun:
+        out, written = run_ngspice(text, executable, files=files, timeout_s=timeout_s)
+        return SpiceRun(out, printed_values(out), written)
     return _run

@@ -6,10 +6,6 @@ transient runs (ngspice, the catalogue's triode subcircuit, the wiring allowance
 show it taking its steered state on every falling clock edge.
 """
 
-import re
-import shutil
-import subprocess
-
 import pytest
 
 from planner.catalogue import builtin_catalogue, spice_subcircuit, subcircuit_name
@@ -23,7 +19,6 @@ RAILS = Rails(225.0, -95.0)
 WEAR = 0.7
 #: The test clock's fall and rise (s), well within the plan's limit for this design.
 CLOCK_FALL = 1e-7
-NGSPICE = pytest.mark.skipif(shutil.which("ngspice") is None, reason="ngspice is not installed (apt install ngspice)")
 
 
 @pytest.fixture(scope="module")
@@ -94,22 +89,14 @@ def _netlist(tube, b: Bistable, swing: float, period: float, cycles: int, toggle
     return "\n".join(lines) + "\n"
 
 
-def _run(netlist: str, tmp_path) -> dict:
-    path = tmp_path / "bistable.cir"
-    path.write_text(netlist)
-    run = subprocess.run(["ngspice", "-b", str(path)], capture_output=True, text=True, timeout=120)
-    return {k: float(v) for k, v in re.findall(r"^(q\d+|flip|flop)\s*=\s*(\S+)", run.stdout, re.M)}
-
-
 @pytest.mark.ngspice
-@NGSPICE
 @pytest.mark.parametrize("where", ["lowest", "nominal", "highest"])
-def test_toggles_on_every_falling_edge_across_the_clock_window(design, where, tmp_path):
+def test_toggles_on_every_falling_edge_across_the_clock_window(design, where, ngspice):
     tube, family, b = design
     swing = {"lowest": b.clock_swing_min_volts, "nominal": b.clock_swing_volts,
              "highest": b.clock_swing_max_volts}[where]
     period = 4 * b.recovery_seconds + 4 * b.setup_seconds
-    found = _run(_netlist(tube, b, swing, period, 4, toggle=True), tmp_path)
+    found = ngspice(_netlist(tube, b, swing, period, 4, toggle=True), timeout_s=120)
     q = [found[f"q{k}"] for k in range(5)]
     # Reference: ngspice transient; a bistable steered by its own plates toggles on each edge.
     states = [int(v >= family.high_min_volts) for v in q]
@@ -118,25 +105,23 @@ def test_toggles_on_every_falling_edge_across_the_clock_window(design, where, tm
 
 
 @pytest.mark.ngspice
-@NGSPICE
 @pytest.mark.parametrize("where", ["lowest", "highest"])
-def test_sets_from_worst_case_levels_across_the_clock_window(design, where, tmp_path):
+def test_sets_from_worst_case_levels_across_the_clock_window(design, where, ngspice):
     tube, family, b = design
     swing = b.clock_swing_min_volts if where == "lowest" else b.clock_swing_max_volts
     period = 4 * b.recovery_seconds + 4 * b.setup_seconds
     levels = (family.high_min_volts, family.follower_low_max_volts)  # D just high, ~D just low
-    found = _run(_netlist(tube, b, swing, period, 3, toggle=False, levels=levels), tmp_path)
+    found = ngspice(_netlist(tube, b, swing, period, 3, toggle=False, levels=levels), timeout_s=120)
     # Reference: ngspice transient; D held high sets q at the first edge, and the node steered by the
     # high level never triggers (else later edges would clear it).
     assert [int(found[f"q{k}"] >= family.high_min_volts) for k in range(4)] == [0, 1, 1, 1]
 
 
 @pytest.mark.ngspice
-@NGSPICE
-def test_flip_estimate_against_ngspice(design, tmp_path):
+def test_flip_estimate_against_ngspice(design, ngspice):
     tube, family, b = design
     period = 4 * b.recovery_seconds + 4 * b.setup_seconds
-    found = _run(_netlist(tube, b, b.clock_swing_volts, period, 1, toggle=True), tmp_path)
+    found = ngspice(_netlist(tube, b, b.clock_swing_volts, period, 1, toggle=True), timeout_s=120)
     own = Load(b.upper_ohms, b.lower_ohms, RAILS.bias_volts, tube)
     loads = ((1, own), (1, own))
     c_series = b.commutating_farads * b.grid_node_farads / (b.commutating_farads + b.grid_node_farads)

@@ -3,10 +3,6 @@
 Reference: ngspice (Debian package), run as ``ngspice -b``.
 """
 
-import re
-import shutil
-import subprocess
-
 import pytest
 
 from planner.catalogue import (
@@ -20,11 +16,7 @@ from planner.catalogue import (
 )
 
 CAT = builtin_catalogue()
-pytestmark = [
-    pytest.mark.ngspice,
-    pytest.mark.skipif(shutil.which("ngspice") is None,
-                       reason="ngspice is not installed (apt install ngspice)"),
-]
+pytestmark = pytest.mark.ngspice
 
 SHORT = {"plate": "p", "screen": "s", "grid": "g", "grid3": "g3", "cathode": "k"}
 
@@ -42,25 +34,12 @@ def operating_points(tube, kind):
     return [(150.0, es, 0.0, 0.0), (150.0, es, -1.0, -2.0), (100.0, es, 0.3, 1.0)]
 
 
-def run_ngspice(deck: str, tmp_path) -> dict:
-    path = tmp_path / "deck.cir"
-    path.write_text(deck)
-    done = subprocess.run(["ngspice", "-b", str(path)], capture_output=True, text=True, timeout=60)
-    values = {}
-    for line in done.stdout.splitlines():
-        hit = re.match(r"\s*(\S+)\s*=\s*([-+0-9.eE]+)\s*$", line)
-        if hit:
-            values[hit.group(1)] = float(hit.group(2))
-    assert values, done.stdout + done.stderr
-    return values
-
-
 CASES = [(t.name, kind) for t in (CAT.get(n) for n in CAT.names())
          for kind in sorted({s.kind for s in t.sections})]
 
 
 @pytest.mark.parametrize("name, kind", CASES)
-def test_ngspice_operating_point_matches_python_model(name, kind, tmp_path):
+def test_ngspice_operating_point_matches_python_model(name, kind, ngspice):
     tube = CAT.get(name)
     sub = subcircuit_name(tube, kind)
     lines = ["* tubeplan catalogue check", spice_subcircuit(tube, kind)]
@@ -81,7 +60,7 @@ def test_ngspice_operating_point_matches_python_model(name, kind, tmp_path):
                   ([f"ig{i}=-i(vg{i})"] if kind != "diode" else [])
     lines += [".control", "op"] + [f"let {p}" for p in prints] + \
              ["print " + " ".join(p.split("=")[0] for p in prints), ".endc", ".end"]
-    got = run_ngspice("\n".join(lines) + "\n", tmp_path)
+    got = ngspice("\n".join(lines) + "\n", timeout_s=60)
     for i, (ep, es, eg, eg3) in enumerate(points):
         args = dict(plate_volts=ep, grid_volts=eg, grid3_volts=eg3, screen_volts=es)
         want = plate_current_amps(tube, **args)

@@ -6,20 +6,13 @@ included) for the driving section and for every load's grid; ngspice's
 operating point (``op``) is the reference.
 """
 
-import re
-import shutil
-import subprocess
-
 import pytest
 
 from planner.catalogue import builtin_catalogue, spice_nodes, spice_subcircuit, subcircuit_name
 from planner.electrical import Rails, design_template
 from planner.electrical.circuit import Load, ScreenFeed, SectionState, follower_cathode_volts, load_state, solve_plate
 
-pytestmark = [
-    pytest.mark.ngspice,
-    pytest.mark.skipif(shutil.which("ngspice") is None, reason="ngspice is not installed (apt install ngspice)"),
-]
+pytestmark = pytest.mark.ngspice
 
 CAT = builtin_catalogue()
 
@@ -49,13 +42,6 @@ def _netlist(tube, kind, supply, rl, section: SectionState, loads, bias):
     return "\n".join(lines) + "\n"
 
 
-def _ngspice(netlist: str, tmp_path) -> dict:
-    path = tmp_path / "stage.cir"
-    path.write_text(netlist)
-    out = subprocess.run(["ngspice", "-b", str(path)], capture_output=True, text=True, timeout=60).stdout
-    return {m.group(1): float(m.group(2)) for m in re.finditer(r"^v\((\w+)\)\s*=\s*(\S+)", out, re.M)}
-
-
 def _close(ours: float, theirs: float) -> bool:
     return abs(ours - theirs) <= max(0.01 * abs(theirs), 0.01)
 
@@ -65,7 +51,7 @@ CASES = [("12AT7", "single", "triode"), ("6AU6", "single", "pentode"), ("5915", 
 
 @pytest.mark.parametrize("name,means,kind", CASES)
 @pytest.mark.parametrize("state", ["high", "low"])
-def test_plate_node_and_grids_match_ngspice(name, means, kind, state, tmp_path):
+def test_plate_node_and_grids_match_ngspice(name, means, kind, state, ngspice):
     tube = CAT.get(name)
     rails = Rails(250, -100)
     t = design_template(tube, means, rails, 3)
@@ -78,14 +64,14 @@ def test_plate_node_and_grids_match_ngspice(name, means, kind, state, tmp_path):
     loads = [Load(r.upper_ohms * k1, r.lower_ohms * k2, bias, tube)
              for k1, k2 in ((0.95, 1.05), (1.0, 1.0), (1.05, 0.95))]
     v = solve_plate(supply, rl, ((1, section),), tuple((1, ld) for ld in loads))
-    spice = _ngspice(_netlist(tube, kind, supply, rl, section, loads, bias), tmp_path)
-    assert _close(v, spice["p"]), (v, spice)  # ngspice operating point, same equations
+    spice = ngspice(_netlist(tube, kind, supply, rl, section, loads, bias), timeout_s=60)
+    assert _close(v, spice["v(p)"]), (v, spice.values)  # ngspice operating point, same equations
     for i, ld in enumerate(loads):
-        assert _close(load_state(ld, v).grid_volts, spice[f"t{i}"]), (i, spice)  # ngspice
+        assert _close(load_state(ld, v).grid_volts, spice[f"v(t{i})"]), (i, spice.values)  # ngspice
 
 
 @pytest.mark.parametrize("grid_volts", [60.0, 140.0])
-def test_follower_cathode_matches_ngspice(grid_volts, tmp_path):
+def test_follower_cathode_matches_ngspice(grid_volts, ngspice):
     tube = CAT.get("12AU7")
     supply, bias, rk = 250.0, -100.0, 82e3
     loads = [Load(910e3, 750e3, bias, tube) for _ in range(4)]
@@ -97,6 +83,6 @@ def test_follower_cathode_matches_ngspice(grid_volts, tmp_path):
         lines += [f"R1_{i} k t{i} {ld.upper_ohms!r}", f"R2_{i} t{i} bias {ld.lower_ohms!r}",
                   _instance(f"XL{i}", tube, "triode", {"plate": "bp", "grid": f"t{i}", "cathode": "0"})]
     lines += [".control", "op", "print v(k) v(t0)", ".endc", ".end"]
-    spice = _ngspice("\n".join(lines) + "\n", tmp_path)
-    assert _close(vk, spice["k"]), (vk, spice)  # ngspice operating point, same equations
-    assert _close(load_state(loads[0], vk).grid_volts, spice["t0"])  # ngspice
+    spice = ngspice("\n".join(lines) + "\n", timeout_s=60)
+    assert _close(vk, spice["v(k)"]), (vk, spice.values)  # ngspice operating point, same equations
+    assert _close(load_state(loads[0], vk).grid_volts, spice["v(t0)"])  # ngspice

@@ -24,7 +24,7 @@ from planner.mapping.registers import register_view
 from planner.report import plan_document, spice_deck
 from planner.spec import Design, InputSpec, OutputSpec, load_design, load_stock, parse_expression
 from planner.stages import STRATEGIES, Branch, FanoutError, Network, Stage, prove, repair_fanout, synthesise
-from test_report_spice import check_truth_table, needs_ngspice
+from test_report_spice import check_truth_table
 from test_stages_fuzz import designs
 
 # Invented: a builder's box of dual triodes, a few pentodes and a bag of silicon diodes.
@@ -401,7 +401,7 @@ outputs:
 """ + "".join(f"  y{k}: ~(g | {'~' if k % 2 else ''}c{k // 2})\n" for k in range(6)) + "  y6: g\n"
 
 
-@needs_ngspice
+@pytest.mark.ngspice
 @pytest.mark.parametrize("case,kind", [("parity", None), ("decoder", "buffers"), ("nor6", "followers")])
 def test_repaired_plans_reproduce_their_truth_tables_in_ngspice(tmp_path, case, kind):
     """ngspice (Debian package) DC operating points over every input vector, against sympy's evaluation of

@@ -144,5 +144,5 @@ def test_exit_statuses(tmp_path, write, run_cli, monkeypatch):
     monkeypatch.setattr(planner.pipeline._files, "plan_design", broken)
     status, _, err = run_cli("plan", design, "--stock", stock, "--out", tmp_path / "x", "--quiet")
     assert status == 1 and err.count("\n") == 1 and "--debug" in err and "Traceback" not in err
-    with pytest.raises(ZeroDivisionError):
+    with pytest.raises(ZeroDivisionError, match="^simulated fault$"):
         run_cli("--debug", "plan", design, "--stock", stock, "--out", tmp_path / "x", "--quiet")

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
+import re
 import subprocess
 import sys
 import textwrap
@@ -231,23 +232,26 @@ def test_scarce_type_avoided_and_reserve_untouched(tmp_path):
 def test_shortage_gives_the_smallest_purchase(tmp_path):
     design = _design(tmp_path, "y: ~(a | b)\nz: ~(c | d)\nw: ~(a | c)\nv: ~(b | d)\n", inputs="[a, b, c, d]")
     stock = _stock(tmp_path, "6AU6: {count: 1}\n5915: {count: 0}\n", h1=6.0)
-    with pytest.raises(Shortage) as short:
+    with pytest.raises(Shortage, match=r"^needs 6 more dual-control sections: 6 x 5915; "
+                                        r"and 1 more pentode section: 1 x 6AU6$") as short:
         plan_design(design, stock)
     purchase = short.value.purchase
     assert purchase and not short.value.overloads
     assert "more triode section" in short.value.message or "more pentode section" in short.value.message
     plan = plan_design(design, _with_counts(stock, purchase))
     _check_invariants(plan, _with_counts(stock, purchase), design)
+    one_short = {"5915": "needs 1 more dual-control section: 1 x 5915 or 2 x 6AU6",
+                 "6AU6": "needs 1 more pentode section: 1 x 6AU6 or 2 x 5915"}
     for tube in purchase:
         less = dict(purchase, **{tube: purchase[tube] - 1})
-        with pytest.raises(Shortage):
+        with pytest.raises(Shortage, match=f"^{re.escape(one_short[tube])}$"):
             plan_design(design, _with_counts(stock, less))
 
 
 def test_overloaded_winding_is_reported(tmp_path):
     design = _design(tmp_path, "y: ~(a | b)\nz: ~(b | c)\n")
     stock = _stock(tmp_path, "6AU6: {count: 4}\n", h1=0.3)
-    with pytest.raises(Shortage) as short:
+    with pytest.raises(Shortage, match=r"^winding H1 over by 0\.90 A$") as short:
         plan_design(design, stock)
     # Two NOR-2 stages take four single-section 6AU6 envelopes, each heater 0.3 A at 6.3 V by the
     # catalogue (no 12.6 V connection), so the 0.3 A winding is 0.9 A short; nothing to buy.
@@ -304,7 +308,7 @@ def test_vacuum_diodes_come_from_diode_envelopes(tmp_path):
     design = _design(tmp_path, "y: ~(a & b & c)\nz: ~(a & b)\n")
     stock = _stock(tmp_path, "6AU6: {count: 2}\n6AL5: {count: 2}\n", diodes="vacuum-only", h1=6.0)
     # Five AND inputs need five diode sections; two 6AL5 have four (two diodes each, by the catalogue).
-    with pytest.raises(Shortage) as short:
+    with pytest.raises(Shortage, match=r"^needs 1 more diode section: 1 x 6AL5$") as short:
         plan_design(design, stock)
     assert short.value.purchase == {"6AL5": 1}
     assert short.value.message == "needs 1 more diode section: 1 x 6AL5"
@@ -322,7 +326,7 @@ def test_fanout_beyond_every_template_is_repaired(tmp_path):
     outputs = "".join(f"y{k}: ~(a | b)\n" for k in range(40))
     design = _design(tmp_path, outputs, inputs="[a, b]")
     stock = _stock(tmp_path, "6AU6: {count: 4}\n")
-    with pytest.raises(Shortage) as short:
+    with pytest.raises(Shortage, match=r"^needs 3 more pentode sections: 3 x 6AU6$") as short:
         plan_design(design, stock)
     assert short.value.purchase and not short.value.unbuildable
     stock = _with_counts(stock, short.value.purchase)

@@ -24,6 +24,9 @@ import pytest
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO_FILES = {"planner/inventory_demo/design.yaml", "planner/inventory_demo/stock.yaml"}
+# The report's jinja2 templates (package data of planner.report): report.html is made from them.
+TEMPLATE_FILES = {f"planner/report/templates/{path.name}"
+                  for path in (ROOT / "planner" / "report" / "templates").iterdir()}
 SKIP = shutil.ignore_patterns(".git", ".venv", "build", "dist", "*.egg-info", "__pycache__", ".pytest_cache",
                               ".hypothesis", "plan_out", "test-artifacts")
 
@@ -72,13 +75,13 @@ def builds(tmp_path_factory):
     return wheel, _build_wheel(unpacked, work / "from_sdist"), sdist
 
 
-def test_wheel_and_sdist_carry_the_demo(builds):
+def test_wheel_and_sdist_carry_the_demo_and_the_report_templates(builds):
     wheel, from_sdist, sdist = builds
-    assert DEMO_FILES <= _wheel_files(wheel)
+    assert DEMO_FILES | TEMPLATE_FILES <= _wheel_files(wheel)
     assert _wheel_files(from_sdist) == _wheel_files(wheel)  # the sdist loses nothing on the way
     with tarfile.open(sdist) as archive:
         members = {name.split("/", 1)[1] for name in archive.getnames() if "/" in name}
-    assert DEMO_FILES <= members and "planner/__main__.py" in members
+    assert DEMO_FILES | TEMPLATE_FILES <= members and "planner/__main__.py" in members
 
 
 def test_an_installed_wheel_plans_the_demo(builds, tmp_path):

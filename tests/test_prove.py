@@ -14,7 +14,6 @@ import itertools
 import json
 import re
 import shutil
-import subprocess
 from pathlib import Path
 
 import pytest
@@ -29,9 +28,7 @@ from planner.pipeline import plan_files
 from planner.prove import deck_params, input_vectors, plan_corners
 from planner.report import PROVE_FILE
 
-pytestmark = [pytest.mark.ngspice,
-              pytest.mark.skipif(shutil.which("ngspice") is None,
-                                 reason="ngspice is not installed (Debian package ngspice)")]
+pytestmark = pytest.mark.ngspice
 
 # Invented data: a two-input design (a NAND and an exclusive OR) on a box of 12AU7s.
 SMALL_DESIGN = """\
@@ -293,14 +290,12 @@ def test_the_deck_as_written_is_the_nominal_corner(plans):
     assert "* corner parameters" in deck and "rdir" in deck.split(".param supply_bplus")[0]
 
 
-def test_wear_scales_a_sections_current_in_ngspice(tmp_path):
+def test_wear_scales_a_sections_current_in_ngspice(ngspice):
     tube = builtin_catalogue().get("12AU7")
     lines = ["* wear", "V1 p 0 150", "V2 g 0 -2", "Vm p pp 0", "X1 pp g 0 TP_12AU7_TRIODE wear=0.7",
              spice_subcircuit(tube, "triode"), ".op", ".end"]
-    deck = tmp_path / "wear.cir"
-    deck.write_text("\n".join(lines) + "\n")
-    done = subprocess.run(["ngspice", "-b", str(deck)], capture_output=True, text=True, timeout=60, check=True)
-    amps = abs(float(re.search(r"vm#branch\s+(\S+)", done.stdout).group(1)))
+    run = ngspice("\n".join(lines) + "\n", timeout_s=60)
+    amps = abs(float(re.search(r"vm#branch\s+(\S+)", run.stdout).group(1)))
     # Reference: ngspice operating point; the planner's model of a worn tube is 0.7 x its current.
     assert amps == pytest.approx(0.7 * plate_current_amps(tube, plate_volts=150, grid_volts=-2), rel=0.01)
 

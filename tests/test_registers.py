@@ -7,8 +7,6 @@ and ngspice for the transient runs of the planned SPICE decks.
 """
 
 import re
-import shutil
-import subprocess
 
 import pytest
 
@@ -266,10 +264,7 @@ def test_registers_need_a_dual_triode_and_solid_state_diodes(files, write):
         plan_design(design, load_stock(vacuum))
 
 
-NGSPICE = pytest.mark.skipif(shutil.which("ngspice") is None, reason="ngspice is not installed (apt install ngspice)")
-
-
-def _transient(plan, inputs: dict, edges: int, tmp_path) -> list[dict]:
+def _transient(ngspice, plan, inputs: dict, edges: int) -> list[dict]:
     """Run the plan's deck with its clock pulsing; every register's q (volts) just before each falling edge."""
     period = 2 * max(plan.timing.min_period_seconds, 1e-3)
     deck = spice_deck(plan, builtin_catalogue())
@@ -287,12 +282,10 @@ def _transient(plan, inputs: dict, edges: int, tmp_path) -> list[dict]:
             control.append(f"meas tran {r.name}_{k} FIND v({nodes[r.output]}) AT={(k + 0.45) * period!r}")
     control.append(".endc")
     text = text.replace("\n.op\n", "\n" + "\n".join(control) + "\n")
-    path = tmp_path / "tran.cir"
-    path.write_text(text)
-    run = subprocess.run(["ngspice", "-b", str(path)], capture_output=True, text=True, timeout=300)
-    found = {k: float(v) for k, v in re.findall(r"^(\w+_\d+)\s*=\s*(\S+)", run.stdout, re.M)}
-    assert len(found) == (edges + 1) * len(plan.registers), run.stdout[-2000:]
-    return [{r.name: found[f"{r.name}_{k}"] for r in plan.registers} for k in range(edges + 1)]
+    run = ngspice(text, timeout_s=300)
+    wanted = [f"{r.name}_{k}" for k in range(edges + 1) for r in plan.registers]
+    assert all(name in run.values for name in wanted), run.stdout[-2000:]
+    return [{r.name: run[f"{r.name}_{k}"] for r in plan.registers} for k in range(edges + 1)]
 
 
 def _bits(plan, volts: dict) -> dict:
@@ -304,19 +297,17 @@ def _bits(plan, volts: dict) -> dict:
 
 
 @pytest.mark.ngspice
-@NGSPICE
-def test_planned_counter_counts_in_ngspice(counter, tmp_path):
+def test_planned_counter_counts_in_ngspice(counter, ngspice):
     _, _, plan = counter
-    states = [_bits(plan, v) for v in _transient(plan, {"en": 1}, 5, tmp_path)]
+    states = [_bits(plan, v) for v in _transient(ngspice, plan, {"en": 1}, 5)]
     # Reference: ngspice transient of the plan's own deck; a counter adds one per falling clock edge.
     assert [s["q0"] + 2 * s["q1"] for s in states] == [0, 1, 2, 3, 0, 1]
 
 
 @pytest.mark.ngspice
-@NGSPICE
-def test_planned_shift_register_shifts_in_ngspice(shift, tmp_path):
+def test_planned_shift_register_shifts_in_ngspice(shift, ngspice):
     _, _, plan = shift
-    states = [_bits(plan, v) for v in _transient(plan, {"d": 1}, 3, tmp_path)]
+    states = [_bits(plan, v) for v in _transient(ngspice, plan, {"d": 1}, 3)]
     # Reference: ngspice transient; the reset state 001 (s0 s1 s2) takes a 1 into s0 on each edge.
     assert [(s["s0"], s["s1"], s["s2"]) for s in states] == [(0, 0, 1), (1, 0, 0), (1, 1, 0), (1, 1, 1)]
 

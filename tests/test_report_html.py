@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import dataclasses
+import json
 import shutil
 import subprocess
 import tempfile
@@ -10,8 +12,10 @@ from pathlib import Path
 
 import pytest
 
+import planner
 from planner.catalogue import builtin_catalogue
-from planner.report import CAUTIONS
+from planner.pipeline import plan_files
+from planner.report import CAUTIONS, ProofSection, replace_section, simulation_html
 from planner.report.content import report_content
 from planner.report.html_report import report_html
 from planner.report.markdown_report import report_markdown
@@ -135,3 +139,110 @@ def test_speedup_capacitors_are_named_in_the_drawing():
     cap = Part("C1", "capacitor", "22p", (("1", "a"), ("2", "S1.g1")), "speed-up", "S1", farads=22e-12)
     text = check_report_html(report_html(_content(dataclasses.replace(plan, parts=plan.parts + (cap,)))))
     assert "R2 220k + C1 22p across" in text
+
+
+# Text a user may write where the report shows it: markup, a script and the characters HTML escapes.
+HOSTILE = "<script>alert(1)</script> &\"'"
+
+
+class _Elements(HTMLParser):
+    """The text of every element with tag ``tag``, as the standard library's html.parser decodes it."""
+
+    def __init__(self, tag: str):
+        super().__init__(convert_charrefs=True)
+        self.tag, self.depth, self.found = tag, 0, []
+
+    def handle_starttag(self, tag, attrs):
+        if tag == self.tag:
+            self.depth += 1
+            self.found.append("")
+
+    def handle_endtag(self, tag):
+        if tag == self.tag:
+            self.depth -= 1
+
+    def handle_data(self, data):
+        if self.depth:
+            self.found[-1] += data
+
+
+def element_texts(page: str, tag: str) -> list[str]:
+    parser = _Elements(tag)
+    parser.feed(page)
+    parser.close()
+    return parser.found
+
+
+def test_an_output_name_with_markup_is_escaped():
+    """html.parser (Python's standard library) reads the name back as text, and finds no script element.
+
+    The design parser accepts only identifiers as output names; a plan built some other way is held to the
+    same page. The stage drawings stay those of the plain plan: schemdraw reads '&' in a label as markup.
+    """
+    content = _content()
+    plan, names = content.plan, {"y": HOSTILE}
+    plan = dataclasses.replace(plan, outputs=tuple((names.get(n, n), net) for n, net in plan.outputs),
+                               forms=tuple((names.get(n, n), form) for n, form in plan.forms))
+    page = report_html(dataclasses.replace(content, plan=plan))
+    check_report_html(page)  # among its checks: no script element
+    assert "<script>" not in page
+    cells = element_texts(page, "td")
+    assert cells[cells.index(HOSTILE):cells.index(HOSTILE) + 3] == [HOSTILE, "n1", "~(a | b)"]
+
+
+# Invented data: a NAND on a box of 12AU7s; the design name, the winding's name and the file names hold markup.
+HOSTILE_DESIGN = f"""\
+design: {json.dumps(HOSTILE)}
+inputs: [a, b]
+outputs:
+  n: ~(a & b)
+"""
+HOSTILE_WINDING = "H1 <i>&\"'"
+HOSTILE_STOCK = f"""\
+supplies:
+  plate: {{volts: 225, max_ma: 200}}
+  bias: {{volts: -95, max_ma: 50}}
+  heater:
+    - {{id: {json.dumps(HOSTILE_WINDING)}, volts: 6.3, max_amps: 5}}
+tubes:
+  12AU7: {{count: 6}}
+diodes: solid-state
+"""
+
+
+def test_what_the_user_wrote_is_escaped_in_a_planned_report(tmp_path):
+    """Design name, heater winding (table and chart) and file names come back as text through html.parser."""
+    design, stock = tmp_path / "design <b>&\"'.yaml", tmp_path / "stock <b>&\"'.yaml"
+    design.write_text(HOSTILE_DESIGN)
+    stock.write_text(HOSTILE_STOCK)
+    assert plan_files(design, stock, tmp_path / "out", quiet=True).planned
+    page = (tmp_path / "out" / "report.html").read_text()
+    text = check_report_html(page)  # among its checks: no script element and every caution
+    assert "<script>" not in page and "<i>" not in page and "<b>&" not in page
+    assert element_texts(page, "title") == [f"Tube logic plan: {HOSTILE}"]
+    assert element_texts(page, "h1") == [f"Tube logic plan: {HOSTILE}"]
+    assert element_texts(page, "footer")[0].startswith(f"tubeplan {planner.__version__}: plan for {HOSTILE}. ")
+    assert element_texts(page, "code") == [str(design), str(stock)]
+    assert HOSTILE_WINDING in element_texts(page, "td")
+    assert f"heater {HOSTILE_WINDING} (6.3 V)" in element_texts(page, "text")  # the chart's SVG label
+    assert text.count(HOSTILE) == 3
+
+
+def test_the_simulation_section_escapes_names_and_keeps_the_plot():
+    """A proof's section (what tubeplan prove puts in report.html), read back through html.parser.
+
+    The names come as text and are escaped; the plot, matplotlib's SVG, goes in as it is.
+    """
+    plot = '<svg class="plot" xmlns="http://www.w3.org/2000/svg"><text>a &lt; b</text></svg>'
+    proof = ProofSection(f"{HOSTILE}: every one of the 4 input vectors at 1 corners in ngspice", False,
+                         (f"{HOSTILE} at corner nominal: margin -1 V",), plot,
+                         ("output", "corner", "right"), ((HOSTILE, "nominal", "4/4"),), (2,), (f"{HOSTILE}: x=1",))
+    section = simulation_html(proof)
+    assert plot in section
+    page = replace_section(report_html(_content()), section, html=True)
+    text = check_report_html(page)  # among its checks: no script element and every caution
+    assert "Not simulated yet" not in text
+    assert element_texts(section, "p")[0] == (f"{HOSTILE}: every one of the 4 input vectors at 1 corners in "
+                                              f"ngspice. Not proven: {HOSTILE} at corner nominal: margin -1 V")
+    assert element_texts(section, "td") == [HOSTILE, "nominal", "4/4"]
+    assert element_texts(section, "li") == [f"{HOSTILE}: x=1"]

@@ -22,7 +22,6 @@ from planner.report.designators import natural_key
 from planner.spec import load_design, load_stock
 from test_report_bom import check_bom_against_plan, check_wiring_against_plan
 from test_report_html import ARTIFACTS, check_report_html, needs_chromium, render_in_chromium
-from test_report_spice import needs_ngspice
 
 DEMO = Path(__file__).resolve().parent.parent / "inventory_demo"
 
@@ -144,8 +143,9 @@ def planned(tmp_path_factory):
             else:
                 folder = tmp_path_factory.mktemp(case)
                 design_path, stock_path = folder / "design.yaml", folder / "stock.yaml"
-                design_path.write_text(textwrap.dedent(INVENTED[case][0]))
-                stock_path.write_text(textwrap.dedent(INVENTED[case][1]))
+                design_text, stock_text = INVENTED[case]
+                design_path.write_text(textwrap.dedent(design_text))
+                stock_path.write_text(textwrap.dedent(stock_text))
             design, stock = load_design(design_path), load_stock(stock_path)
             try:
                 plan = plan_design(design, stock)
@@ -183,7 +183,7 @@ def stage_values(plan, vector):
     return values
 
 
-@needs_ngspice
+@pytest.mark.ngspice
 @pytest.mark.parametrize("case", CASES)
 def test_truth_table_reproduced_in_ngspice(planned, case):
     """ngspice (Debian package) DC operating point per input vector against planner.logic's truth table.
@@ -238,7 +238,7 @@ def test_truth_table_reproduced_in_ngspice(planned, case):
 
 def test_the_cases_cover_every_branch_kind(planned):
     """Between them the end-to-end cases use single, dual-control and diode-AND branches."""
-    means = {b.means for case in CASES[1:] for s in planned(case)[2].stages for b in s.branches}
+    means = {b.means for case in sorted(INVENTED) for s in planned(case)[2].stages for b in s.branches}
     assert {"single", "dual", "diode"} <= means
 
 

@@ -4,18 +4,13 @@ from __future__ import annotations
 
 import dataclasses
 import re
-import subprocess
 from itertools import product
 
 import pytest
 
 from planner.catalogue import builtin_catalogue
-from planner.report import ngspice_path, run_deck, sanitise, spice_deck
+from planner.report import NgspiceFailed, NgspiceMissing, run_deck, sanitise, spice_deck
 from test_report_fixtures import FIXTURE_LOGIC, fixture_diode_plan, fixture_plan
-
-needs_ngspice = pytest.mark.skipif(ngspice_path() is None,
-                                   reason="ngspice is not installed (Debian package ngspice)")
-
 
 def _nodes_of(text):
     """Node names of every element line (R, C, D, V, X) of a deck."""
@@ -98,7 +93,7 @@ def check_truth_table(plan, deck, logic, vectors=None):
     return seen
 
 
-@needs_ngspice
+@pytest.mark.ngspice
 def test_fixture_truth_table_in_ngspice():
     """ngspice (Debian package) runs the deck; outputs match NOR, NAND and the follower."""
     plan = fixture_plan()
@@ -107,18 +102,15 @@ def test_fixture_truth_table_in_ngspice():
     assert set(levels) == {"w", "y", "z"}
 
 
-@needs_ngspice
-def test_the_deck_as_written_runs(tmp_path):
-    """``ngspice -b plan.cir`` runs the file as written (its .op) without errors."""
-    path = tmp_path / "plan.cir"
-    path.write_text(spice_deck(fixture_plan(), builtin_catalogue()).with_inputs({"a": 1, "b": 0}))
-    done = subprocess.run([ngspice_path(), "-b", str(path)], capture_output=True, text=True, timeout=60)
-    assert done.returncode == 0, done.stdout + done.stderr
-    assert re.search(r"out_z\s+[0-9.e+-]+", done.stdout)
-    assert "error" not in done.stderr.lower()
+@pytest.mark.ngspice
+def test_the_deck_as_written_runs(ngspice):
+    """``ngspice -b plan.cir`` runs the file as written (its .op) without errors (the runner raises
+    NgspiceFailed on a failure status or an error line)."""
+    run = ngspice(spice_deck(fixture_plan(), builtin_catalogue()).with_inputs({"a": 1, "b": 0}), timeout_s=60)
+    assert re.search(r"out_z\s+[0-9.e+-]+", run.stdout)
 
 
-@needs_ngspice
+@pytest.mark.ngspice
 def test_a_wrong_plan_is_caught():
     """The check can fail: swapping the NAND's inputs to (a, b) breaks z for a=1, b=1 and a=1, b=0."""
     plan = fixture_plan()
@@ -129,10 +121,36 @@ def test_a_wrong_plan_is_caught():
         check_truth_table(plan, deck, lambda out, v: FIXTURE_LOGIC[out](v["a"], v["b"]))
 
 
-@needs_ngspice
+@pytest.mark.ngspice
 def test_diode_and_fixture_in_ngspice():
     """A three-input diode AND on one pentode is a NAND-3 in ngspice; the deck models the silicon diodes."""
     plan = fixture_diode_plan()
     deck = spice_deck(plan, builtin_catalogue())
     assert "D1 s1_x a d_silicon" in deck.text and deck.text.count(".model d_silicon D(") == 1
     check_truth_table(plan, deck, lambda out, v: 1 - (v["a"] & v["b"] & v["c"]))
+
+
+@pytest.mark.ngspice
+def test_the_runner_reads_printed_values_and_written_files(ngspice):
+    """The one runner (report.run_ngspice, through the fixture): 10 V over 1 k and 3 k in series puts
+    7.5 V at their junction (Ohm's law, common practice); files the deck writes come back by name."""
+    run = ngspice("* divider\nV1 a 0 10\nR1 a b 1k\nR2 b 0 3k\n.control\nop\nprint v(b)\nwrdata b.txt v(b)\n"
+                  ".endc\n.end\n", files=("b.txt", "absent.txt"))
+    assert run["v(b)"] == pytest.approx(7.5, rel=1e-6)  # ngspice
+    assert list(run.files) == ["b.txt"]
+    assert [float(x) for x in run.files["b.txt"].split()] == pytest.approx([10.0, 7.5], rel=1e-6)
+
+
+@pytest.mark.ngspice
+def test_the_runner_raises_on_a_deck_ngspice_cannot_load(ngspice):
+    # ngspice's own first error line (its wording, so not anchored).
+    with pytest.raises(NgspiceFailed, match=r"unknown subckt: x1 a 0 nosuch"):
+        ngspice("* no such subcircuit\nV1 a 0 10\nX1 a 0 NOSUCH\n.op\n.end\n")
+
+
+def test_run_deck_without_ngspice_says_how_to_install(tmp_path):
+    missing = str(tmp_path / "no-ngspice")
+    message = (f"tubeplan prove needs the ngspice simulator: {missing!r} is not an executable; "
+               "install it (Debian and Ubuntu: apt-get install ngspice) or put it on PATH")
+    with pytest.raises(NgspiceMissing, match=f"^{re.escape(message)}$"):
+        run_deck(spice_deck(fixture_plan(), builtin_catalogue()), [{"a": 0, "b": 0}], executable=missing)

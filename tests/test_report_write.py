@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import re
 
 import pytest
 
@@ -39,7 +40,8 @@ def test_creates_missing_parents(tmp_path):
 def test_refuses_a_regular_file(tmp_path):
     target = tmp_path / "notes.txt"
     target.write_text("mine")
-    with pytest.raises(InputError) as caught:
+    message = f"{target}:0: the output path is an existing file, not a plan directory; choose another --out"
+    with pytest.raises(InputError, match=f"^{re.escape(message)}$") as caught:
         write_plan(fixture_plan(), target)
     assert caught.value.path == str(target) and caught.value.line == 0
     assert "file" in caught.value.message
@@ -50,7 +52,9 @@ def test_refuses_a_directory_without_the_marker(tmp_path):
     target = tmp_path / "photos"
     target.mkdir()
     (target / "holiday.jpg").write_bytes(b"\xff\xd8")
-    with pytest.raises(InputError) as caught:
+    message = (f"{target}:0: the output directory holds files but no {MARKER} marker, so it is not an earlier plan "
+               "and will not be replaced; choose another --out")
+    with pytest.raises(InputError, match=f"^{re.escape(message)}$") as caught:
         write_plan(fixture_plan(), target)
     assert MARKER in caught.value.message and caught.value.line == 0
     assert _snapshot(target) == {"holiday.jpg": b"\xff\xd8"} and _leftovers(tmp_path) == []
@@ -61,7 +65,8 @@ def test_refuses_a_symbolic_link(tmp_path):
     write_plan(fixture_plan(), real)
     link = tmp_path / "link"
     link.symlink_to(real)
-    with pytest.raises(InputError):
+    message = f"{link}:0: the output path is a symbolic link; give a plain directory path"
+    with pytest.raises(InputError, match=f"^{re.escape(message)}$"):
         write_plan(fixture_plan(), link)
 
 
@@ -106,7 +111,9 @@ def test_a_file_of_the_users_with_a_plan_files_name_is_refused(tmp_path):
     marker = out / MARKER
     marker.write_text(marker.read_text().replace("report.md\n", ""))
     (out / "report.md").write_text("my own report")
-    with pytest.raises(InputError) as caught:
+    message = (f"{out / 'report.md'}:0: this file was not written by tubeplan, and the new plan writes a file of "
+               "that name; move or rename it, or choose another --out")
+    with pytest.raises(InputError, match=f"^{re.escape(message)}$") as caught:
         write_plan(fixture_plan(), out)
     assert caught.value.path == str(out / "report.md") and "not written by tubeplan" in caught.value.message
     assert (out / "report.md").read_text() == "my own report" and _leftovers(tmp_path) == []
@@ -118,7 +125,7 @@ def test_an_older_marker_without_a_list_means_the_plan_files(tmp_path):
     (out / MARKER).write_text("This directory was written by tubeplan plan and is replaced whole by the next run.\n")
     (out / "notes.txt").write_text("mine")
     write_plan(fixture_plan(), out)
-    assert (out / "notes.txt").read_text() == "mine" and FILES[0] in (out / MARKER).read_text()
+    assert (out / "notes.txt").read_text() == "mine" and "bom.csv" in (out / MARKER).read_text()
 
 
 def test_an_input_file_among_the_replaced_files_is_refused(tmp_path):
@@ -126,7 +133,9 @@ def test_an_input_file_among_the_replaced_files_is_refused(tmp_path):
     out = tmp_path / "plan"
     write_plan(fixture_plan(), out)
     design = out / "plan.json"  # the user's design saved under a name the plan writes
-    with pytest.raises(InputError) as caught:
+    message = (f"{design}:0: this input file would be replaced by the plan's own plan.json; move it out of the "
+               "plan directory or choose another --out")
+    with pytest.raises(InputError, match=f"^{re.escape(message)}$") as caught:
         write_plan(fixture_plan(), out, design_path=design)
     assert caught.value.path == str(design) and "would be replaced" in caught.value.message
     kept = out / "design.yaml"
@@ -173,7 +182,7 @@ def test_a_failure_mid_write_leaves_the_old_plan_intact(tmp_path, monkeypatch, p
         raise problem
 
     monkeypatch.setattr(write_module, "report_html", broken)  # written after plan.cir and plan.json
-    with pytest.raises(type(problem)):
+    with pytest.raises(type(problem), match=f"^{re.escape(str(problem))}$"):
         write_plan(fixture_plan(), out)
     assert _snapshot(out) == before
     assert _leftovers(tmp_path) == []
@@ -181,7 +190,7 @@ def test_a_failure_mid_write_leaves_the_old_plan_intact(tmp_path, monkeypatch, p
 
 def test_a_failure_on_a_first_run_leaves_nothing(tmp_path, monkeypatch):
     monkeypatch.setattr(write_module, "report_markdown", lambda content: 1 / 0)
-    with pytest.raises(ZeroDivisionError):
+    with pytest.raises(ZeroDivisionError, match="^division by zero$"):
         write_plan(fixture_plan(), tmp_path / "plan")
     assert list(tmp_path.iterdir()) == []
 
@@ -202,7 +211,7 @@ def test_a_failed_swap_restores_the_old_plan(tmp_path, monkeypatch):
         return real_rename(src, dst)
 
     monkeypatch.setattr(write_module.os, "rename", flaky)
-    with pytest.raises(OSError):
+    with pytest.raises(OSError, match=r"^\[Errno 5\] I/O error$"):
         write_plan(fixture_plan(), out)
     monkeypatch.setattr(write_module.os, "rename", real_rename)
     assert _snapshot(out) == before and _leftovers(tmp_path) == []

@@ -12,13 +12,15 @@ import difflib
 from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 
+from planner.errors import BadInput
+
 SECTION_KINDS = ("triode", "pentode", "dual-control", "diode")
 MEANS = ("single", "dual")
 BASES = {"7-pin miniature": 7, "9-pin noval": 9, "octal": 8}
 EQUATIONS = ("koren-triode", "koren-pentode", "child-langmuir", "diode")
 
 
-class CatalogueDataError(ValueError):
+class CatalogueDataError(BadInput, ValueError):
     """Bad tube data: ``field`` is a dotted path inside the type ("heater.volts")."""
 
     def __init__(self, field: str, message: str):

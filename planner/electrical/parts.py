@@ -10,6 +10,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 from planner.catalogue import FrozenMap
+from planner.errors import PlanningFailure
 from planner.units import milliamps
 
 from .rules import DesignRules, Rails
@@ -25,7 +26,7 @@ class Shortfall:
     message: str
 
 
-class NoTemplate(Exception):
+class NoTemplate(PlanningFailure):
     """No stage template passes; ``shortfall`` says which limit fails and by how much."""
 
     def __init__(self, reason: str, shortfall: Shortfall | None = None):

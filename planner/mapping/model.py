@@ -56,6 +56,8 @@ from dataclasses import dataclass
 
 import pulp
 
+from planner.errors import PlanningFailure
+
 from .solver import Outcome, solve
 
 KINDS = ("dual", "single", "follower")
@@ -240,7 +242,7 @@ class Counts:
     hosted: tuple[tuple[tuple[frozenset, tuple[tuple[str, int], ...], int], ...], ...] = ()
 
 
-class Infeasible(Exception):
+class Infeasible(PlanningFailure):
     """The model has no solution within the stock and supplies."""
 
 

@@ -107,8 +107,7 @@ class NetlistBuilder:
 
     def pin(self, socket: str, pin: int, net: str) -> None:
         held = self.pins.setdefault(socket, {})
-        if held.get(pin, net) != net:
-            raise ValueError(f"internal error: {socket} pin {pin} on both {held[pin]} and {net}")
+        assert held.get(pin, net) == net, f"internal error: {socket} pin {pin} on both {held[pin]} and {net}"
         held[pin] = net
 
     # -- bounds -----------------------------------------------------------------

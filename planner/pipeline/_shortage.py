@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import time
 
+from planner.errors import StockShort
 from planner.mapping import Counts, Infeasible, Problem, diagnose
 from planner.units import milliamps
 
 
-class Shortage(Exception):
+class Shortage(StockShort):
     """The stock or the supplies cannot carry the design.
 
     ``message``: what is short, in words; ``purchase``: tube type -> envelopes

@@ -4,8 +4,8 @@ Public API
 ----------
 - ``read_plan_directory(path) -> PlanDirectory`` (InputError for a bad directory)
 - ``prove_plan(plan, executable, *, say=None, limit=VECTOR_LIMIT, seed=1) -> Proof``
-- ``find_ngspice(executable=None) -> str`` (NgspiceMissing), ``NgspiceFailed``; ``say(message)``: a progress
-  line on stderr
+- ``find_ngspice(executable=None) -> str`` (NgspiceMissing), ``NgspiceFailed``: ``planner.report``'s, here too
+  for the command line; ``say(message)``: a progress line on stderr
 - ``prove_directory(path, *, executable=None, limit=, seed=, say=None) -> (Proof, paths)``: all of it,
   writing prove.json and the reports' simulation section; ``format_proof(proof)``, ``proof_document(proof)``
 - ``Corner``, ``plan_corners(params)``, ``deck_params(deck)``, ``input_vectors(count, limit, seed)``
@@ -13,10 +13,11 @@ Public API
 See docs/outputs.md ("tubeplan prove").
 """
 
+from planner.report import NgspiceFailed, NgspiceMissing, find_ngspice
+
 from .corners import Corner, deck_params, plan_corners
 from .directory import PlanDirectory, evaluate, read_plan_directory
-from .ngspice import NgspiceFailed, NgspiceMissing, find_ngspice, say
-from .output import format_proof, problems, proof_document, prove_directory, write_proof
+from .output import format_proof, problems, proof_document, prove_directory, say, write_proof
 from .run import VECTOR_LIMIT, OutputCorner, Proof, input_vectors, prove_plan
 
 __all__ = ["VECTOR_LIMIT", "Corner", "NgspiceFailed", "NgspiceMissing", "OutputCorner", "PlanDirectory", "Proof",

@@ -7,17 +7,23 @@ from __future__ import annotations
 
 import json
 import os
+import sys
 import tempfile
-from html import escape
 from pathlib import Path
 
 from tabulate import tabulate
 
-from planner.report import PROVE_FILE, claim_files, replace_section, simulation_html, simulation_markdown
+from planner.report import (PROVE_FILE, ProofSection, claim_files, find_ngspice, replace_section, simulation_html,
+                            simulation_markdown)
 
 from .run import VECTOR_LIMIT, OutputCorner, Proof
 
 PROOF_SCHEMA = 1
+
+
+def say(message: str) -> None:
+    """A progress line on standard error."""
+    print(f"tubeplan prove: {message}", file=sys.stderr, flush=True)
 
 
 def _volts(v: float | None) -> str:
@@ -158,23 +164,13 @@ def section_markdown(proof: Proof) -> str:
                       *_text_plot(proof), "", "Corners:", "", *[f"- {n}" for n in _corner_notes(proof)]])
 
 
-def section_html(proof: Proof) -> str:
-    """The HTML body of the reports' simulation section: verdict, plot, table, corners."""
+def html_section(proof: Proof) -> ProofSection:
+    """What report.html's simulation section shows: verdict, plot, table, corners (the report's template
+    escapes the text)."""
     from .plot import levels_svg
 
-    verdict = ("<b>Proven</b>: every vector right and every margin positive at every corner." if proof.holds
-               else "<b>Not proven</b>: " + escape("; ".join(problems(proof))))
-    head = "".join(f"<th>{escape(h)}</th>" for h in HEADERS)
-    body = "".join("<tr>" + "".join(f'<td{" class=num" if 2 <= k <= 5 else ""}>{escape(c)}</td>'
-                                    for k, c in enumerate(row)) + "</tr>" for row in _rows(proof))
-    return "\n".join([f"<p>{escape(scope_line(proof))}. {verdict}</p>",
-                      ('<p class="note">Per output, the lowest simulated high and the highest simulated low at each '
-                       "corner, against the family's thresholds; the bar from a threshold to a level is its "
-                       "margin.</p>"),
-                      f'<div class="drawing">{levels_svg(proof)}</div>',
-                      f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>",
-                      "<details><summary>Corners</summary><ul>"
-                      + "".join(f"<li>{escape(n)}</li>" for n in _corner_notes(proof)) + "</ul></details>"])
+    return ProofSection(scope_line(proof), proof.holds, tuple(problems(proof)), levels_svg(proof), tuple(HEADERS),
+                        tuple(tuple(row) for row in _rows(proof)), (2, 3, 4, 5), tuple(_corner_notes(proof)))
 
 
 def _replace_file(path: Path, text: str) -> None:
@@ -198,7 +194,7 @@ def write_proof(directory: Path, proof: Proof) -> list[Path]:
     Each file is replaced atomically; a report that is absent is left absent.
     """
     directory = Path(directory)
-    sections = {"report.html": (lambda: simulation_html(section_html(proof)), True),
+    sections = {"report.html": (lambda: simulation_html(html_section(proof)), True),
                 "report.md": (lambda: simulation_markdown(section_markdown(proof)), False)}
     updates = {PROVE_FILE: json.dumps(proof_document(proof), indent=2, sort_keys=True) + "\n"}
     for name, (section, html) in sections.items():
@@ -220,7 +216,6 @@ def prove_directory(directory: Path, *, executable: str | None = None, limit: in
     a re-plan replaces it.
     """
     from .directory import read_plan_directory
-    from .ngspice import find_ngspice
     from .run import prove_plan
 
     plan = read_plan_directory(Path(directory))

@@ -19,12 +19,11 @@ import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
-from planner.report import reset_press, sanitise
+from planner.report import NgspiceFailed, reset_press, run_ngspice, sanitise
 from planner.spec import InputError
 
 from .corners import Corner, corner_values, deck_params, plan_corners
 from .directory import DECK_FILE, PlanDirectory, evaluate
-from .ngspice import NgspiceFailed, run_batch
 
 VECTOR_LIMIT = 2 ** 12
 """Up to this many input vectors every vector is run; above it a seeded sample of this many."""
@@ -269,9 +268,9 @@ def _prove_combinational(plan, deck, corners, executable, say, limit, seed) -> P
         say(f"{plan.design}: {count} input vectors{'' if every else f' (a sample, seed {seed})'} at "
             f"{len(corners)} corners in ngspice")
     files = tuple(f"corner{k}_{c}.txt" for k in range(len(corners)) for c in range(len(chunks)))
-    _, written = run_batch("\n".join(lines), executable, files=files,
-                           on_line=_progress_reader(say, corners, f"{count} vectors", count),
-                           timeout_s=60.0 + 2.0 * count * len(corners))
+    _, written = run_ngspice("\n".join(lines), executable, files=files,
+                             on_line=_progress_reader(say, corners, f"{count} vectors", count),
+                             timeout_s=60.0 + 2.0 * count * len(corners))
     volts_rows, failures = [], []
     for k, corner in enumerate(corners):
         parts = [_read_table(written.get(f"corner{k}_{c}.txt"), stop - start)
@@ -347,9 +346,9 @@ def _prove_registers(plan, deck, corners, executable, say, seed) -> Proof:
         say(f"{plan.design}: {cycles} clock cycles of {period * 1e3:.4g} ms at {len(corners)} corners in ngspice "
             "(transient)")
     files = tuple(f"corner{k}.txt" for k in range(len(corners)))
-    _, written = run_batch("\n".join(lines), executable, files=files,
-                           on_line=_progress_reader(say, corners, f"{cycles} cycles"),
-                           timeout_s=120.0 + 60.0 * cycles * len(corners))
+    _, written = run_ngspice("\n".join(lines), executable, files=files,
+                             on_line=_progress_reader(say, corners, f"{cycles} cycles"),
+                             timeout_s=120.0 + 60.0 * cycles * len(corners))
     state = {name: reg.reset for name, reg in registers.items()}
     expected, vectors = [], []
     outputs = dict(plan.outputs)

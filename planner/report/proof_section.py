@@ -6,7 +6,11 @@
 
 from __future__ import annotations
 
-from html import escape
+from dataclasses import dataclass
+
+from markupsafe import Markup
+
+from .engine import render
 
 #: The proof's file in a plan directory (written by ``tubeplan prove``; a re-plan drops it with the old plan).
 PROVE_FILE = "prove.json"
@@ -19,10 +23,38 @@ PLACEHOLDER = ("Not simulated yet: run `tubeplan prove DIR` (it needs the ngspic
                "are then plotted here.")
 
 
-def simulation_html(body: str | None = None) -> str:
-    """The simulation section of report.html, with ``body`` (HTML) or the placeholder."""
-    inner = body if body is not None else f'<p class="note">{escape(PLACEHOLDER).replace("`", "")}</p>'
-    return "\n".join([HTML_BEGIN, '<h2 id="simulation">Simulation (ngspice)</h2>', inner, HTML_END])
+@dataclass(frozen=True)
+class ProofSection:
+    """What report.html's simulation section shows of a proof, as plain text (the template escapes it).
+
+    ``scope`` says what was run; ``problems`` (empty when ``holds``) what does not hold; ``headers``,
+    ``rows`` and ``numeric`` the results table (``numeric``: the right-aligned columns);
+    ``corner_notes`` one line per corner; ``plot_svg`` the plot, an ``<svg>`` element written by
+    matplotlib's SVG backend (``planner.prove``), which escapes every text it draws.
+    """
+
+    scope: str
+    holds: bool
+    problems: tuple[str, ...]
+    plot_svg: str
+    headers: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    numeric: tuple[int, ...]
+    corner_notes: tuple[str, ...]
+
+
+def simulation_html(proof: ProofSection | None = None) -> str:
+    """The simulation section of report.html: what ``proof`` found, or the placeholder.
+
+    Cost: one template render (``templates/simulation.html.j2``).
+
+    >>> simulation_html().splitlines()[:2]
+    ['<!-- tubeplan:simulation -->', '<h2 id="simulation">Simulation (ngspice)</h2>']
+    """
+    # Markup: the markers are our own constant comments; the plot is matplotlib's serialised SVG,
+    # whose texts (output and corner names among them) its XML writer has escaped.
+    return render("simulation.html.j2", begin=Markup(HTML_BEGIN), end=Markup(HTML_END), proof=proof,
+                  placeholder=PLACEHOLDER.replace("`", ""), plot=None if proof is None else Markup(proof.plot_svg))
 
 
 def simulation_markdown(body: str | None = None) -> str:

@@ -1,4 +1,4 @@
-"""The SPICE deck of a plan (plan.cir) and a batch runner for ngspice.
+"""The SPICE deck of a plan (plan.cir) and its input vectors run in ngspice.
 
 The deck is plain SPICE that ``ngspice -b`` runs: the plan's parts list as a
 netlist, tube sections as the catalogue's subcircuits (``spice_subcircuit``,
@@ -18,17 +18,14 @@ are not part of the DC logic circuit and are left out.
 from __future__ import annotations
 
 import re
-import shutil
-import subprocess
-import tempfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from pathlib import Path
 
 from planner.catalogue import Catalogue, spice_nodes, spice_subcircuit, subcircuit_name
 from planner.mapping import BIAS_RAIL, GROUND, PLATE_RAIL, Plan
 
 from .designators import natural_key
+from .ngspice import NgspiceFailed, run_ngspice
 
 #: A generic small-signal silicon junction diode (forward parameters from memory,
 #: typical of signal diodes). No reverse breakdown is modelled: the BOM asks for
@@ -233,11 +230,6 @@ def reset_press(reset_node: str, bias_node: str, release_s: float, ramp_s: float
             ".model prove_contact sw vt=0.5 vh=0.1 ron=10 roff=1e12\n")
 
 
-def ngspice_path() -> str | None:
-    """The ngspice executable on PATH, or None."""
-    return shutil.which("ngspice")
-
-
 def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: Mapping[str, str] | None = None,
              executable: str | None = None, timeout_s: float = 120.0) -> tuple[dict[str, float], ...]:
     """Node volts for each input vector, in one ngspice run: label -> V.
@@ -246,14 +238,12 @@ def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: M
     default is every design output (label: output name, node out_NAME). The
     deck's ``.op`` is replaced by a ``.control`` block that, per vector, sets
     the input parameters (``alterparam``), re-loads the circuit (``reset``),
-    runs ``op`` and prints every probed node. Raises RuntimeError when
-    ngspice fails or prints fewer results than asked. Cost: one ngspice
-    process, one operating point a vector.
+    runs ``op`` and prints every probed node. ``executable``: as for
+    ``find_ngspice``. Raises NgspiceMissing, and NgspiceFailed when ngspice
+    fails or prints fewer results than asked. Cost: one ngspice process
+    (``run_ngspice``), one operating point a vector.
     """
     probes = dict(deck.outputs if probes is None else probes)
-    executable = executable or ngspice_path()
-    if executable is None:
-        raise RuntimeError("ngspice is not on PATH")
     control = [".control", "set noaskquit"]
     for k, vector in enumerate(vectors):
         control += [f"alterparam {param}={int(vector[name])}" for name, param in deck.params if name in vector]
@@ -261,13 +251,9 @@ def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: M
         control += [f"print v({node})" for node in sorted(set(probes.values()))]
     control += ["quit", ".endc"]
     text = deck.text.replace("\n.op\n", "\n" + "\n".join(control) + "\n")
-    with tempfile.TemporaryDirectory(prefix="tubeplan-spice-") as tmp:
-        path = Path(tmp) / "vectors.cir"
-        path.write_text(text)
-        done = subprocess.run([executable, "-b", str(path)], capture_output=True, text=True, timeout=timeout_s,
-                              cwd=tmp)
+    out, _ = run_ngspice(text, executable, timeout_s=timeout_s)
     volts: list[dict[str, float]] = []
-    for line in done.stdout.splitlines():
+    for line in out.splitlines():
         if line.startswith("@@vector"):
             volts.append({})
             continue
@@ -276,8 +262,7 @@ def run_deck(deck: SpiceDeck, vectors: Sequence[Mapping[str, int]], *, probes: M
             volts[-1][match.group(1)] = float(match.group(2))
     results = [{label: row[node] for label, node in probes.items() if node in row} for row in volts]
     complete = len(results) == len(vectors) and all(len(r) == len(probes) for r in results)
-    if done.returncode != 0 or not complete:
-        tail = "\n".join((done.stdout + done.stderr).splitlines()[-15:])
-        raise RuntimeError(f"ngspice failed (status {done.returncode}, {len(results)} of {len(vectors)} "
-                           f"vectors):\n{tail}")
+    if not complete:
+        tail = "\n".join(out.splitlines()[-15:])
+        raise NgspiceFailed(f"ngspice printed {len(results)} of {len(vectors)} vectors:\n{tail}")
     return tuple(results)

@@ -7,11 +7,12 @@ from typing import Mapping
 import sympy
 
 from planner.logic import EXHAUSTIVE_LIMIT, counterexample, output_table
+from planner.errors import InternalError
 
 from .network import Network
 
 
-class ProofError(Exception):
+class ProofError(InternalError):
     """The network does not compute the design: an internal error, never a plan."""
 
 
