@@ -10,4 +10,8 @@ written plan in ngspice.  ``cli`` holds arguments and printing.  A module reache
 through its ``__init__``.  See docs/architecture.md.
 """
 
+from planner.errors import BadInput, InternalError, PlanningFailure, StockShort, ToolError, TubeplanError
+
 __version__ = "0.1.0"
+
+__all__ = ["BadInput", "InternalError", "PlanningFailure", "StockShort", "ToolError", "TubeplanError", "__version__"]

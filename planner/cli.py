@@ -3,9 +3,10 @@
 Exit statuses: 0 done (also bare ``tubeplan``, which prints the help); 1
 internal error (one line and a hint; traceback with ``--debug``); 2 a mistake
 in the user's files, options or output path (one ``FILE:LINE: message`` on
-stderr); 3 the stock or supplies cannot carry the design (what is short, on
-stderr); 4 ``prove`` (or ``plan --prove``) found a wrong vector or a negative
-margin.
+stderr), or an outside program missing or failed (how to install it); 3 the
+stock or supplies cannot carry the design (what is short, on stderr); 4
+``prove`` (or ``plan --prove``) found a wrong vector or a negative margin.
+:data:`EXIT_STATUS` maps the exception families of ``planner.errors`` to them.
 """
 
 from __future__ import annotations
@@ -18,7 +19,13 @@ import sys
 import time
 from pathlib import Path
 
+from planner.errors import BadInput, StockShort, ToolError
+
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_SHORT, EXIT_UNPROVEN = 0, 1, 2, 3, 4
+
+#: The one place exceptions meet exit statuses: each user-facing family of ``planner.errors``
+#: and its status. Anything else that escapes a command is an internal error (exit 1).
+EXIT_STATUS = ((BadInput, EXIT_INPUT), (ToolError, EXIT_INPUT), (StockShort, EXIT_SHORT))
 
 #: The bundled demo, planned by ``tubeplan plan`` with no arguments: package data, a link to the
 #: project's top-level ``inventory_demo/`` in the source tree.
@@ -30,6 +37,11 @@ DEMO_OUT = Path("plan_out")
 CAUTION = ("CAUTION: tube plate supplies are high voltage and can kill; filter capacitors hold "
            "their charge after switch-off; heater windings carry amperes; glass runs hot. Follow "
            "your local electrical codes and licensed practice.")
+
+
+def exit_status(problem: BaseException) -> int:
+    """The exit status of ``problem`` by its family (:data:`EXIT_STATUS`); EXIT_INTERNAL for any other."""
+    return next((status for family, status in EXIT_STATUS if isinstance(problem, family)), EXIT_INTERNAL)
 
 
 def _print_json(document) -> None:
@@ -168,16 +180,13 @@ def _run_prove(args) -> int:
 
 
 def _prove(directory: Path, *, quiet: bool, executable: str | None = None, seed: int = 1) -> int:
-    from planner.prove import NgspiceFailed, NgspiceMissing, format_proof, prove_directory, say
+    from planner.prove import NgspiceFailed, format_proof, prove_directory, say
 
     try:
         proof, _ = prove_directory(directory, executable=executable, seed=seed, say=None if quiet else say)
-    except NgspiceMissing as missing:
-        print(f"tubeplan: {missing}", file=sys.stderr)
-        return EXIT_INPUT
-    except NgspiceFailed as failed:
+    except NgspiceFailed as failed:  # said against the deck it could not run
         print(f"{directory / 'plan.cir'}:0: ngspice cannot run the deck: {failed.reason}", file=sys.stderr)
-        return EXIT_INPUT
+        return exit_status(failed)
     print(format_proof(proof))
     return EXIT_OK if proof.holds else EXIT_UNPROVEN
 
@@ -258,7 +267,7 @@ def _run_stage(args) -> int:
     try:
         template = design_template(tube, args.means, rails, args.fanout, DesignRules(series=args.series),
                                    elevation_volts=args.heater_elevation)
-    except NoTemplate as problem:
+    except NoTemplate as problem:  # a planning failure, but of the type and supplies the user asked for
         print(problem.reason, file=sys.stderr)
         return EXIT_INPUT
     if args.json:
@@ -322,7 +331,7 @@ def _run_logic(args) -> int:
             document["networks"] = network_document(Path(args.design), Path(args.stock) if args.stock else None)
         except Shortage as short:
             print(f"tubeplan logic: the stock cannot carry the design: {short.message}", file=sys.stderr)
-            return EXIT_SHORT
+            return exit_status(short)
     if args.json:
         _print_json(document)
         return EXIT_OK
@@ -390,12 +399,13 @@ def _main(argv) -> int:
         return EXIT_OK
     try:
         return args.run(args)
-    except InputError as problem:
-        print(problem, file=sys.stderr)
-        return EXIT_INPUT
     except BrokenPipeError:
         return EXIT_OK
-    except Exception as problem:  # the last line of defence: one line, a hint, no traceback
+    except Exception as problem:  # the last line of defence: one line, no traceback
+        status = exit_status(problem)
+        if status != EXIT_INTERNAL:  # InputError says FILE:LINE itself
+            print(problem if isinstance(problem, InputError) else f"tubeplan: {problem}", file=sys.stderr)
+            return status
         if args.debug:
             raise
         print(f"tubeplan: internal error: {type(problem).__name__}: {problem}. Hint: run again with "

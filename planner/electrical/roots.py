@@ -4,12 +4,14 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+from planner.errors import PlanningFailure
 
-class NoBracket(ValueError):
+
+class NoBracket(PlanningFailure, ValueError):
     """The function does not change sign over the interval."""
 
 
-class NoConvergence(ArithmeticError):
+class NoConvergence(PlanningFailure, ArithmeticError):
     """The iteration limit was reached before the bracket shrank to the tolerance."""
 
 

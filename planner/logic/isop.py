@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+from planner.errors import BadInput
+
 from .table import TruthTable
 
 
-class BlockTooLarge(ValueError):
+class BlockTooLarge(BadInput, ValueError):
     """A function whose cover would exceed the minimiser's limits of work or memory."""
 
 

@@ -152,8 +152,7 @@ def place(network, problem: Problem, counts: Counts, register_order: tuple[str, 
                 left = left[len(take):]
                 pools.setdefault((kind.tube, 0), [k for k, n in enumerate(counts.heaters[t]) for _ in range(n)])
                 boxes.extend((kind, 0, box) for box in pack_diodes(kind, take))
-        if left:
-            raise ValueError("internal error: the solution has too few diode sections")
+        assert not left, "internal error: the solution has too few diode sections"
 
     def first(item):
         kind, _g, box = item

@@ -13,6 +13,8 @@ from dataclasses import dataclass
 
 import pulp
 
+from planner.errors import ToolError
+
 #: Fixed seeds and CBC's serial search: the same model always takes the same path.  No ``threads``
 #: option: ``-threads 1`` starts CBC's parallel search with one worker, which sometimes sits idle
 #: for 10 s waiting on the main thread (benchmarks/solver_stalls.py); serial CBC never does.
@@ -76,7 +78,7 @@ def solve(model: pulp.LpProblem, *, solver: str, time_limit_s: float, gap: float
     limit = max(1.0, float(time_limit_s))
     if solver == "highs":
         if not highs_available():
-            raise ValueError("solver 'highs' needs the highspy package (pip install highspy); "
+            raise ToolError("solver 'highs' needs the highspy package (pip install highspy); "
                              "or use the default solver 'cbc'")
         engine = pulp.HiGHS(mip=not relax, msg=False, timeLimit=limit, gapRel=gap, threads=1,
                             random_seed=1)

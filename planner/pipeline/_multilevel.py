@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from planner.stages import EngineError, cached_multilevel
+from planner.stages import EngineError, EngineMissing, cached_multilevel
 
 #: Cost of a solid-state diode in a diode AND, in envelopes (small: a diode is cheap, but not free of wiring).
 SOLID_DIODE_COST = 0.02
@@ -57,9 +57,9 @@ def multilevel_networks(view, stock, family, variants, weights, options) -> list
     for label, synth, section_cost, diode_cost in tries:
         try:
             result = cached_multilevel(view, synth, section_cost, diode_cost)
+        except EngineMissing:
+            raise
         except EngineError as problem:
-            if "not installed" in str(problem):
-                raise
             found.append((label, None, str(problem)))
             continue
         options.say(f"mapping: network '{label}': engine script '{result.script}'")

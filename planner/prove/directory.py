@@ -159,7 +159,7 @@ def evaluate(plan: PlanDirectory, values: dict[str, int]) -> dict[str, int]:
     """Every net's logic value from the plan's stage network, given the inputs' and registers' nets.
 
     A net a stage reads before it is known (stages out of order) is settled by
-    repeating the pass; an unknown net after that is an error (KeyError).
+    repeating the pass; an unknown net after that is a bad plan.json (InputError).
     Cost O(stages x passes).
 
     >>> s = LogicStage("n1", "inverting", (("a", "b"),))
@@ -182,6 +182,7 @@ def evaluate(plan: PlanDirectory, values: dict[str, int]) -> dict[str, int]:
         if len(left) == len(pending):
             missing = sorted({n for s in left for b in s.branches for n in b if n not in nets}
                              | {s.input for s in left if s.kind == "follower" and s.input not in nets})
-            raise KeyError(f"the plan's stages read nets nothing drives: {', '.join(missing)}")
+            raise InputError(str(plan.path / PLAN_FILE), 0,
+                             f"the plan's stages read nets nothing drives: {', '.join(missing)}; re-plan")
         pending = left
     return nets

@@ -14,11 +14,13 @@ import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
+from planner.errors import ToolError
+
 INSTALL_HINT = "install it (Debian and Ubuntu: apt-get install ngspice) or put it on PATH"
 _CONTROL_ONLY = "no simulations run"
 
 
-class NgspiceMissing(Exception):
+class NgspiceMissing(ToolError):
     """ngspice is not on PATH (or the executable given does not exist)."""
 
     def __init__(self, executable: str | None = None):
@@ -26,7 +28,7 @@ class NgspiceMissing(Exception):
         super().__init__(f"tubeplan prove needs the ngspice simulator: {where}; {INSTALL_HINT}")
 
 
-class NgspiceFailed(Exception):
+class NgspiceFailed(ToolError):
     """ngspice could not run a deck: ``reason`` is its first error line (or the status)."""
 
     def __init__(self, reason: str):

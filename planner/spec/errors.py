@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+from planner.errors import BadInput
 
-class InputError(Exception):
+
+class InputError(BadInput):
     """A mistake in a design or stock file, located by file and line.
 
     ``str(error)`` is the whole message the user sees:

@@ -19,7 +19,8 @@ Public API
 - :func:`simulate`, :func:`input_patterns`, :func:`prove`, :class:`ProofError`
 - :func:`multilevel` -> :class:`MultiLevel` (the whole design restructured and mapped by the ABC
   engine onto :func:`stage_library` cells, :class:`StageCell`; :func:`genlib_text`,
-  :func:`engine_binary`, :class:`EngineError`, :data:`ENGINE_SCRIPTS`, :data:`COLLAPSE_SCRIPTS`)
+  :func:`engine_binary`, :class:`EngineError` (:class:`EngineMissing` when not installed),
+  :data:`ENGINE_SCRIPTS`, :data:`COLLAPSE_SCRIPTS`)
 """
 
 from .fanout import STRATEGIES, FanoutError, describe_net, repair_fanout
@@ -27,14 +28,15 @@ from .network_cache import cached_multilevel, cached_network, multilevel_key, ne
 from .network import MEANS, SECTIONS_PER_BRANCH, Branch, Network, NetworkCost, Stage, stage_view
 from .options import DEFAULT_MAX_BRANCHES, MODES, SynthesisOptions
 from .simulate import ProofError, input_patterns, prove, simulate
-from .engine import (COLLAPSE_SCRIPTS, ENGINE_SCRIPTS, EngineError, MultiLevel, StageCell, engine_binary,
-                     genlib_text, multilevel, stage_library)
+from .engine import (COLLAPSE_SCRIPTS, ENGINE_SCRIPTS, EngineError, EngineMissing, MultiLevel, StageCell,
+                     engine_binary, genlib_text, multilevel, stage_library)
 from .synthesis import Candidate, Synthesis, synthesise
 
 __all__ = [
-    "COLLAPSE_SCRIPTS", "ENGINE_SCRIPTS", "EngineError", "MultiLevel", "StageCell", "engine_binary", "genlib_text",
-    "multilevel", "stage_library", "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "FanoutError", "MEANS", "MODES",
-    "Network", "NetworkCost", "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis",
-    "SynthesisOptions", "cached_multilevel", "cached_network", "describe_net", "input_patterns", "multilevel_key",
-    "network_key", "prove", "repair_fanout", "simulate", "stage_view", "synthesise",
+    "COLLAPSE_SCRIPTS", "ENGINE_SCRIPTS", "EngineError", "EngineMissing", "MultiLevel", "StageCell", "engine_binary",
+    "genlib_text", "multilevel", "stage_library",
+    "Branch", "Candidate", "DEFAULT_MAX_BRANCHES", "FanoutError", "MEANS", "MODES", "Network", "NetworkCost",
+    "ProofError", "SECTIONS_PER_BRANCH", "STRATEGIES", "Stage", "Synthesis", "SynthesisOptions", "cached_multilevel",
+    "cached_network", "describe_net", "input_patterns", "multilevel_key", "network_key", "prove", "repair_fanout",
+    "simulate", "stage_view", "synthesise",
 ]

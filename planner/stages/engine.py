@@ -27,6 +27,8 @@ from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Mapping
 
+from planner.errors import PlanningFailure, ToolError
+
 from .network import Network, renumber
 from .options import SynthesisOptions
 from .simulate import prove, simulate
@@ -59,8 +61,12 @@ COLLAPSE_MAX_INPUTS = 16
 _PINS = "abcdefghijklmnop"
 
 
-class EngineError(RuntimeError):
+class EngineError(PlanningFailure, RuntimeError):
     """The synthesis engine is missing, failed or ran out of time."""
+
+
+class EngineMissing(ToolError, EngineError):
+    """The synthesis engine is not installed: the user's to fix (exit 2), not a way that failed."""
 
 
 @dataclass(frozen=True)
@@ -91,14 +97,14 @@ class StageCell:
 def engine_binary() -> str:
     """Path of the ``yosys-abc`` binary shipped in the ``pyosys`` wheel (found without importing it).
 
-    Raises :class:`EngineError` naming the package to install when it is absent.
+    Raises :class:`EngineMissing` naming the package to install when it is absent.
     """
     spec = importlib.util.find_spec("pyosys")
     for folder in (spec.submodule_search_locations or []) if spec else []:
         path = os.path.join(folder, "yosys-abc")
         if os.access(path, os.X_OK):
             return path
-    raise EngineError("the multi-level synthesis engine (yosys-abc from the 'pyosys' package) is not installed; "
+    raise EngineMissing("the multi-level synthesis engine (yosys-abc from the 'pyosys' package) is not installed; "
                       "run: python3 -m pip install pyosys")
 
 

@@ -5,6 +5,8 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
+from planner.errors import PlanningFailure
+
 from .network import Branch, Network, Stage, renumber
 from .simulate import ProofError, simulate
 
@@ -19,7 +21,7 @@ DUPLICATE_SECTIONS = 2
 _UNLIMITED = 10 ** 9
 
 
-class FanoutError(ValueError):
+class FanoutError(PlanningFailure, ValueError):
     """A net's loads cannot be spread within the limits given (the message names the net)."""
 
 

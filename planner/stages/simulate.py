@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Mapping
 
 from planner.logic import EXHAUSTIVE_LIMIT, counterexample, output_table
+from planner.errors import InternalError
 
 from .network import Network
 
@@ -12,7 +13,7 @@ if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
     import sympy
 
 
-class ProofError(Exception):
+class ProofError(InternalError):
     """The network does not compute the design: an internal error, never a plan."""
 
 
