@@ -9,7 +9,6 @@ import importlib
 import json
 import os
 import pkgutil
-import shutil
 import subprocess
 import sys
 from pathlib import Path
@@ -145,7 +144,7 @@ def test_a_missing_tool_is_exit_2_saying_how_to_install_it(tmp_path, write, pack
     assert not out.exists()
 
 
-@pytest.mark.skipif(shutil.which("ngspice") is None, reason="ngspice is not installed (Debian package ngspice)")
+@pytest.mark.ngspice
 def test_a_plan_json_whose_stages_read_an_undriven_net_is_exit_2(tmp_path, write, run_cli):
     # Once an internal error (a KeyError): a hand-edited plan.json is the user's file.
     out = tmp_path / "plan"
