@@ -9,7 +9,7 @@ show it taking its steered state on every falling clock edge.
 import pytest
 
 from planner.catalogue import builtin_catalogue, spice_subcircuit, subcircuit_name
-from planner.electrical import (CAPACITOR_TOLERANCE, WIRING_PF, Bistable, DesignRules, Rails, Steering,
+from planner.electrical import (CAPACITOR_TOLERANCE, WIRING_FARADS, Bistable, DesignRules, Rails, Steering,
                                 design_bistable, design_family, flip_edges)
 from planner.electrical.circuit import Load
 from planner.electrical.context import TubeContext
@@ -41,8 +41,8 @@ def test_worst_case_steering_conditions(design):
     tube, family, b = design
     ctx = TubeContext(tube, WEAR, RAILS, family.rules)
     margin, t = family.rules.margin_volts, family.rules.resistor_tolerance
-    cs_hi = b.steering_pf * (1 + CAPACITOR_TOLERANCE)
-    k_max = cs_hi / (cs_hi + b.steering_node_pf)
+    cs_hi = b.steering_farads * (1 + CAPACITOR_TOLERANCE)
+    k_max = cs_hi / (cs_hi + b.steering_node_farads)
     # The clock may be anywhere within its tolerance, and the window holds all of it.
     assert b.clock_swing_min_volts <= b.clock_swing_volts * (1 - b.clock_tolerance)
     assert b.clock_swing_volts * (1 + b.clock_tolerance) <= b.clock_swing_max_volts
@@ -52,7 +52,7 @@ def test_worst_case_steering_conditions(design):
     assert b.grid_pulse_volts <= ctx.cutoff_volts("grid") - margin
     assert b.pulse_hold_seconds >= 2 * b.flip_seconds
     # A steering input draws at most one family load's current from a high node.
-    heavy = max(r.load_ma_high for r in family.receivers.values()) / 1e3
+    heavy = max(r.load_amps_high for r in family.receivers.values())
     assert k_max * b.clock_swing_max_volts / (b.steering_ohms * (1 - t)) <= heavy
 
 
@@ -71,9 +71,10 @@ def _netlist(tube, b: Bistable, swing: float, period: float, cycles: int, toggle
     for k, other, level in ((1, 2, d_level), (2, 1, nd_level)):
         lines += [f"RL{k} bp p{k} {b.plate_load_ohms!r}", f"X{k} p{k} g{k} 0 {sub}",
                   f"R1_{k} p{other} g{k} {b.upper_ohms!r}", f"R2_{k} g{k} bias {b.lower_ohms!r}",
-                  f"CC{k} p{other} g{k} {b.commutating_pf}p", f"CS{k} clk x{k} {b.steering_pf}p",
+                  f"CC{k} p{other} g{k} {b.commutating_farads!r}", f"CS{k} clk x{k} {b.steering_farads!r}",
                   f"RS{k} {level} x{k} {b.steering_ohms!r}", f"D{k} g{k} x{k} d_silicon",
-                  f"CWP{k} p{k} 0 {WIRING_PF}p", f"CWG{k} g{k} 0 {WIRING_PF}p", f"CWX{k} x{k} 0 {WIRING_PF}p",
+                  f"CWP{k} p{k} 0 {WIRING_FARADS!r}", f"CWG{k} g{k} 0 {WIRING_FARADS!r}",
+                  f"CWX{k} x{k} 0 {WIRING_FARADS!r}",
                   f"RLA{k} p{k} l{k} {b.upper_ohms!r}", f"RLB{k} l{k} bias {b.lower_ohms!r}", f"XL{k} bp l{k} 0 {sub}"]
     # Start in the reset state at the bistable's own levels (p1 high, p2 low), each grid where its divider puts it
     # (the conducting side's grid clamped near 0 V), so the start itself gives no kick through the capacitors.
@@ -123,13 +124,13 @@ def test_flip_estimate_against_ngspice(design, ngspice):
     found = ngspice(_netlist(tube, b, b.clock_swing_volts, period, 1, toggle=True), timeout_s=120)
     own = Load(b.upper_ohms, b.lower_ohms, RAILS.bias_volts, tube)
     loads = ((1, own), (1, own))
-    c_series = b.commutating_pf * b.grid_node_pf / (b.commutating_pf + b.grid_node_pf)
-    farads = ((tube.c_out_pf or 0) + WIRING_PF + c_series + (tube.c_gp_pf or 0)) * 1e-12
+    c_series = b.commutating_farads * b.grid_node_farads / (b.commutating_farads + b.grid_node_farads)
+    farads = (tube.c_out_farads or 0) + WIRING_FARADS + c_series + (tube.c_gp_farads or 0)
     mid = 0.5 * (b.high_volts + b.low_volts)
     # Steered by its own plates: the cut-off side's Rs hangs on the rising plate.
-    steering = Steering(b.steering_ohms, b.steering_pf * 1e-12, b.steering_node_pf * 1e-12, b.clock_swing_volts)
-    up, down = flip_edges(tube, 1.0, RAILS.plate_volts, b.plate_load_ohms, own, b.commutating_pf * 1e-12,
-                          b.grid_node_pf * 1e-12, loads, loads, farads, farads, mid, steering)
+    steering = Steering(b.steering_ohms, b.steering_farads, b.steering_node_farads, b.clock_swing_volts)
+    up, down = flip_edges(tube, 1.0, RAILS.plate_volts, b.plate_load_ohms, own, b.commutating_farads,
+                          b.grid_node_farads, loads, loads, farads, farads, mid, steering)
     edge = period / 2 + CLOCK_FALL / 2  # the clock's falling midpoint
     for estimate, measured in ((up.seconds, found["flip"] - edge), (down.seconds, found["flop"] - edge)):
         # Reference: ngspice, each plate's midpoint crossing after the clock's falling edge.

@@ -80,7 +80,7 @@ def test_ratings_and_screens(tube):
     assert (tube.max_screen_watts is not None) == has_screen
     assert tube.max_plate_volts > 0
     if tube.model.equation == "diode":
-        assert tube.max_plate_ma > 0
+        assert tube.max_plate_amps > 0
     else:
         assert tube.max_plate_watts > 0
 

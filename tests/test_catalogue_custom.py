@@ -12,6 +12,8 @@ from planner.catalogue import (
     CatalogueDataError,
     builtin_catalogue,
     plate_current_amps,
+    spice_subcircuit,
+    tube_document,
     tube_type_from_mapping,
 )
 from planner.catalogue.builtin import BUILTIN_DATA
@@ -53,6 +55,26 @@ def test_example_reads_and_models():
     # Child-Langmuir three-halves law: 1 mA/V^1.5 * (0 + 100/20)^1.5 = 11.18 mA.
     assert plate_current_amps(tube, plate_volts=100, grid_volts=0) == pytest.approx(0.001 * 5 ** 1.5)
     assert plate_current_amps(tube, plate_volts=100, grid_volts=-6) == 0.0
+
+
+def test_capacitances_are_read_in_picofarads_held_in_farads_and_listed_as_written():
+    # Invented values with the awkward binary expansions of the 12AX7's 0.46 pF and 1.7 pF.
+    data = with_change("capacitance_pf", {"input": 0.46, "output": 1.7, "grid_plate": 0.0035})
+    tube = tube_type_from_mapping("X1", data)
+    assert (tube.c_in_farads, tube.c_out_farads, tube.c_gp_farads) == pytest.approx((0.46e-12, 1.7e-12, 3.5e-15),
+                                                                                   rel=1e-15)
+    listed = tube_document(tube, ())["capacitance_pf"]
+    assert listed == {"input": 0.46, "output": 1.7, "grid_plate": 0.0035}  # exactly the file's numbers
+    assert "Cin g k 0.46p" in spice_subcircuit(tube, "triode") and "Cgp g p 0.0035p" in spice_subcircuit(tube, "triode")
+
+
+def test_current_ratings_are_read_in_milliamperes_held_in_amperes_and_listed_as_written():
+    data = with_change("ratings", {"max_plate_volts": 250, "max_plate_watts": 1.0, "max_grid_ma": 0.35})
+    tube = tube_type_from_mapping("X1", data)
+    assert tube.max_grid_amps == pytest.approx(0.35e-3, rel=1e-15) and tube.max_plate_amps is None
+    ratings = tube_document(tube, ())["ratings"]
+    assert ratings["max_grid_ma"] == 0.35 and ratings["max_plate_ma"] is None  # the file's number, its unit
+    assert tube.sources["max_grid_amps"] == "invented for this test"
 
 
 @pytest.mark.parametrize("name", sorted(BUILTIN_DATA))

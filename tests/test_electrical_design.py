@@ -66,7 +66,7 @@ def test_template_meets_every_rule(name, means):
     for r in t.receivers:
         assert r.upper_watts in (0.25, 0.5, 1.0, 2.0) and r.lower_watts in (0.25, 0.5, 1.0, 2.0)
         assert _in_series(r.upper_ohms, rules.series) and _in_series(r.lower_ohms, rules.series)  # IEC 60063
-        assert r.grid_ma_worst <= rules.max_grid_ma
+        assert r.grid_amps_worst <= rules.max_grid_amps
     assert _in_series(d.plate_load_ohms, rules.series)  # IEC 60063
     assert d.plate_load_watts in (0.25, 0.5, 1.0, 2.0)
 
@@ -113,8 +113,8 @@ def test_worn_tubes_never_carry_more():
 def test_speedup_capacitor_compensates_the_divider():
     t = design_template(CAT.get("12AT7"), "single", RAILS, 1, DesignRules(speedup_caps=True))
     r = t.receivers[0]
-    ideal = CAT.get("12AT7").c_in_pf * r.lower_ohms / r.upper_ohms  # compensated divider: R1*C1 = R2*Cin
-    assert _in_series(r.speedup_pf, "E12") and 0.8 < r.speedup_pf / ideal < 1.25
+    ideal = CAT.get("12AT7").c_in_farads * r.lower_ohms / r.upper_ohms  # compensated divider: R1*C1 = R2*Cin
+    assert _in_series(r.speedup_farads * 1e12, "E12") and 0.8 < r.speedup_farads / ideal < 1.25
 
 
 def test_family_levels_and_parts():

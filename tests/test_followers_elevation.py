@@ -194,9 +194,9 @@ def _hosting_problem(h2_amps: float) -> M.Problem:
     heaters = (HeaterWay("H1", "single", 6.3, 0.3, 0.0, S({"grounded"})),
                HeaterWay("H2", "single", 6.3, 0.3, 95.0, S({"follower"})))
     kind = M.TubeKind("T", 4, False, sections, 0, False, heaters)
-    inv = M.StageClass((0,), ("S1",), (M.Way("T", "single", (("single", 1),), 1.0, 0.5, 0.1, 4),))
-    fol = M.StageClass((1,), ("S2",), (M.Way("T", "follower", (("follower", 1),), 1.0, 0.5, 0.1, 8),))
-    supplies = M.Supplies(100.0, 100.0, (("H1", 6.3, 5.0), ("H2", 6.3, h2_amps)))
+    inv = M.StageClass((0,), ("S1",), (M.Way("T", "single", (("single", 1),), 1e-3, 0.5e-3, 0.1e-3, 4),))
+    fol = M.StageClass((1,), ("S2",), (M.Way("T", "follower", (("follower", 1),), 1e-3, 0.5e-3, 0.1e-3, 8),))
+    supplies = M.Supplies(0.1, 0.1, (("H1", 6.3, 5.0), ("H2", 6.3, h2_amps)))
     return M.Problem((kind,), (inv, fol), supplies, M.Weights())
 
 
@@ -322,7 +322,7 @@ def test_ilp_hosting_matches_brute_force():
         if followers:
             classes.append(M.StageClass((1,), tuple(f"F{i}" for i in range(followers)),
                                         (M.Way("T", "follower", (("follower", 1),), 0.0, 0.0, 0.0, 8),)))
-        supplies = M.Supplies(1e6, 1e6, tuple((f"H{i}", 6.3, float(c)) for i, c in enumerate(caps)))
+        supplies = M.Supplies(1e3, 1e3, tuple((f"H{i}", 6.3, float(c)) for i, c in enumerate(caps)))
         problem = M.Problem((kind,), tuple(classes), supplies, M.Weights(1.0, 0.0, 0.0))
         brute = None
         for n in range(0, 7):

@@ -47,9 +47,9 @@ def _brute(problem: M.Problem):
     best = None
     for choice in itertools.product(*[range(len(cls.ways)) for cls, _ in stages]):
         ways = [cls.ways[w] for (cls, _), w in zip(stages, choice)]
-        plate = problem.supplies.fixed_plate_ma + sum(w.plate_ma for w in ways)
-        bias = problem.supplies.fixed_bias_ma + sum(w.bias_ma for w in ways)
-        if plate > problem.supplies.plate_max_ma + 1e-9 or bias > problem.supplies.bias_max_ma + 1e-9:
+        plate = problem.supplies.fixed_plate_amps + sum(w.plate_amps for w in ways)
+        bias = problem.supplies.fixed_bias_amps + sum(w.bias_amps for w in ways)
+        if plate > problem.supplies.plate_max_amps + 1e-12 or bias > problem.supplies.bias_max_amps + 1e-12:
             continue
         need = {}
         for tube, kind in kinds.items():
@@ -97,12 +97,13 @@ def _random_problem(rng: random.Random) -> M.Problem:
         ways = []
         for kind in kinds:
             if any(need in caps for caps in kind.sections) and rng.random() < 0.85:
-                ways.append(M.Way(kind.tube, need, ((need, 1),), rng.uniform(1, 5), 1.0, rng.uniform(0, 2), 9))
+                ways.append(M.Way(kind.tube, need, ((need, 1),), rng.uniform(1, 5) * 1e-3, 1e-3,
+                                  rng.uniform(0, 2) * 1e-3, 9))
         if ways:
             classes.append(M.StageClass((c,), tuple(f"S{c}_{i}" for i in range(rng.randint(1, 2))), tuple(ways)))
     weights = M.Weights(envelopes=1.0, heater_watts=rng.choice([0.05, 0.5]), scarce=rng.choice([0.0, 5.0]))
-    return M.Problem(tuple(kinds), tuple(classes), M.Supplies(rng.uniform(8, 30), rng.uniform(2, 10), windings),
-                     weights)
+    supplies = M.Supplies(rng.uniform(8, 30) * 1e-3, rng.uniform(2, 10) * 1e-3, windings)
+    return M.Problem(tuple(kinds), tuple(classes), supplies, weights)
 
 
 @pytest.mark.parametrize("seed", range(40))
@@ -126,11 +127,11 @@ def test_shared_cathode_follower_takes_its_own_envelope():
     jobs = [Job(0, "S1", 0, "single"), Job(1, "S2", None, "follower"), Job(2, "S3", 0, "single")]
     boxes = pack(kind, jobs, 2)
     assert [[j.stage for _s, j in box] for box in boxes] == [["S1", "S3"], ["S2"]]
-    way_f = M.Way("T", "follower", (("follower", 1),), 1, 1, 0, 9)
-    way_s = M.Way("T", "single", (("single", 1),), 1, 1, 0, 9)
+    way_f = M.Way("T", "follower", (("follower", 1),), 1e-3, 1e-3, 0.0, 9)
+    way_s = M.Way("T", "single", (("single", 1),), 1e-3, 1e-3, 0.0, 9)
     problem = M.Problem((kind,), (M.StageClass(("f",), ("S2",), (way_f,)),
                                   M.StageClass(("s",), ("S1", "S3"), (way_s,))),
-                        M.Supplies(100, 100, (("H1", 6.3, 10),)), M.Weights())
+                        M.Supplies(0.1, 0.1, (("H1", 6.3, 10),)), M.Weights())
     assert M.solve_problem(problem).envelopes == (2,)
 
 
@@ -147,9 +148,10 @@ def test_lexicographic_mode_puts_scarce_envelopes_first():
     plain = M.TubeKind("P", 10, False, (S({"single"}),), 0, False, (HeaterWay("H1", "single", 6.3, 0.3),))
     rare = M.TubeKind("R", 10, True, (S({"single"}), S({"single"}), S({"single"})), 0, False,
                       (HeaterWay("H1", "single", 6.3, 0.3),))
-    ways = (M.Way("P", "single", (("single", 1),), 1, 1, 0, 9), M.Way("R", "single", (("single", 1),), 1, 1, 0, 9))
+    ways = (M.Way("P", "single", (("single", 1),), 1e-3, 1e-3, 0.0, 9),
+            M.Way("R", "single", (("single", 1),), 1e-3, 1e-3, 0.0, 9))
     classes = (M.StageClass(("s",), ("S1", "S2", "S3"), ways),)
-    supplies = M.Supplies(100, 100, (("H1", 6.3, 10),))
+    supplies = M.Supplies(0.1, 0.1, (("H1", 6.3, 10),))
     weighted = M.solve_problem(M.Problem((plain, rare), classes, supplies, M.Weights(scarce=1.0)))
     assert weighted.envelopes == (0, 1)   # 1 + 1 (scarce) < 3 plain envelopes
     lexi = M.solve_problem(M.Problem((plain, rare), classes, supplies, M.Weights(scarce=1.0, mode="lexicographic")))
@@ -160,9 +162,9 @@ def test_lexicographic_mode_puts_scarce_envelopes_first():
 
 def test_diagnose_buys_the_fewest_envelopes():
     kind = M.TubeKind("T", 1, False, (S({"single"}), S({"single"})), 0, False, (HeaterWay("H1", "single", 6.3, 0.3),))
-    way = M.Way("T", "single", (("single", 1),), 1, 1, 0, 9)
+    way = M.Way("T", "single", (("single", 1),), 1e-3, 1e-3, 0.0, 9)
     problem = M.Problem((kind,), (M.StageClass(("s",), tuple(f"S{i}" for i in range(5)), (way,)),),
-                        M.Supplies(100, 100, (("H1", 6.3, 0.6),)), M.Weights())
+                        M.Supplies(0.1, 0.1, (("H1", 6.3, 0.6),)), M.Weights())
     with pytest.raises(M.Infeasible, match="^weighted$"):
         M.solve_problem(problem)
     counts = M.diagnose(problem)

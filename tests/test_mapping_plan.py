@@ -89,8 +89,8 @@ def _check_invariants(plan, stock, design):
         assert w.amps == pytest.approx(sum(e.heater_amps for e in plan.envelopes if e.winding == w.id))
     for e in plan.envelopes:
         assert e.heater_volts == volts[e.winding]
-    assert plan.budget.plate_ma_worst <= plan.budget.plate_max_ma
-    assert plan.budget.bias_ma <= plan.budget.bias_max_ma
+    assert plan.budget.plate_amps_worst <= plan.budget.plate_max_amps
+    assert plan.budget.bias_amps <= plan.budget.bias_max_amps
     # Every branch input reaches a divider: directly (its upper resistor from the input net to the
     # branch's grid node) or through an AND diode (cathode on the input, anode on the branch's gate
     # node, which feeds a divider); every divider's grid side has its lower resistor to BIAS.
@@ -160,9 +160,9 @@ def _brute_force_optimum(problem) -> float:
     stages = [cls for cls in problem.classes for _ in range(cls.count)]
     best = None
     for choice in itertools.product(*[cls.ways for cls in stages]):
-        if sum(w.plate_ma for w in choice) > problem.supplies.plate_max_ma:
+        if sum(w.plate_amps for w in choice) > problem.supplies.plate_max_amps:
             continue
-        if sum(w.bias_ma for w in choice) > problem.supplies.bias_max_ma:
+        if sum(w.bias_amps for w in choice) > problem.supplies.bias_max_amps:
             continue
         need = {}
         for tube, kind in kinds.items():
@@ -260,6 +260,18 @@ def test_overloaded_winding_is_reported(tmp_path):
     assert "winding H1 over by 0.90 A" in short.value.message
 
 
+def test_overloaded_plate_supply_is_reported_in_amperes_and_told_in_milliamperes(tmp_path):
+    design = _design(tmp_path, "y: ~(a | b)\nz: ~(b | c)\n")
+    tubes = "12AU7: {count: 2}\n"
+    need = plan_design(design, _stock(tmp_path, tubes)).budget.plate_amps_worst
+    limit_ma = 1.5  # the stock file's max_ma, well under what two stages draw
+    with pytest.raises(Shortage) as short:
+        plan_design(design, _stock(tmp_path, tubes, plate=limit_ma, name="small.yaml"))
+    assert set(short.value.overloads) == {"plate"}
+    assert short.value.overloads["plate"] == pytest.approx(need - limit_ma / 1000, abs=1e-9)
+    assert f"plate supply over by {need * 1000 - limit_ma:.1f} mA" in short.value.message
+
+
 def test_lexicographic_mode_and_highs_agree(tmp_path):
     stock = _stock(tmp_path, TRIODES + "5915: {count: 2, scarce: true}\n", diodes="solid-state")
     design = _design(tmp_path, "y: ~(a & b | c)\nz: a | b\n")
@@ -347,7 +359,7 @@ def test_followers_are_placed_and_wired(tmp_path):
     tubes = [(stock.catalogue.get(t.tube), rules.wear) for t in stock.tubes]
     family = design_family(planning.Rails(250, -100), tubes, rules)
     # Its cathode range (0 to 90 V) is within the 6J6's 100 V heater-cathode rating on a grounded heater.
-    made_up = Follower("6J6", 47e3, 1.0, 8, 4.0, 3.0, 2.5, 0.5, 0.1, 10e3, 90.0, 120.0, 40.0)
+    made_up = Follower("6J6", 47e3, 1.0, 8, 4.0e-3, 3.0e-3, 2.5e-3, 0.5, 0.1e-3, 10e3, 90.0, 120.0, 40.0)
     family = dataclasses.replace(family, followers={"6J6": made_up})
     network = repair_fanout(synthesise(design).network, planning._fanout_limits(family, stock, 0),
                             strategy="followers")

@@ -184,8 +184,8 @@ def test_budget_counts_the_registers(counter):
     assert used["12AU7"] == len(plan.envelopes)
     # Reference: the catalogue's 12AU7 heater, 6.3 V 0.3 A in parallel (Brimar 12AU7 report).
     assert plan.budget.windings[0].amps == pytest.approx(0.3 * len(plan.envelopes))
-    stages = sum(s.supply_ma_worst for s in plan.stages)
-    assert plan.budget.plate_ma_worst >= stages + sum(r.supply_ma_worst for r in plan.registers)
+    stages = sum(s.supply_amps_worst for s in plan.stages)
+    assert plan.budget.plate_amps_worst >= stages + sum(r.supply_amps_worst for r in plan.registers)
 
 
 def test_timing_and_clock_estimate(counter, shift):

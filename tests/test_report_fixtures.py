@@ -29,15 +29,15 @@ def fixture_plan(*, prices: bool = False) -> Plan:
         PlacedStage("S1", "inverting", "n1", "NOR-2",
                     branches=(PlacedBranch(("a",), "single", "12AU7", "V1", 1),
                               PlacedBranch(("b",), "single", "12AU7", "V1", 2)),
-                    plate_load_ohms=47e3, fanout=1, fanout_limit=6, supply_ma_worst=4.6,
-                    supply_ma_typical=2.4, bias_ma_worst=0.4),
+                    plate_load_ohms=47e3, fanout=1, fanout_limit=6, supply_amps_worst=4.6e-3,
+                    supply_amps_typical=2.4e-3, bias_amps_worst=0.4e-3),
         PlacedStage("S2", "inverting", "n2", "NAND-2",
                     branches=(PlacedBranch(("a", "~b"), "dual", "5915", "V2", 1),),
-                    plate_load_ohms=68e3, fanout=0, fanout_limit=5, supply_ma_worst=4.9,
-                    supply_ma_typical=2.9, bias_ma_worst=0.4),
+                    plate_load_ohms=68e3, fanout=0, fanout_limit=5, supply_amps_worst=4.9e-3,
+                    supply_amps_typical=2.9e-3, bias_amps_worst=0.4e-3),
         PlacedStage("S3", "follower", "n3", "follower", input="n1", tube="12AU7", envelope="V3", section=1,
-                    load_ohms=100e3, fanout=0, fanout_limit=12, supply_ma_worst=3.2,
-                    supply_ma_typical=2.1, bias_ma_worst=3.2),
+                    load_ohms=100e3, fanout=0, fanout_limit=12, supply_amps_worst=3.2e-3,
+                    supply_amps_typical=2.1e-3, bias_amps_worst=3.2e-3),
     )
     envelopes = (
         Envelope("V1", "12AU7", "9-pin noval", "H1", "parallel", 6.3, 0.3,
@@ -72,8 +72,8 @@ def fixture_plan(*, prices: bool = False) -> Plan:
     )
     budget = Budget(heater_watts=2 * 6.3 * 0.3 + 12.6 * 0.15,
                     windings=(WindingLoad("H1", 6.3, 8.0, 0.6), WindingLoad("H2", 12.6, 2.5, 0.15)),
-                    plate_ma_worst=12.7, plate_ma_typical=7.4, bias_ma=4.0, plate_max_ma=200.0,
-                    bias_max_ma=50.0)
+                    plate_amps_worst=12.7e-3, plate_amps_typical=7.4e-3, bias_amps=4.0e-3, plate_max_amps=0.2,
+                    bias_max_amps=0.05)
     # The 5915 and 6AL5 models are from memory in the catalogue (TubeType.model_from_memory).
     stock = (StockUse("12AU7", 4, 1, 2, False), StockUse("5915", 2, 0, 1, True, True),
              StockUse("6AL5", 3, 0, 0, False, True))
@@ -137,12 +137,12 @@ def fixture_diode_plan() -> Plan:
               for i, name in enumerate("abc", start=1)]
     stage = PlacedStage("S1", "inverting", "n1", "NAND-3",
                         branches=(PlacedBranch(("a", "b", "c"), "diode", "6AU6", "V1", 1, ("D1", "D2", "D3")),),
-                        plate_load_ohms=130e3, fanout=0, fanout_limit=4, supply_ma_worst=3.9,
-                        supply_ma_typical=2.6, bias_ma_worst=0.2)
+                        plate_load_ohms=130e3, fanout=0, fanout_limit=4, supply_amps_worst=3.9e-3,
+                        supply_amps_typical=2.6e-3, bias_amps_worst=0.2e-3)
     envelope = Envelope("V1", "6AU6", "7-pin miniature", "H1", "single", 6.3, 0.3,
                         (SectionUse(1, "diode", "S1", (("cathode", "GND"), ("grid", "S1.g1"), ("grid3", "GND"),
                                                        ("plate", "n1"), ("screen", "S1.g2"))),))
-    budget = Budget(1.89, (WindingLoad("H1", 6.3, 2.0, 0.3),), 3.9, 2.6, 0.2, 100.0, 20.0)
+    budget = Budget(1.89, (WindingLoad("H1", 6.3, 2.0, 0.3),), 3.9e-3, 2.6e-3, 0.2e-3, 0.1, 0.02)
     return Plan(design="fixture-diode", inputs=(("a", False), ("b", False), ("c", False)),
                 outputs=(("q", "n1"),), forms=(("q", "~(a & b & c)"),), stages=(stage,), envelopes=(envelope,),
                 parts=tuple(parts), budget=budget, stock=(StockUse("6AU6", 2, 0, 1, False, True),),

@@ -22,8 +22,8 @@ import pytest
 from dataclasses import replace
 
 from planner.catalogue import builtin_catalogue, spice_nodes, spice_subcircuit, subcircuit_name
-from planner.electrical import (NOMINAL_CORNER, WIRING_PF, DesignRules, InverterTiming, Rails, Wave, design_template,
-                                inverter_edge, slow_corner)
+from planner.electrical import (NOMINAL_CORNER, WIRING_FARADS, DesignRules, InverterTiming, Rails, Wave,
+                                design_template, inverter_edge, slow_corner)
 from planner.electrical.circuit import Load, ScreenFeed
 
 pytestmark = pytest.mark.ngspice
@@ -53,7 +53,7 @@ def _chain_netlist(tube, template, rails: Rails, corner, wear: float) -> tuple[s
     high, low = template.design_high_volts, template.design_low_volts
     mid = 0.5 * (high + low)
     kind = tube.sections[0].kind
-    ohms, volts, wiring = corner.ohms_scale, corner.supply_scale, WIRING_PF * corner.farads_scale
+    ohms, volts, wiring = corner.ohms_scale, corner.supply_scale, WIRING_FARADS * corner.farads_scale
     lines = ["* tubeplan timing test chain", spice_subcircuit(_spice_tube(tube, corner, wear), kind).strip(),
              f"VB bp 0 {rails.plate_volts * volts!r}", f"VC bias 0 {rails.bias_volts * volts!r}",
              f"VIN in 0 PWL(0 {high!r} {FALL_AT!r} {high!r} {FALL_AT + 1e-9!r} {low!r} {RISE_AT!r} {low!r} "
@@ -72,9 +72,9 @@ def _chain_netlist(tube, template, rails: Rails, corner, wear: float) -> tuple[s
     source = "in"
     for k in range(1, STAGES + 2):
         lines += [f"R1_{k} {source} g{k} {r.upper_ohms * ohms!r}", f"R2_{k} g{k} bias {r.lower_ohms * ohms!r}",
-                  f"CG{k} g{k} 0 {wiring!r}p"]
+                  f"CG{k} g{k} 0 {wiring!r}"]
         if k <= STAGES:
-            lines += [f"RL{k} bp p{k} {d.plate_load_ohms * ohms!r}", f"CP{k} p{k} 0 {wiring!r}p"] + section(k, f"p{k}")
+            lines += [f"RL{k} bp p{k} {d.plate_load_ohms * ohms!r}", f"CP{k} p{k} 0 {wiring!r}"] + section(k, f"p{k}")
             source = f"p{k}"
         else:
             lines += section(k, "bp")  # the last stage's load: a fourth stage's divider and grid
@@ -91,8 +91,8 @@ def _estimate(tube, template, rails: Rails, mid: float, corner, wear: float) -> 
     divider = Load(r.upper_ohms, r.lower_ohms, rails.bias_volts, tube)
     feed = None if d.screen_series_ohms is None else ScreenFeed(d.screen_series_ohms, d.screen_shunt_ohms)
     stage = corner.stage(InverterTiming(tube, wear, rails.plate_volts, d.plate_load_ohms, divider, ((1, divider),),
-                                        ((tube.c_out_pf or 0.0) + WIRING_PF) * 1e-12,
-                                        ((tube.c_in_pf or 0.0) + WIRING_PF) * 1e-12, feed))
+                                        (tube.c_out_farads or 0.0) + WIRING_FARADS,
+                                        (tube.c_in_farads or 0.0) + WIRING_FARADS, feed))
     out = {}
     high, low = template.design_high_volts, template.design_low_volts
     for name, wave in (("fall", Wave(high, low)), ("rise", Wave(low, high))):

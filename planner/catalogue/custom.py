@@ -9,6 +9,8 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 
+from planner.units import amps_from_milliamps, farads_from_picofarads
+
 from .types import (
     BASES,
     EQUATIONS,
@@ -48,14 +50,17 @@ TOP_KEYS = ("description", "kind", "base", "sections", "shared_cathode", "heater
 HEATER_KEYS = ("volts", "amps", "pins", "centre_tap", "series_volts", "series_amps")
 RATING_KEYS = ("max_plate_volts", "max_plate_watts", "max_plate_ma", "max_screen_volts",
                "max_screen_watts", "max_grid_ma", "max_heater_cathode_volts")
-CAP_KEYS = {"input": "c_in_pf", "output": "c_out_pf", "grid_plate": "c_gp_pf"}
+RATING_FIELDS = {**{key: key for key in RATING_KEYS}, "max_plate_ma": "max_plate_amps", "max_grid_ma": "max_grid_amps"}
+"""Key under ``ratings`` -> TubeType field (the file's mA are held in amperes)."""
+CAP_KEYS = {"input": "c_in_farads", "output": "c_out_farads", "grid_plate": "c_gp_farads"}
+"""Key under ``capacitance_pf`` (picofarads) -> TubeType field (farads)."""
 
 SOURCE_PATHS = {
     "base": "base", "sections": "sections",
     "shared_cathode": "shared_cathode", "heater_volts": "heater.volts",
     "heater_amps": "heater.amps", "heater_pins": "heater.pins",
     "heater_centre_tap_pin": "heater.centre_tap", "heater_series": "heater.series_volts",
-    **{k: f"ratings.{k}" for k in RATING_KEYS},
+    **{field: f"ratings.{key}" for key, field in RATING_FIELDS.items()},
     **{v: f"capacitance_pf.{k}" for k, v in CAP_KEYS.items()},
     "model": "model",
 }
@@ -219,13 +224,15 @@ def _ratings(data: Mapping, sections):
     _no_extra(ratings, RATING_KEYS, "ratings")
     has_screen = any("screen" in s.pins for s in sections)
     diodes = all(s.kind == "diode" for s in sections)
+    max_plate_ma = _number(ratings, "max_plate_ma", "ratings", required=diodes)
+    max_grid_ma = _number(ratings, "max_grid_ma", "ratings", required=False)
     values = {
         "max_plate_volts": _number(ratings, "max_plate_volts", "ratings"),
         "max_plate_watts": _number(ratings, "max_plate_watts", "ratings", required=not diodes),
-        "max_plate_ma": _number(ratings, "max_plate_ma", "ratings", required=diodes),
+        "max_plate_amps": None if max_plate_ma is None else amps_from_milliamps(max_plate_ma),
         "max_screen_volts": _number(ratings, "max_screen_volts", "ratings", required=False),
         "max_screen_watts": _number(ratings, "max_screen_watts", "ratings", required=has_screen),
-        "max_grid_ma": _number(ratings, "max_grid_ma", "ratings", required=False),
+        "max_grid_amps": None if max_grid_ma is None else amps_from_milliamps(max_grid_ma),
         "max_heater_cathode_volts": _number(ratings, "max_heater_cathode_volts", "ratings",
                                             required=False),
     }
@@ -242,8 +249,8 @@ def _capacitances(data: Mapping):
         return {v: None for v in CAP_KEYS.values()}
     caps = _mapping(caps, "capacitance_pf")
     _no_extra(caps, tuple(CAP_KEYS), "capacitance_pf")
-    return {v: _number(caps, k, "capacitance_pf", required=False, allow_zero=True)
-            for k, v in CAP_KEYS.items()}
+    picofarads = {v: _number(caps, k, "capacitance_pf", required=False, allow_zero=True) for k, v in CAP_KEYS.items()}
+    return {v: None if pf is None else farads_from_picofarads(pf) for v, pf in picofarads.items()}
 
 
 def _model(data: Mapping, kind: str) -> ModelParams:

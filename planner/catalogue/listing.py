@@ -4,7 +4,9 @@ from __future__ import annotations
 
 from collections import Counter
 
-from .custom import SOURCE_PATHS
+from planner.units import as_written, milliamps, picofarads
+
+from .custom import CAP_KEYS, RATING_FIELDS, RATING_KEYS, SOURCE_PATHS
 from .models import CUTOFF_AMPS, cutoff_grid_volts
 from .types import Catalogue, TubeType
 
@@ -90,6 +92,12 @@ def cutoff_figures(tube: TubeType, plate_volts: float) -> dict | None:
             "grid": cut(False), "grid3": cut(True) if tube.model.g3_zero_volts is not None else None}
 
 
+def _rating(tube: TubeType, key: str) -> float | None:
+    """The rating under its file key ``key``, in the file's unit (mA for currents), as written."""
+    value = getattr(tube, RATING_FIELDS[key])
+    return value if value is None or RATING_FIELDS[key] == key else as_written(milliamps(value))
+
+
 def tube_document(tube: TubeType, plate_volts: tuple[float, ...] = LISTING_PLATE_VOLTS) -> dict:
     """Every value of a type as plain JSON-ready data, with its sources keyed by field path.
 
@@ -108,10 +116,9 @@ def tube_document(tube: TubeType, plate_volts: tuple[float, ...] = LISTING_PLATE
                    "centre_tap": tube.heater_centre_tap_pin,
                    "series_volts": tube.heater_series[0] if tube.heater_series else None,
                    "series_amps": tube.heater_series[1] if tube.heater_series else None},
-        "ratings": {k: getattr(tube, k) for k in ("max_plate_volts", "max_plate_watts", "max_plate_ma",
-                                                  "max_screen_volts", "max_screen_watts", "max_grid_ma",
-                                                  "max_heater_cathode_volts")},
-        "capacitance_pf": {"input": tube.c_in_pf, "output": tube.c_out_pf, "grid_plate": tube.c_gp_pf},
+        "ratings": {key: _rating(tube, key) for key in RATING_KEYS},
+        "capacitance_pf": {key: None if getattr(tube, field) is None else as_written(picofarads(getattr(tube, field)))
+                           for key, field in CAP_KEYS.items()},
         "model": {k: v for k, v in vars(tube.model).items() if v is not None},
         "sources": {SOURCE_PATHS[k]: v for k, v in tube.sources.items()},
         "notes": list(tube.notes),

@@ -21,6 +21,8 @@ from __future__ import annotations
 
 import re
 
+from planner.units import as_written, picofarads
+
 from .models import G3_ROUNDING, G3_SATURATION_POWER
 from .types import ModelParams, TubeType
 
@@ -153,11 +155,11 @@ def spice_subcircuit(tube: TubeType, kind_or_means: str) -> str:
         lines.append(f"Bgk g k I={_num(m.grid_perveance)}*pow(min(max(v(g,k),0),1e4),1.5)")
     if kind == "dual-control" and m.grid_perveance is not None:
         lines.append(f"Bg3k g3 k I={_num(m.grid_perveance)}*pow(max(v(g3,k),0),1.5)")
-    caps = (("Cin", "g k" if kind != "diode" else "p k", tube.c_in_pf),
-            ("Cout", "p k", tube.c_out_pf),
-            ("Cgp", "g p", tube.c_gp_pf if kind != "diode" else None))
-    for label, nodes, pf in caps:
-        if pf:
-            lines.append(f"{label} {nodes} {_num(pf)}p")
+    caps = (("Cin", "g k" if kind != "diode" else "p k", tube.c_in_farads),
+            ("Cout", "p k", tube.c_out_farads),
+            ("Cgp", "g p", tube.c_gp_farads if kind != "diode" else None))
+    for label, nodes, farads in caps:
+        if farads:
+            lines.append(f"{label} {nodes} {_num(as_written(picofarads(farads)))}p")
     lines.append(f".ends {subcircuit_name(tube, kind)}")
     return "\n".join(lines) + "\n"

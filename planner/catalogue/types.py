@@ -2,7 +2,8 @@
 
 Everything here is data: a tube type, its sections, its model parameters and
 the source of every value. Units are in the field names (``heater_volts``,
-``max_plate_watts``, ``c_in_pf``).
+``max_plate_watts``, ``c_in_farads``), in SI units (the catalogue format's mA and pF are
+converted where a type is read, :mod:`planner.units`).
 """
 
 from __future__ import annotations
@@ -136,7 +137,7 @@ class TubeType:
     centre-tapped heater) connection across ``heater_pins``;
     ``heater_series`` is (volts, amps) for the other connection of a
     centre-tapped heater, whose tap is ``heater_centre_tap_pin``.
-    Ratings are per section; a diode type gives ``max_plate_ma`` (average
+    Ratings are per section; a diode type gives ``max_plate_amps`` (average
     current per plate) and may leave ``max_plate_watts`` None. ``sources`` maps each field name of this class
     to the datasheet or handbook it was read from, or "from memory".
     ``notes``: where sources disagree, which value the type keeps for
@@ -155,14 +156,14 @@ class TubeType:
     shared_cathode: bool
     max_plate_volts: float
     max_plate_watts: float | None
-    max_plate_ma: float | None
+    max_plate_amps: float | None
     max_screen_volts: float | None
     max_screen_watts: float | None
-    max_grid_ma: float | None
+    max_grid_amps: float | None
     max_heater_cathode_volts: float | None
-    c_in_pf: float | None
-    c_out_pf: float | None
-    c_gp_pf: float | None
+    c_in_farads: float | None
+    c_out_farads: float | None
+    c_gp_farads: float | None
     model: ModelParams
     sources: Mapping[str, str] = field(default_factory=FrozenMap)
     notes: tuple[str, ...] = ()

@@ -20,7 +20,7 @@ Public API:
   ``Steering`` for a register steered by its own outputs),
   ``is_dual_triode``, ``RESET_PULLUP_OHMS``
 - timing: ``Wave``, ``Edge``, ``InverterTiming``, ``inverter_edge``, ``follower_edge``,
-  ``WIRING_PF``, ``DIODE_PF``; corners ``TimingCorner``, ``NOMINAL_CORNER``,
+  ``WIRING_FARADS``, ``DIODE_FARADS``; corners ``TimingCorner``, ``NOMINAL_CORNER``,
   ``slow_corner(rules)``, ``ESTIMATE_TOLERANCE``
 
 See docs/electrical.md for the circuits, the worst-case method and the
@@ -39,12 +39,12 @@ from .parts import Driver, Family, Follower, FollowerTemplate, NoTemplate, Recei
 from .roots import brent_root
 from .rules import DIODE_DROP_VOLTS, DesignRules, Rails
 from .template import design_template
-from .timing import (DIODE_PF, ESTIMATE_TOLERANCE, NOMINAL_CORNER, WIRING_PF, Edge, InverterTiming, TimingCorner, Wave,
-                     follower_edge, inverter_edge, slow_corner)
+from .timing import (DIODE_FARADS, ESTIMATE_TOLERANCE, NOMINAL_CORNER, WIRING_FARADS, Edge, InverterTiming,
+                     TimingCorner, Wave, follower_edge, inverter_edge, slow_corner)
 
 __all__ = [
-    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_DROP_VOLTS", "DIODE_PF", "ESTIMATE_TOLERANCE", "HOLD_FACTOR",
-    "NOMINAL_CORNER", "RESET_PULLUP_OHMS", "TimingCorner", "WIRING_PF", "slow_corner",
+    "CAPACITOR_TOLERANCE", "CLOCK_TOLERANCE", "DIODE_DROP_VOLTS", "DIODE_FARADS", "ESTIMATE_TOLERANCE", "HOLD_FACTOR",
+    "NOMINAL_CORNER", "RESET_PULLUP_OHMS", "TimingCorner", "WIRING_FARADS", "slow_corner",
     "Bistable", "Edge", "InverterTiming", "Steering", "Wave", "design_bistable", "design_bistables", "flip_edges",
     "follower_edge", "inverter_edge", "is_dual_triode",
     "DesignRules", "Driver", "Family", "Follower", "FollowerTemplate", "Load", "ScreenFeed", "NoTemplate",

@@ -62,7 +62,7 @@ from .eseries import nearest_values, resistor_rating_watts, series_values
 from .parts import Family, Shortfall
 from .rules import DIODE_DROP_VOLTS
 from .roots import brent_root
-from .timing import DIODE_PF, WIRING_PF, Edge, InverterTiming, Wave, inverter_edge, threshold_grid_volts
+from .timing import DIODE_FARADS, WIRING_FARADS, Edge, InverterTiming, Wave, inverter_edge, threshold_grid_volts
 
 #: The clock generator's falling step must stay within this fraction of its nominal swing (the plan
 #: states the nominal and the window it must keep to).
@@ -73,7 +73,7 @@ CAPACITOR_TOLERANCE = 0.10
 #: (the flip estimate stops at the outputs' midpoint crossings; the rest of the swing follows).
 HOLD_FACTOR = 2.0
 #: Steering capacitors tried: E12 values from 10 pF to 1 nF.
-STEERING_PF = series_values("E12", 10.0, 1000.0)
+STEERING_FARADS = series_values("E12", 10e-12, 1e-9)
 #: The plan's reset line pull-up (to B+); a reset contact to BIAS then carries the B+ to BIAS span over it.
 RESET_PULLUP_OHMS = 1e6
 
@@ -94,9 +94,9 @@ class Bistable:
     rising edge's kick); ``flip_seconds`` the estimated flip with the
     family's worst loading (the plan times its own loads). Diodes must stand
     ``diode_reverse_volts`` and capacitors ``capacitor_volts``.
-    ``bias_ma_worst``: what both dividers return to the bias supply, or, while
-    a reset is held, what a reset diode carries. ``steering_node_pf`` and
-    ``grid_node_pf``: the steering node's and a grid's capacitance (wiring and
+    ``bias_amps_worst``: what both dividers return to the bias supply, or, while
+    a reset is held, what a reset diode carries. ``steering_node_farads`` and
+    ``grid_node_farads``: the steering node's and a grid's capacitance (wiring and
     diodes included; a grid's without its commutating capacitor).
     """
 
@@ -107,14 +107,14 @@ class Bistable:
     lower_ohms: float
     upper_watts: float
     lower_watts: float
-    commutating_pf: float
-    steering_pf: float
+    commutating_farads: float
+    steering_farads: float
     steering_ohms: float
     steering_watts: float
     fanout_limit: int
-    supply_ma_worst: float
-    supply_ma_typical: float
-    bias_ma_worst: float
+    supply_amps_worst: float
+    supply_amps_typical: float
+    bias_amps_worst: float
     section_watts_worst: float
     high_volts: float
     low_volts: float
@@ -130,8 +130,8 @@ class Bistable:
     recovery_seconds: float
     diode_reverse_volts: float
     capacitor_volts: float
-    steering_node_pf: float
-    grid_node_pf: float
+    steering_node_farads: float
+    grid_node_farads: float
 
 
 def is_dual_triode(tube: TubeType) -> bool:
@@ -140,9 +140,9 @@ def is_dual_triode(tube: TubeType) -> bool:
     return len(sections) == 2 and all(s.kind == "triode" for s in sections)
 
 
-def _nearest_e12(pf: float) -> float:
-    below, above = nearest_values(pf, "E12")
-    return below if pf * pf <= below * above else above
+def _nearest_e12(farads: float) -> float:
+    below, above = nearest_values(farads, "E12")
+    return below if farads * farads <= below * above else above
 
 
 def _low_output_ohms(family: Family, types) -> float:
@@ -166,7 +166,7 @@ def _low_output_ohms(family: Family, types) -> float:
 
 def _heavy_load(family: Family, types, bias_volts: float) -> Load:
     """The family's heaviest receiver (most current at the high level) at nominal values."""
-    heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
+    heavy = max(family.receivers.values(), key=lambda r: (r.load_amps_high, r.tube, r.grid_role))
     return Load(heavy.upper_ohms, heavy.lower_ohms, bias_volts, types[heavy.tube])
 
 
@@ -291,7 +291,7 @@ def flip_edges(tube: TubeType, wear: float, supply_volts: float, plate_load_ohms
         up = Wave(low, high, "exponential", tau)
         drive = up
     else:
-        c_grid = grid_farads + (tube.c_gp_pf or 0.0) * 1e-12
+        c_grid = grid_farads + (tube.c_gp_farads or 0.0)
         plate, _, tau_slow = _steered_rise(supply_volts, plate_load_ohms, divider, rising_loads, rising_farads,
                                            c_grid, commutating_farads, falling_farads, low, high, steering)
         t_rise = _crossing(plate, mid_volts, tau_slow)
@@ -345,19 +345,19 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     margin, cutoff, g_on = rules.margin_volts, ctx.cutoff_volts("grid"), ctx.grid_high_max_volts
     high, low = family.high_min_volts, family.follower_low_max_volts
     _, drop_hi = DIODE_DROP_VOLTS["solid-state"]
-    c_in, c_gp = (tube.c_in_pf or 0.0), (tube.c_gp_pf or 0.0)
-    grid_static = c_in + c_gp + WIRING_PF + DIODE_PF
+    c_in, c_gp = (tube.c_in_farads or 0.0), (tube.c_gp_farads or 0.0)
+    grid_static = c_in + c_gp + WIRING_FARADS + DIODE_FARADS
     commutating = _nearest_e12(grid_static * rec.lower_ohms / rec.upper_ohms)
     # Largest grid-node capacitance the pulse must move at the edge: the reset diode too, and the
     # commutating capacitor in series with the other plate's node (at least its output capacitance,
     # the wiring and the grid-plate capacitance).
     c_cc = commutating * (1 + CAPACITOR_TOLERANCE)
-    plate_node = (tube.c_out_pf or 0.0) + WIRING_PF + c_gp
-    grid_max = grid_static + DIODE_PF + c_cc * plate_node / (c_cc + plate_node)
+    plate_node = (tube.c_out_farads or 0.0) + WIRING_FARADS + c_gp
+    grid_max = grid_static + DIODE_FARADS + c_cc * plate_node / (c_cc + plate_node)
     # Then the cut-off section's plate swings up and lifts the grid through the grid-plate capacitance.
     miller_charge = c_gp * (box.vb(+1) - driver.low_volts)
-    node_x = WIRING_PF + DIODE_PF
-    heavy_amps = max(r.load_ma_high for r in family.receivers.values()) / 1e3
+    node_x = WIRING_FARADS + DIODE_FARADS
+    heavy_amps = max(r.load_amps_high for r in family.receivers.values())
     kick_ohms = _low_output_ohms(family, types)
     r_grid = 1.0 / (1.0 / box.r(rec.upper_ohms, -1) + 1.0 / box.r(rec.lower_ohms, -1))
     # Where the steered grid recovers to: the divider's highest tap from the other plate at its highest
@@ -369,7 +369,7 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     tap_max, _ = thevenin(div_hi, top)
     flip = _design_flip_seconds(family, types, rec, ctx, driver, fanout, commutating, grid_static)
     best = None
-    for cs in STEERING_PF:
+    for cs in STEERING_FARADS:
         result = _steering(cs, node_x, grid_max, grid_static, miller_charge, high, low, g_on, margin, drop_hi,
                            cutoff, heavy_amps, kick_ohms, r_grid, tap_max, flip, box, swing_volts)
         if result is not None and (best is None or result[0] < best[0]):
@@ -387,20 +387,20 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     if steering_watts is None:
         return Shortfall("resistor watts", 0.0, "W", f"the {name} steering resistor needs more than a 2 W rating")
     span = box.vb(+1) - box.vc(+1)
-    reset_ma = span / box.r(rec.upper_ohms, -1) * 1e3  # a reset diode carries its divider's current
+    reset_amps = span / box.r(rec.upper_ohms, -1)  # a reset diode carries its divider's current
     return Bistable(
         tube=name, plate_load_ohms=driver.plate_load_ohms, plate_load_watts=driver.plate_load_watts,
         upper_ohms=rec.upper_ohms, lower_ohms=rec.lower_ohms, upper_watts=rec.upper_watts,
-        lower_watts=rec.lower_watts, commutating_pf=commutating, steering_pf=cs, steering_ohms=rs,
+        lower_watts=rec.lower_watts, commutating_farads=commutating, steering_farads=cs, steering_ohms=rs,
         steering_watts=steering_watts, fanout_limit=fanout,
-        supply_ma_worst=driver.supply_ma_worst + (box.vb(+1) - high) / box.r(driver.plate_load_ohms, -1) * 1e3,
-        supply_ma_typical=2 * driver.supply_ma_typical, bias_ma_worst=2 * max(rec.bias_ma_worst, reset_ma),
+        supply_amps_worst=driver.supply_amps_worst + (box.vb(+1) - high) / box.r(driver.plate_load_ohms, -1),
+        supply_amps_typical=2 * driver.supply_amps_typical, bias_amps_worst=2 * max(rec.bias_amps_worst, reset_amps),
         section_watts_worst=driver.section_watts_worst, high_volts=driver.high_volts, low_volts=driver.low_volts,
         cutoff_volts=cutoff, grid_pulse_volts=pulse, pulse_hold_seconds=hold, flip_seconds=flip,
         clock_swing_volts=swing, clock_swing_min_volts=swing_min, clock_swing_max_volts=swing_max,
         clock_tolerance=CLOCK_TOLERANCE, setup_seconds=setup, recovery_seconds=recovery,
         diode_reverse_volts=box.vb(+1) + kick - box.vc(+1), capacitor_volts=span + swing_max,
-        steering_node_pf=node_x, grid_node_pf=grid_static)
+        steering_node_farads=node_x, grid_node_farads=grid_static)
 
 
 def _design_flip_seconds(family: Family, types, rec, ctx: TubeContext, driver, fanout: int, commutating: float,
@@ -411,10 +411,10 @@ def _design_flip_seconds(family: Family, types, rec, ctx: TubeContext, driver, f
     own = Load(rec.upper_ohms, rec.lower_ohms, box.vc(0), tube)
     loads = ((1, own), (fanout, _heavy_load(family, types, box.vc(0))))
     c_series = commutating * grid_static / (commutating + grid_static)
-    farads = ((tube.c_out_pf or 0.0) + WIRING_PF + c_series) * 1e-12
+    farads = (tube.c_out_farads or 0.0) + WIRING_FARADS + c_series
     mid = 0.5 * (family.high_min_volts + family.low_max_volts)
-    up, down = flip_edges(tube, ctx.wear, box.vb(0), driver.plate_load_ohms, own, commutating * 1e-12,
-                          grid_static * 1e-12, loads, loads, farads, farads, mid)
+    up, down = flip_edges(tube, ctx.wear, box.vb(0), driver.plate_load_ohms, own, commutating,
+                          grid_static, loads, loads, farads, farads, mid)
     return max(up.seconds, down.seconds)
 
 
@@ -448,7 +448,7 @@ def _steering(cs, node_x, grid_max, grid_min, miller_charge, high, low, g_on, ma
             break
     if rs is None:
         return None
-    tau_pulse = (cs_lo + node_x + grid_min) * 1e-12 / (1.0 / r_grid + 1.0 / box.r(rs, -1))
+    tau_pulse = (cs_lo + node_x + grid_min) / (1.0 / r_grid + 1.0 / box.r(rs, -1))
     target = (tap_max / r_grid + low / box.r(rs, -1)) / (1.0 / r_grid + 1.0 / box.r(rs, -1))
     hold_need = HOLD_FACTOR * flip
     hold_level = target - (target - cutoff) * math.exp(hold_need / tau_pulse)
@@ -468,7 +468,7 @@ def _steering(cs, node_x, grid_max, grid_min, miller_charge, high, low, g_on, ma
         return None
     reached = g_on - (swing * (1 - tol) - first) * share  # the weakest pulse the clock may give
     hold = tau_pulse * math.log((target - reached - lift) / (target - cutoff))
-    tau_s = box.r(rs, +1) * (cs_hi + node_x) * 1e-12
+    tau_s = box.r(rs, +1) * (cs_hi + node_x)
     # Half the spare for the level input's settling, half for the last edge's kick.
     setup = tau_s * math.log(box.vb(+1) / (0.5 * spare))
     recovery = tau_s * math.log(k_max * swing * (1 + tol) / (0.5 * spare))

@@ -87,7 +87,7 @@ class TubeContext:
         self.means = tuple(means)
         self.follower_capable = tube.model.equation in ("koren-triode", "child-langmuir") and any(
             s.kind == "triode" for s in tube.sections)
-        self.max_grid_amps = (tube.max_grid_ma if tube.max_grid_ma is not None else rules.max_grid_ma) / 1e3
+        self.max_grid_amps = tube.max_grid_amps if tube.max_grid_amps is not None else rules.max_grid_amps
 
     @property
     def name(self) -> str:

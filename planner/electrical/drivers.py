@@ -103,10 +103,10 @@ class _Option:
         self.nominal_on = ctx.section(0.0, 0.0, 1.0, feed, 0)
         self.nominal_off = ctx.section(off_grids[0][0], off_grids[0][1], 1.0, feed, 0)
         if feed is None:
-            self.screen_ma = 0.0
+            self.screen_amps = 0.0
         else:
             _, i_s, vs = section_amps(self.nominal_on, box.vb(0), low_volts)
-            self.screen_ma = (i_s + (vs / feed.shunt_ohms if feed.shunt_ohms else 0.0)) * 1e3
+            self.screen_amps = i_s + (vs / feed.shunt_ohms if feed.shunt_ohms else 0.0)
         self.min_rl_index: int | None = None
 
 
@@ -185,7 +185,7 @@ def design_driver(ctx: TubeContext, means: str, low_volts: float, high_volts: fl
                 if high_fails is None or rl < values[high_fails[1]]:
                     high_fails = (oi, ri)
                 break  # fan-out only falls as RL rises
-            proxy = (box.vb(0) - low_volts) / rl * 1e3 + opt.screen_ma
+            proxy = (box.vb(0) - low_volts) / rl + opt.screen_amps
             candidates.append((-min(fanout, goal), proxy, -fanout, rl, oi, ri))
         else:
             if rl_need > values[-1] and (low_fails is None or rl_need < low_fails[0]):
@@ -272,8 +272,8 @@ def _verify(ctx: TubeContext, means: str, opt: _Option, values, ri: int, fanout:
     o = opt.option
     return Driver(
         tube=tube.name, means=means, plate_load_ohms=rl, plate_load_watts=rating, fanout_limit=fanout,
-        supply_ma_worst=supply_low * 1e3, supply_ma_typical=typical * 1e3,
-        branch_supply_ma_worst=branch_supply * 1e3,
+        supply_amps_worst=supply_low, supply_amps_typical=typical,
+        branch_supply_amps_worst=branch_supply,
         section_watts_worst=section_w, screen_watts_worst=o.screen_watts_worst if o else None,
         screen_series_ohms=o.feed.series_ohms if o else None, screen_series_watts=o.series_watts if o else None,
         screen_shunt_ohms=o.feed.shunt_ohms if o else None, screen_shunt_watts=o.shunt_watts if o else None,

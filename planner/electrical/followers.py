@@ -22,6 +22,7 @@ from __future__ import annotations
 import math
 
 from planner.catalogue import plate_current_amps
+from planner.units import milliamps
 
 from .circuit import follower_cathode_volts, follower_on_node, load_amps
 from .context import TubeContext
@@ -130,9 +131,9 @@ def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_
         if grid_amps <= ctx.max_grid_amps:
             break
     else:
-        excess = (grid_amps - ctx.max_grid_amps) * 1e3
+        excess = milliamps(grid_amps - ctx.max_grid_amps)
         return Shortfall("grid current", excess, "mA",
-                         f"the follower's grid would draw {grid_amps * 1e3:.2f} mA even behind "
+                         f"the follower's grid would draw {milliamps(grid_amps):.2f} mA even behind "
                          f"{STOPPER_OHMS[-1] / 1e3:g} kOhm")
     # Highest cathode: new tube, no loads, Rk high, bias least negative.
     _, vk_max, _ = follower_on_node(tube, 1.0, vb_hi, node, rk_hi, vc_least, ())
@@ -161,9 +162,9 @@ def _verify(ctx: TubeContext, rk: float, fanout: int, high_volts: float, accept_
         typical += 0.5 * plate_current_amps(tube, plate_volts=vn - k, grid_volts=grid - k)
     return Follower(
         tube=tube.name, cathode_load_ohms=rk, cathode_load_watts=rk_watts, fanout_limit=fanout,
-        supply_ma_worst=supply * 1e3, supply_ma_typical=typical * 1e3,
-        bias_ma_worst=(vk_max - vc_most) / rk_lo * 1e3, section_watts_worst=watts,
-        grid_ma_worst=grid_amps * 1e3, grid_stopper_ohms=stopper, cathode_volts_max=vk_max,
+        supply_amps_worst=supply, supply_amps_typical=typical,
+        bias_amps_worst=(vk_max - vc_most) / rk_lo, section_watts_worst=watts,
+        grid_amps_worst=grid_amps, grid_stopper_ohms=stopper, cathode_volts_max=vk_max,
         high_volts=high, low_volts=low, cathode_volts_min=vk_min,
         elevations=tuple(e for e in elevations if heater_cathode_excess(tube, e, vk_min, vk_max) <= 0))
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from planner.units import milliamps, picofarads
+
 from .parts import Shortfall, Template
 
 CAUTION = ("CAUTION: the plate supply of these stages is high voltage and can kill; switch off and "
@@ -50,8 +52,8 @@ def format_template(t: Template) -> str:
                 f"upper, {ohms_text(rec.lower_ohms)} {watts_text(rec.lower_watts)} lower to bias")
         if rec.pullup_ohms is not None:
             text += f"; gate pull-up {ohms_text(rec.pullup_ohms)} {watts_text(rec.pullup_watts)} to B+"
-        if rec.speedup_pf is not None:
-            text += f"; {rec.speedup_pf:g} pF across the upper"
+        if rec.speedup_farads is not None:
+            text += f"; {picofarads(rec.speedup_farads):g} pF across the upper"
         lines.append(text)
     lines += [
         "",
@@ -62,7 +64,8 @@ def format_template(t: Template) -> str:
         f"  cut-off          {t.cutoff_volts:+.1f} V at a load's grid (10 uA) with the plate at the highest "
         f"supply, {t.rails.plate_volts * (1 + r.supply_tolerance):g} V"
         + (f" ({r.unsourced_allowance:.0%} deeper: {t.tube}'s data are from memory)" if t.from_memory else ""),
-        f"  plate supply     {d.supply_ma_worst:.2f} mA worst, {d.supply_ma_typical:.2f} mA typical per stage",
+        f"  plate supply     {milliamps(d.supply_amps_worst):.2f} mA worst, "
+        f"{milliamps(d.supply_amps_typical):.2f} mA typical per stage",
         f"  section          {d.section_watts_worst:.2f} W worst"
         + (f", screen {d.screen_watts_worst:.2f} W" if d.screen_watts_worst is not None else ""),
     ]

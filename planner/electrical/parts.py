@@ -1,7 +1,7 @@
 """Frozen results of the electrical design: receivers, drivers, followers, families, templates.
 
 All voltages are to ground; "worst" figures are over the whole tolerance box
-(resistors, supplies, tube wear). Currents in mA, power in W, resistance in ohms.
+(resistors, supplies, tube wear). SI units: currents in A, power in W, resistance in ohms.
 """
 
 from __future__ import annotations
@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 
 from planner.catalogue import FrozenMap
 from planner.errors import PlanningFailure
+from planner.units import milliamps
 
 from .rules import DesignRules, Rails
 
@@ -46,12 +47,12 @@ class Receiver:
     input); ``margin_high_volts``: how far above 0 V the divider would take
     the grid for the lowest high input if the grid did not clamp;
     ``margin_low_volts``: how far below cut-off the highest low input puts it.
-    ``load_ma_high``: the most current it draws from a node at the family's
-    lowest high level; ``inject_ma_low``: the most it pushes into a node at
-    the highest low level (diode inputs; 0 otherwise); ``bias_ma_worst``:
-    the most it returns to the bias supply; ``grid_ma_worst``: the most
+    ``load_amps_high``: the most current it draws from a node at the family's
+    lowest high level; ``inject_amps_low``: the most it pushes into a node at
+    the highest low level (diode inputs; 0 otherwise); ``bias_amps_worst``:
+    the most it returns to the bias supply; ``grid_amps_worst``: the most
     clamp current into its grid.
-    ``speedup_pf``: capacitor across the upper resistor (compensated
+    ``speedup_farads``: capacitor across the upper resistor (compensated
     divider), when the rules ask for one.
     """
 
@@ -66,13 +67,13 @@ class Receiver:
     cutoff_volts: float
     margin_high_volts: float
     margin_low_volts: float
-    bias_ma_worst: float
-    load_ma_high: float
-    grid_ma_worst: float
-    inject_ma_low: float = 0.0
+    bias_amps_worst: float
+    load_amps_high: float
+    grid_amps_worst: float
+    inject_amps_low: float = 0.0
     pullup_ohms: float | None = None
     pullup_watts: float | None = None
-    speedup_pf: float | None = None
+    speedup_farads: float | None = None
 
 
 @dataclass(frozen=True)
@@ -82,11 +83,11 @@ class Driver:
     ``fanout_limit``: loads (of the family's heaviest receiver) it drives
     while meeting the family levels. ``high_volts``: worst high level at
     that fan-out; ``low_volts``: worst low level with one (lightest) load.
-    ``supply_ma_worst``: most plate-supply current of a one-branch stage
+    ``supply_amps_worst``: most plate-supply current of a one-branch stage
     (plate load and the conducting section's screen feed, output low with
     ``fanout_limit`` heavy loads); each further branch adds up to
-    ``branch_supply_ma_worst`` (its screen feed while cut off: the bleeder
-    current, 0 for triodes); ``supply_ma_typical``: nominal values, new tube,
+    ``branch_supply_amps_worst`` (its screen feed while cut off: the bleeder
+    current, 0 for triodes); ``supply_amps_typical``: nominal values, new tube,
     one load, mean of the two output states (50 % duty).
     ``section_watts_worst`` / ``screen_watts_worst``: dissipation of the
     conducting section. Screen feed: ``screen_series_ohms`` from B+ and
@@ -98,9 +99,9 @@ class Driver:
     plate_load_ohms: float
     plate_load_watts: float
     fanout_limit: int
-    supply_ma_worst: float
-    supply_ma_typical: float
-    branch_supply_ma_worst: float
+    supply_amps_worst: float
+    supply_amps_typical: float
+    branch_supply_amps_worst: float
     section_watts_worst: float
     screen_watts_worst: float | None
     screen_series_ohms: float | None
@@ -131,11 +132,11 @@ class Follower:
     cathode_load_ohms: float
     cathode_load_watts: float
     fanout_limit: int
-    supply_ma_worst: float
-    supply_ma_typical: float
-    bias_ma_worst: float
+    supply_amps_worst: float
+    supply_amps_typical: float
+    bias_amps_worst: float
     section_watts_worst: float
-    grid_ma_worst: float
+    grid_amps_worst: float
     grid_stopper_ohms: float
     cathode_volts_max: float
     high_volts: float
@@ -273,8 +274,8 @@ class Template:
                      "cutoff_plate_volts": self.rails.plate_volts * (1 + self.rules.supply_tolerance)},
             "from_memory": self.from_memory,
             "margins": {"high_volts": self.margin_high_volts, "low_volts": self.margin_low_volts},
-            "supply_ma_worst": d.supply_ma_worst,
-            "supply_ma_typical": d.supply_ma_typical,
+            "supply_ma_worst": milliamps(d.supply_amps_worst),
+            "supply_ma_typical": milliamps(d.supply_amps_typical),
             "section_watts_worst": d.section_watts_worst,
             "screen_watts_worst": d.screen_watts_worst,
             "follower": _follower_json(self.follower),

@@ -33,6 +33,8 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from planner.units import milliamps
+
 from .circuit import Load, clamp_grid_volts, load_amps, thevenin
 from .context import TubeContext
 from .eseries import nearest_values, resistor_rating_watts
@@ -154,7 +156,7 @@ def design_receiver(ctx: TubeContext, role: str, low_volts: float, high_volts: f
                 last_problem = result
                 continue
             first_r1 = first_r1 or r1
-            found.append((result.load_ma_high, -min(result.margin_high_volts,
+            found.append((result.load_amps_high, -min(result.margin_high_volts,
                                                     result.margin_low_volts - rules.margin_volts), result))
     if not found:
         return last_problem or Shortfall("E-series step", 0.0, "ohm",
@@ -188,7 +190,7 @@ def _with_pullup(ctx: TubeContext, rec: Receiver, low_volts: float, high_volts: 
     rec = replace(rec, pullup_ohms=pull, pullup_watts=watts)
     pushed = -load_amps(light_load(ctx, rec), low_volts)
     drawn = load_amps(heavy_load(ctx, rec), high_volts)
-    return replace(rec, load_ma_high=max(drawn, 0.0) * 1e3, inject_ma_low=max(pushed, 0.0) * 1e3)
+    return replace(rec, load_amps_high=max(drawn, 0.0), inject_amps_low=max(pushed, 0.0))
 
 
 def _check(ctx: TubeContext, role: str, r1: float, r2: float, low: float, high: float,
@@ -213,27 +215,27 @@ def _check(ctx: TubeContext, role: str, r1: float, r2: float, low: float, high: 
     vg_top = clamp_grid_volts(tube, vt, rth)
     grid_amps = (vt - vg_top) / rth
     if grid_amps > ctx.max_grid_amps:
-        excess = (grid_amps - ctx.max_grid_amps) * 1e3
-        return Shortfall("grid current", excess, "mA", f"clamp current exceeds {ctx.max_grid_amps * 1e3:g} mA")
+        excess = milliamps(grid_amps - ctx.max_grid_amps)
+        return Shortfall("grid current", excess, "mA", f"clamp current exceeds {milliamps(ctx.max_grid_amps):g} mA")
     # Resistor watts: the upper resistor carries at most the whole supply (grid clamped at 0 V or above).
     lower_v = vg_top + vc_most
     upper_w = resistor_rating_watts(vb**2 / box.r(r1, -1))
     lower_w = resistor_rating_watts(lower_v**2 / box.r(r2, -1))
     if upper_w is None or lower_w is None:
         return Shortfall("resistor watts", 0.0, "W", "a divider resistor needs more than a 2 W rating")
-    load_ma = load_amps(Load(box.r(r1, -1), box.r(r2, -1), box.vc(+1), tube), high) * 1e3
+    load = load_amps(Load(box.r(r1, -1), box.r(r2, -1), box.vc(+1), tube), high)
     speedup = None
-    if rules.speedup_caps and tube.c_in_pf:
-        speedup = _nearest_e12(tube.c_in_pf * r2 / r1)
+    if rules.speedup_caps and tube.c_in_farads:
+        speedup = _nearest_e12(tube.c_in_farads * r2 / r1)
     return Receiver(
         tube=tube.name, grid_role=role, upper_ohms=r1, lower_ohms=r2, upper_watts=upper_w, lower_watts=lower_w,
         grid_high_volts=grid_high, grid_low_volts=grid_low, cutoff_volts=cutoff,
         margin_high_volts=tap_hi, margin_low_volts=margin_low,
-        bias_ma_worst=lower_v / box.r(r2, -1) * 1e3, load_ma_high=load_ma, grid_ma_worst=grid_amps * 1e3,
-        speedup_pf=speedup)
+        bias_amps_worst=lower_v / box.r(r2, -1), load_amps_high=load, grid_amps_worst=grid_amps,
+        speedup_farads=speedup)
 
 
-def _nearest_e12(pf: float) -> float:
-    """The E12 value nearest ``pf`` on a log scale (a compensated divider: R1*C1 = R2*Cin)."""
-    below, above = nearest_values(pf, "E12")
-    return below if pf * pf <= below * above else above
+def _nearest_e12(farads: float) -> float:
+    """The E12 value nearest ``farads`` on a log scale (a compensated divider: R1*C1 = R2*Cin)."""
+    below, above = nearest_values(farads, "E12")
+    return below if farads * farads <= below * above else above

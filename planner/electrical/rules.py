@@ -48,7 +48,7 @@ class DesignRules:
     ``diodes``: kind of AND-gate diode ("solid-state", "vacuum" or "none").
     ``max_grid_circuit_ohms``: most DC resistance from a grid to its return
     (datasheets cap it for fixed bias at 0.1-1 MOhm, from memory).
-    ``max_grid_ma``: cap on positive-grid (clamp) current for types whose
+    ``max_grid_amps``: cap on positive-grid (clamp) current for types whose
     data give no rating (common practice: a fraction of a milliampere for
     small receiving tubes).
     ``max_branches``: most sections on one plate node; their cut-off leakage
@@ -75,7 +75,7 @@ class DesignRules:
     speedup_caps: bool = False
     diodes: str = "solid-state"
     max_grid_circuit_ohms: float = 470e3
-    max_grid_ma: float = 0.5
+    max_grid_amps: float = 0.5e-3
     max_branches: int = 4
     fanout_goal: int = 10
     max_plate_load_ohms: float = 1e6
@@ -95,8 +95,8 @@ class DesignRules:
             raise ValueError("margin_volts must not be negative")
         if self.diodes not in DIODE_KINDS:
             raise ValueError(f"diodes must be one of {', '.join(DIODE_KINDS)}, got {self.diodes!r}")
-        if not self.max_grid_ma > 0 or not self.max_grid_circuit_ohms > 0:
-            raise ValueError("max_grid_ma and max_grid_circuit_ohms must be positive")
+        if not self.max_grid_amps > 0 or not self.max_grid_circuit_ohms > 0:
+            raise ValueError("max_grid_amps and max_grid_circuit_ohms must be positive")
         if self.max_branches < 1 or self.fanout_goal < 1:
             raise ValueError("max_branches and fanout_goal must be at least 1")
         if not 0 <= self.unsourced_allowance < 0.5:

@@ -40,6 +40,7 @@ import math
 from dataclasses import dataclass, replace
 
 from planner.catalogue import TubeType, plate_current_amps
+from planner.units import picofarads
 
 from .circuit import (Load, ScreenFeed, SectionState, follower_cathode_volts, load_state, section_amps,
                       solve_plate, thevenin)
@@ -47,10 +48,10 @@ from .roots import NoBracket, brent_root
 
 #: Wiring allowance per node: sockets, point-to-point wires and resistor bodies add about
 #: 10 pF to a node of a chassis-built circuit (common practice).
-WIRING_PF = 10.0
+WIRING_FARADS = 10e-12
 #: Capacitance of a small silicon signal diode at 0 V, about 4 pF (from memory, 1N4148-class
 #: data sheets); taken for every steering, reset and AND-gate diode.
-DIODE_PF = 4.0
+DIODE_FARADS = 4e-12
 
 #: How far the closed-form estimate may fall short of a transient simulation of the same circuit:
 #: tests/test_timing_ngspice.py holds it within 25 % of ngspice, so a worst-case bound is the
@@ -92,7 +93,7 @@ class TimingCorner:
             return tube
         f = self.farads_scale
         return replace(tube, **{k: None if getattr(tube, k) is None else getattr(tube, k) * f
-                                for k in ("c_in_pf", "c_out_pf", "c_gp_pf")})
+                                for k in ("c_in_farads", "c_out_farads", "c_gp_farads")})
 
     def load(self, load: Load) -> Load:
         """A load (divider, diode input) at this corner."""
@@ -116,16 +117,16 @@ class TimingCorner:
                        loads=tuple((n, self.load(ld)) for n, ld in stage.loads), plate_farads=stage.plate_farads * f,
                        grid_farads=stage.grid_farads * f, feed=feed, speedup_farads=stage.speedup_farads * f)
 
-    def description(self, wiring_pf: float) -> str:
+    def description(self, wiring_farads: float) -> str:
         """The corner in words."""
         if self.name == "nominal":
             return (f"nominal resistors and supplies, each tube type at its stock condition, the catalogue's "
-                    f"capacitances and {wiring_pf:g} pF of wiring per node (common practice)")
+                    f"capacitances and {picofarads(wiring_farads):g} pF of wiring per node (common practice)")
         return (f"the slow corner: every resistor {100 * (self.ohms_scale - 1):+.0f} %, supplies "
                 f"{100 * (self.supply_scale - 1):+.0f} %, each tube type at its stock condition (types with "
                 f"models from memory {100 * self.unsourced_allowance:.0f} % weaker), capacitances and "
-                f"{wiring_pf:g} pF of wiring per node {100 * (self.farads_scale - 1):+.0f} %; the estimate "
-                f"there times {self.bound_factor:g} (its tolerance against ngspice)")
+                f"{picofarads(wiring_farads):g} pF of wiring per node {100 * (self.farads_scale - 1):+.0f} %; "
+                f"the estimate there times {self.bound_factor:g} (its tolerance against ngspice)")
 
 
 NOMINAL_CORNER = TimingCorner("nominal")
@@ -350,7 +351,7 @@ def grid_times(stage: InverterTiming, drive: Wave, threshold_volts: float) -> tu
     g0 = load_state(div, drive.from_volts).grid_volts
     tap_from, r_th = thevenin(div, drive.from_volts)
     tap_to, _ = thevenin(div, drive.to_volts)
-    c_grid = stage.grid_farads + (stage.tube.c_gp_pf or 0.0) * 1e-12
+    c_grid = stage.grid_farads + (stage.tube.c_gp_farads or 0.0)
     c1 = stage.speedup_farads
     tau = r_th * (c1 + c_grid)
     a = c1 / (c1 + c_grid)
@@ -402,7 +403,7 @@ def inverter_edge(stage: InverterTiming, drive: Wave, mid_volts: float) -> Edge:
     p0 = stage.plate_volts(g0)
     p1 = stage.plate_volts(load_state(div, drive.to_volts).grid_volts)
     tap_to, r_th = thevenin(div, drive.to_volts)
-    c_gp = (tube.c_gp_pf or 0.0) * 1e-12
+    c_gp = tube.c_gp_farads or 0.0
     # The grid-plate charge comes through the divider and, while the driving node still moves, a speed-up capacitor.
     drive_amps = abs(tap_to - vt) / r_th + stage.speedup_farads * abs(drive.slope(t_x))
     plateau_full = c_gp * abs(p1 - p0) / drive_amps
@@ -437,7 +438,7 @@ def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load
     the later of its grid's crossing (plus the tracking lag) and that RC edge's. A grid stopper adds
     its time constant with the grid's capacitance. Cost: two cathode solves.
     """
-    c_grid = ((tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0)) * 1e-12
+    c_grid = (tube.c_in_farads or 0.0) + (tube.c_gp_farads or 0.0)
     t_stop = stopper_ohms * c_grid
     g_k = 1.0 / cathode_load_ohms + sum(n / (ld.upper_ohms + ld.lower_ohms) for n, ld in loads
                                         if ld.diode_drop_volts is None)
@@ -459,6 +460,6 @@ def follower_edge(tube: TubeType, wear: float, supply_volts: float, cathode_load
     return Edge(False, lag, t_stop, Wave(k0, k1, drive.shape, drive.seconds))
 
 
-__all__ = ["DIODE_PF", "ESTIMATE_TOLERANCE", "NOMINAL_CORNER", "SLOW_FARADS_SCALE", "WIRING_PF", "Edge",
+__all__ = ["DIODE_FARADS", "ESTIMATE_TOLERANCE", "NOMINAL_CORNER", "SLOW_FARADS_SCALE", "WIRING_FARADS", "Edge",
            "InverterTiming", "TimingCorner", "Wave", "follower_edge", "grid_crossing_seconds", "grid_times",
            "inverter_edge", "slow_corner", "threshold_grid_volts"]

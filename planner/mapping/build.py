@@ -50,12 +50,12 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             nets = {"plate": PLATE_RAIL, "grid": grid, "cathode": stage.output}
             _use(net, uses, ref, tube, section, "follower", stage.id, nets)
             net.resistor(stage.output, BIAS_RAIL, follower.cathode_load_ohms, follower.cathode_load_watts,
-                         (follower.bias_ma_worst / 1e3) ** 2 * net.hi(follower.cathode_load_ohms),
+                         follower.bias_amps_worst ** 2 * net.hi(follower.cathode_load_ohms),
                          "cathode load", stage.id)
             placed.append(PlacedStage(stage.id, "follower", stage.output, stage.view, (), stage.input, way.tube,
                                       ref, section.index, None, follower.cathode_load_ohms, loads[stage.output],
-                                      follower.fanout_limit, follower.supply_ma_worst, follower.supply_ma_typical,
-                                      follower.bias_ma_worst, template="follower"))
+                                      follower.fanout_limit, follower.supply_amps_worst,
+                                      follower.supply_amps_typical, follower.bias_amps_worst, template="follower"))
             continue
         driver = family.drivers[(way.tube, way.template)]
         net.plate_load(stage, driver)
@@ -93,8 +93,8 @@ def build_plan(design, network, family, stock, problem: Problem, counts: Counts,
             branches.append(PlacedBranch(branch.inputs, real.means, way.tube, ref, section.index, tuple(diodes)))
         placed.append(PlacedStage(stage.id, "inverting", stage.output, stage.view, tuple(branches), None,
                                   None, None, None, driver.plate_load_ohms,
-                                  None, loads[stage.output], driver.fanout_limit, driver.supply_ma_worst,
-                                  driver.supply_ma_typical, way.bias_ma, template=way.template))
+                                  None, loads[stage.output], driver.fanout_limit, driver.supply_amps_worst,
+                                  driver.supply_amps_typical, way.bias_amps, template=way.template))
     registers = _registers(design, network, stock, placement, net, uses, setting) if design.registers else ()
     envelopes = []
     for socket in placement.sockets:
@@ -150,9 +150,9 @@ def _registers(design, network, stock, placement: Placement, net: NetlistBuilder
         placed.append(PlacedRegister(
             reg.name, reg.name, COMPLEMENT + reg.name, nets["next"], nets["next_complement"], reg.reset, way.tube, ref,
             network.forms.get(reg.next_output, ""), bistable.plate_load_ohms, bistable.upper_ohms,
-            bistable.lower_ohms, bistable.commutating_pf * 1e-12, bistable.steering_pf * 1e-12,
-            bistable.steering_ohms, loads[reg.name], bistable.fanout_limit, bistable.supply_ma_worst,
-            bistable.supply_ma_typical, bistable.bias_ma_worst, setup_seconds=bistable.setup_seconds))
+            bistable.lower_ohms, bistable.commutating_farads, bistable.steering_farads,
+            bistable.steering_ohms, loads[reg.name], bistable.fanout_limit, bistable.supply_amps_worst,
+            bistable.supply_amps_typical, bistable.bias_amps_worst, setup_seconds=bistable.setup_seconds))
     reset_pullup(net, setting.reset)
     return tuple(placed)
 
@@ -163,8 +163,8 @@ def _clock(setting: RegisterSetting, registers) -> Clock:
     low = max(b.clock_swing_min_volts for b in used)
     high = min(b.clock_swing_max_volts for b in used)
     # The clock's fall must be short beside the steering time constant (it then loses under 1 % of its step).
-    fall = min(0.02 * b.steering_ohms * b.steering_pf * 1e-12 * (1 - CAPACITOR_TOLERANCE) for b in used)
-    load = sum(2 * b.steering_pf * 1e-12 * (1 + CAPACITOR_TOLERANCE) for b in used)
+    fall = min(0.02 * b.steering_ohms * b.steering_farads * (1 - CAPACITOR_TOLERANCE) for b in used)
+    load = sum(2 * b.steering_farads * (1 + CAPACITOR_TOLERANCE) for b in used)
     return Clock(setting.clock, setting.reset, setting.swing_volts, low, high, used[0].clock_tolerance, fall, load,
                  RESET_PULLUP_OHMS)
 
@@ -209,8 +209,8 @@ def _budget(stock, problem: Problem, placement: Placement, envelopes) -> Budget:
         watts += env.heater_volts * env.heater_amps
     ways = list(placement.ways.values()) + list(placement.registers.values())
     supplies = problem.supplies
-    plate = supplies.fixed_plate_ma + sum(w.plate_ma for w in ways)
-    typical = supplies.fixed_plate_ma_typical + sum(w.plate_ma_typical for w in ways)
-    bias = supplies.fixed_bias_ma + sum(w.bias_ma for w in ways)
+    plate = supplies.fixed_plate_amps + sum(w.plate_amps for w in ways)
+    typical = supplies.fixed_plate_amps_typical + sum(w.plate_amps_typical for w in ways)
+    bias = supplies.fixed_bias_amps + sum(w.bias_amps for w in ways)
     windings = tuple(WindingLoad(w.id, w.volts, w.max_amps, amps[w.id], w.elevated_volts) for w in stock.windings)
-    return Budget(watts, windings, plate, typical, bias, stock.plate.max_ma, stock.bias.max_ma)
+    return Budget(watts, windings, plate, typical, bias, stock.plate.max_amps, stock.bias.max_amps)

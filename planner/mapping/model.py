@@ -62,6 +62,14 @@ from .solver import Outcome, solve
 
 KINDS = ("dual", "single", "follower")
 TIE_BREAK = 1e-6
+#: The plate and bias rows are written in mA (amperes times this): the solver's absolute tolerances
+#: (about 1e-7 of a row's unit) stay far below a microampere, and its scaling sees rows of the usual size.
+SUPPLY_ROW_SCALE = 1e3
+
+
+def _row_scale(what: str) -> float:
+    """Units of an overload variable's row per ampere: mA for the supplies, A for a winding."""
+    return SUPPLY_ROW_SCALE if what in ("plate", "bias") else 1.0
 
 
 HOSTS = frozenset({"grounded", "follower"})
@@ -111,8 +119,8 @@ class TubeKind:
 class Way:
     """One way to build a stage: sections it takes on ``tube`` and the currents it draws.
 
-    ``demand``: (kind, sections) pairs; ``plate_ma`` / ``plate_ma_typical`` from
-    B+, ``bias_ma`` from the bias rail, worst case from the electrical templates.
+    ``demand``: (kind, sections) pairs; ``plate_amps`` / ``plate_amps_typical`` from
+    B+, ``bias_amps`` from the bias rail, worst case from the electrical templates.
     ``template``: the template's name ("single", "dual", "diode", "follower");
     ``diodes``: AND-gate diodes this way needs.
     """
@@ -120,9 +128,9 @@ class Way:
     tube: str
     template: str
     demand: tuple[tuple[str, int], ...]
-    plate_ma: float
-    plate_ma_typical: float
-    bias_ma: float
+    plate_amps: float
+    plate_amps_typical: float
+    bias_amps: float
     fanout_limit: int
     diodes: int = 0
 
@@ -145,9 +153,9 @@ class RegisterWay:
     """One way to build a register: a bistable taking a whole envelope of ``tube`` (both its sections)."""
 
     tube: str
-    plate_ma: float
-    plate_ma_typical: float
-    bias_ma: float
+    plate_amps: float
+    plate_amps_typical: float
+    bias_amps: float
     fanout_limit: int
 
 
@@ -167,12 +175,12 @@ class RegisterClass:
 class Supplies:
     """Limits of the rails and windings; ``fixed_*``: currents no choice changes."""
 
-    plate_max_ma: float
-    bias_max_ma: float
+    plate_max_amps: float
+    bias_max_amps: float
     windings: tuple[tuple[str, float, float], ...]  # id, volts, max amps
-    fixed_plate_ma: float = 0.0
-    fixed_plate_ma_typical: float = 0.0
-    fixed_bias_ma: float = 0.0
+    fixed_plate_amps: float = 0.0
+    fixed_plate_amps_typical: float = 0.0
+    fixed_bias_amps: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -215,7 +223,7 @@ class Counts:
     ``ways[c][w]``: stages of class ``c`` built way ``w``; ``envelopes[t]``;
     ``heaters[t]``: count per heater way of kind ``t``; ``purchase[t]``: extra
     envelopes (shortage diagnosis only); ``overloads``: (what, amount) with
-    amount in A for windings ("H1") and mA for "plate" and "bias".
+    amount in A for windings ("H1"), "plate" and "bias".
     ``hosted[t]``: for a type whose heater ways differ in what they may
     host, per group of ways (``hosts``): sections per demand kind and
     bistables on envelopes of that group (empty otherwise).
@@ -285,12 +293,12 @@ class _Model:
                 diodes.append(way.diodes * self.x[c][w])
                 for kind, sections in way.demand:
                     demand[index[way.tube]][kind].append(sections * self.x[c][w])
-                plate.append(way.plate_ma * self.x[c][w])
-                bias.append(way.bias_ma * self.x[c][w])
+                plate.append(way.plate_amps * SUPPLY_ROW_SCALE * self.x[c][w])
+                bias.append(way.bias_amps * SUPPLY_ROW_SCALE * self.x[c][w])
         for r, reg in enumerate(problem.registers):
             for w, way in enumerate(reg.ways):
-                plate.append(way.plate_ma * self.y[r][w])
-                bias.append(way.bias_ma * self.y[r][w])
+                plate.append(way.plate_amps * SUPPLY_ROW_SCALE * self.y[r][w])
+                bias.append(way.bias_amps * SUPPLY_ROW_SCALE * self.y[r][w])
         self.hosted = []
         for t, kind in enumerate(kinds):
             if slack:
@@ -305,10 +313,10 @@ class _Model:
             amps = pulp.lpSum(way.amps * self.h[t][k] for t, kind in enumerate(kinds)
                               for k, way in enumerate(kind.heaters) if way.winding == ident)
             self.lp += amps <= max_amps + self._over(ident, f"over_w{wi}"), f"winding_{wi}"
-        self.lp += (pulp.lpSum(plate) + supplies.fixed_plate_ma
-                    <= supplies.plate_max_ma + self._over("plate", "over_plate")), "plate"
-        self.lp += (pulp.lpSum(bias) + supplies.fixed_bias_ma
-                    <= supplies.bias_max_ma + self._over("bias", "over_bias")), "bias"
+        self.lp += (pulp.lpSum(plate) + supplies.fixed_plate_amps * SUPPLY_ROW_SCALE
+                    <= supplies.plate_max_amps * SUPPLY_ROW_SCALE + self._over("plate", "over_plate")), "plate"
+        self.lp += (pulp.lpSum(bias) + supplies.fixed_bias_amps * SUPPLY_ROW_SCALE
+                    <= supplies.bias_max_amps * SUPPLY_ROW_SCALE + self._over("bias", "over_bias")), "bias"
         self.envelopes = pulp.lpSum(self.n)
         self.scarce = pulp.lpSum(self.n[t] for t, kind in enumerate(kinds) if kind.scarce)
         self.heater_watts = pulp.lpSum(way.watts * self.h[t][k] for t, kind in enumerate(kinds)
@@ -333,8 +341,8 @@ class _Model:
     def _limits(self):
         supplies = self.problem.supplies
         limits = {ident: max_amps for ident, _v, max_amps in supplies.windings}
-        limits.update(plate=supplies.plate_max_ma, bias=supplies.bias_max_ma)
-        return [(var, limits[what]) for what, var in self.over.items()]
+        limits.update(plate=supplies.plate_max_amps, bias=supplies.bias_max_amps)
+        return [(var, limits[what] * _row_scale(what)) for what, var in self.over.items()]
 
     def _hosting(self, t: int, kind: TubeKind, demand: dict, bistables: list) -> list:
         """Packing of type ``t``, split over groups of heater ways that may host different sections.
@@ -436,7 +444,8 @@ class _Model:
                       tuple(val(v) for v in self.n),
                       tuple(tuple(val(v) for v in row) for row in self.h),
                       tuple(val(v) for v in self.buy),
-                      tuple((what, float(var.value() or 0)) for what, var in sorted(self.over.items())),
+                      tuple((what, float(var.value() or 0) / _row_scale(what))
+                            for what, var in sorted(self.over.items())),
                       tuple(levels), status, seconds, terms, tuple(tuple(val(v) for v in row) for row in self.y),
                       tuple(tuple((hosts, tuple((k, val(v)) for k, v in sorted(split.items())),
                                    0 if b is None else val(b)) for hosts, split, b in groups)

@@ -120,14 +120,14 @@ class NetlistBuilder:
 
     def plate_load(self, stage, driver) -> None:
         r = driver.plate_load_ohms
-        watts = min((driver.supply_ma_worst / 1e3) ** 2 * self.hi(r), self.vb ** 2 / self.lo(r))
+        watts = min(driver.supply_amps_worst ** 2 * self.hi(r), self.vb ** 2 / self.lo(r))
         self.resistor(PLATE_RAIL, stage.output, driver.plate_load_ohms, driver.plate_load_watts, watts,
                       "plate load", stage.id)
 
     def grid_stopper(self, stage, source: str, grid: str, follower) -> None:
         """A follower's grid stopper; its rating from its worst grid current (twice the dissipation)."""
         r = follower.grid_stopper_ohms
-        watts = (follower.grid_ma_worst / 1e3) ** 2 * self.hi(r)
+        watts = follower.grid_amps_worst ** 2 * self.hi(r)
         self.resistor(source, grid, r, resistor_rating_watts(watts), watts, "grid stopper", stage.id)
 
     def screen(self, stage, driver, node: str) -> str:
@@ -148,9 +148,9 @@ class NetlistBuilder:
         self.resistor(source, node, rec.upper_ohms, rec.upper_watts, self.vb ** 2 / self.lo(rec.upper_ohms),
                       "divider upper", stage.id)
         self.resistor(node, BIAS_RAIL, rec.lower_ohms, rec.lower_watts,
-                      (rec.bias_ma_worst / 1e3) ** 2 * self.lo(rec.lower_ohms), "divider lower", stage.id)
-        if rec.speedup_pf:
-            self.capacitor(source, node, rec.speedup_pf * 1e-12, "speed-up", stage.id)
+                      rec.bias_amps_worst ** 2 * self.lo(rec.lower_ohms), "divider lower", stage.id)
+        if rec.speedup_farads:
+            self.capacitor(source, node, rec.speedup_farads, "speed-up", stage.id)
 
     def diode_gate(self, stage, inputs, gate: str, grid: str, rec, vacuum: list | None) -> tuple[str, ...]:
         """A diode-AND gate: pull-up from B+ to the gate node, a diode from the gate to each input

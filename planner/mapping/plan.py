@@ -60,9 +60,9 @@ class PlacedStage:
     load_ohms: float | None = None
     fanout: int = 0
     fanout_limit: int = 0
-    supply_ma_worst: float = 0.0
-    supply_ma_typical: float = 0.0
-    bias_ma_worst: float = 0.0
+    supply_amps_worst: float = 0.0
+    supply_amps_typical: float = 0.0
+    bias_amps_worst: float = 0.0
     template: str = ""
 
 
@@ -134,15 +134,15 @@ class WindingLoad:
 
 @dataclass(frozen=True)
 class Budget:
-    """Supply budgets of the plan (currents in mA, heater in A and W)."""
+    """Supply budgets of the plan (currents in A, heater in A and W)."""
 
     heater_watts: float
     windings: tuple[WindingLoad, ...]
-    plate_ma_worst: float
-    plate_ma_typical: float
-    bias_ma: float
-    plate_max_ma: float
-    bias_max_ma: float
+    plate_amps_worst: float
+    plate_amps_typical: float
+    bias_amps: float
+    plate_max_amps: float
+    bias_max_amps: float
 
 
 @dataclass(frozen=True)
@@ -231,9 +231,9 @@ class PlacedRegister:
     steering_ohms: float
     fanout: int
     fanout_limit: int
-    supply_ma_worst: float
-    supply_ma_typical: float
-    bias_ma_worst: float
+    supply_amps_worst: float
+    supply_amps_typical: float
+    bias_amps_worst: float
     clock_to_q_seconds: float = 0.0
     setup_seconds: float = 0.0
 
@@ -290,7 +290,7 @@ class Timing:
     registers: ``clock_to_q_seconds``, ``setup_seconds`` (worst over the
     registers), ``high_seconds_min`` / ``low_seconds_min`` the shortest clock
     phases, ``min_period_seconds`` (all nominal). ``output_seconds``: the
-    latest design output's midpoint crossing. ``wiring_pf``: the wiring
+    latest design output's midpoint crossing. ``wiring_farads``: the wiring
     allowance per node; ``corner``: the nominal conditions.
     The bound: ``corner_worst`` (the slow corner), ``path_worst`` from
     ``start_worst`` to ``end_worst`` and ``path_seconds_worst``,
@@ -306,7 +306,7 @@ class Timing:
     start: str
     end: str
     output_seconds: float
-    wiring_pf: float
+    wiring_farads: float
     margin: float
     corner: str
     clock_to_q_seconds: float | None = None

@@ -94,7 +94,7 @@ def branch_receivers(family, tube: str, template: str, inputs: tuple[str, ...], 
     return None if any(r is None for r in out) else out
 
 
-def pullup_ma_worst(family, rec) -> float:
+def pullup_amps_worst(family, rec) -> float:
     """Most current a diode gate's pull-up can take from B+: the whole high supply across its lowest value.
 
     (The driver templates do not count it; its typical figure is the nominal
@@ -102,7 +102,7 @@ def pullup_ma_worst(family, rec) -> float:
     """
     rules = family.rules
     vb = family.rails.plate_volts * (1 + rules.supply_tolerance)
-    return vb / (rec.pullup_ohms * (1 - rules.resistor_tolerance)) * 1e3
+    return vb / (rec.pullup_ohms * (1 - rules.resistor_tolerance))
 
 
 def winding_hosts(tube, elevated_volts: float, follower=None) -> frozenset:
@@ -178,8 +178,8 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
         for tube in names:
             f = family.followers.get(tube)
             if f is not None and f.fanout_limit >= loads:
-                ways.append(Way(tube, "follower", (("follower", 1),), f.supply_ma_worst, f.supply_ma_typical,
-                                f.bias_ma_worst, f.fanout_limit))
+                ways.append(Way(tube, "follower", (("follower", 1),), f.supply_amps_worst, f.supply_amps_typical,
+                                f.bias_amps_worst, f.fanout_limit))
         return tuple(ways)
     widths = [len(b.inputs) for b in stage.branches]
     for tube in names:
@@ -200,24 +200,24 @@ def stage_ways(stage, loads: int, family, kinds: tuple[TubeKind, ...], follower_
                     missing = True
                     break
                 for rec in recs[:1] if template == "diode" else recs:
-                    bias += rec.bias_ma_worst
+                    bias += rec.bias_amps_worst
                     if rec.pullup_ohms is not None:
-                        plate += pullup_ma_worst(family, rec)
-                        typical += family.rails.plate_volts / rec.pullup_ohms * 1e3
+                        plate += pullup_amps_worst(family, rec)
+                        typical += family.rails.plate_volts / rec.pullup_ohms
                 diodes += width if template == "diode" else 0
             if missing:
                 continue
             kind = {"single": "single", "dual": "dual", "diode": "single"}[template]
             demand = ((kind, len(widths)),) if widths else ()
             # Each branch past the first adds its cut-off screen feed (the template's figure).
-            extra = max(0, len(widths) - 1) * driver.branch_supply_ma_worst
-            ways.append(Way(tube, template, demand, driver.supply_ma_worst + extra + plate,
-                            driver.supply_ma_typical + extra + typical, bias, driver.fanout_limit, diodes))
+            extra = max(0, len(widths) - 1) * driver.branch_supply_amps_worst
+            ways.append(Way(tube, template, demand, driver.supply_amps_worst + extra + plate,
+                            driver.supply_amps_typical + extra + typical, bias, driver.fanout_limit, diodes))
     return tuple(ways)
 
 
 def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int, registers: tuple = (),
-                  fixed_plate_ma: float = 0.0, fixed_bias_ma: float = 0.0) -> tuple[Problem, dict]:
+                  fixed_plate_amps: float = 0.0, fixed_bias_amps: float = 0.0) -> tuple[Problem, dict]:
     """The aggregated problem of ``network`` and the ways of every stage (stage id -> ways).
 
     Classes are formed from stages with equal tuples of ways, in order of
@@ -236,6 +236,7 @@ def build_problem(network, family, stock, weights: Weights, *, diode_fanin: int,
         ways_of[stage.id] = ways
         by_ways.setdefault(ways, []).append(stage.id)
     classes = tuple(StageClass((i,), tuple(ids), ways) for i, (ways, ids) in enumerate(by_ways.items()))
-    supplies = Supplies(stock.plate.max_ma, stock.bias.max_ma,
-                        tuple((w.id, w.volts, w.max_amps) for w in stock.windings), fixed_plate_ma, 0.0, fixed_bias_ma)
+    supplies = Supplies(stock.plate.max_amps, stock.bias.max_amps,
+                        tuple((w.id, w.volts, w.max_amps) for w in stock.windings), fixed_plate_amps, 0.0,
+                        fixed_bias_amps)
     return Problem(kinds, classes, supplies, weights, stock.diodes == "vacuum-only", tuple(registers)), ways_of

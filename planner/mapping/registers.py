@@ -86,7 +86,7 @@ def register_classes(design: Design, network, bistables: dict, kinds) -> tuple[t
     by_ways: dict[tuple, list[str]] = {}
     stuck = []
     for reg in design.registers:
-        ways = tuple(RegisterWay(name, b.supply_ma_worst, b.supply_ma_typical, b.bias_ma_worst, b.fanout_limit)
+        ways = tuple(RegisterWay(name, b.supply_amps_worst, b.supply_amps_typical, b.bias_amps_worst, b.fanout_limit)
                      for name, b in sorted(bistables.items()) if name in stocked and b.fanout_limit >= loads[reg.name])
         if not ways:
             most = max((b.fanout_limit for b in bistables.values()), default=0)
@@ -118,14 +118,14 @@ def register_parts(net: NetlistBuilder, uses: dict, reg, bistable, tube, ref: st
         other = 3 - k
         rl = b.plate_load_ohms
         net.resistor(PLATE_RAIL, plate[k], rl, b.plate_load_watts,
-                     min((b.supply_ma_worst / 1e3) ** 2 * net.hi(rl), vb ** 2 / net.lo(rl)), "plate load", stage)
+                     min(b.supply_amps_worst ** 2 * net.hi(rl), vb ** 2 / net.lo(rl)), "plate load", stage)
         net.resistor(plate[other], grid[k], b.upper_ohms, b.upper_watts, vb ** 2 / net.lo(b.upper_ohms),
                      "divider upper", stage)
         net.resistor(grid[k], BIAS_RAIL, b.lower_ohms, b.lower_watts,
-                     (b.bias_ma_worst / 2e3) ** 2 * net.lo(b.lower_ohms), "divider lower", stage)
-        net.capacitor(plate[other], grid[k], b.commutating_pf * 1e-12, "commutating", stage,
+                     (b.bias_amps_worst / 2) ** 2 * net.lo(b.lower_ohms), "divider lower", stage)
+        net.capacitor(plate[other], grid[k], b.commutating_farads, "commutating", stage,
                       volts_rating=vb + vc)
-        net.capacitor(clock, node[k], b.steering_pf * 1e-12, "steering", stage, volts_rating=b.capacitor_volts)
+        net.capacitor(clock, node[k], b.steering_farads, "steering", stage, volts_rating=b.capacitor_volts)
         net.resistor(level[k], node[k], b.steering_ohms, b.steering_watts,
                      (vb + b.clock_swing_max_volts) ** 2 / net.lo(b.steering_ohms), "steering", stage)
         net.diode(grid[k], node[k], "steering diode", stage, volts_rating=b.diode_reverse_volts)

@@ -18,7 +18,7 @@ settled ``setup_seconds`` before the next falling edge.
 Two corners. Nominal (:data:`planner.electrical.NOMINAL_CORNER`): nominal
 resistors and supplies, each tube type at its stock condition (its current
 is what a worn tube slows), the catalogue's capacitances and
-:data:`planner.electrical.WIRING_PF` of wiring on every node: an estimate.
+:data:`planner.electrical.WIRING_FARADS` of wiring on every node: an estimate.
 Slow (:func:`planner.electrical.slow_corner`): every resistor at the high
 end of its tolerance, both supplies at the low end, capacitances 25 % up,
 types whose model is from memory weaker by the rules' allowance; the
@@ -45,9 +45,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
-from planner.electrical import (DIODE_DROP_VOLTS, DIODE_PF, ESTIMATE_TOLERANCE, HOLD_FACTOR, NOMINAL_CORNER, WIRING_PF,
-                                InverterTiming, Load, ScreenFeed, Steering, TimingCorner, Wave, flip_edges,
-                                follower_edge, inverter_edge, slow_corner)
+from planner.electrical import (DIODE_DROP_VOLTS, DIODE_FARADS, ESTIMATE_TOLERANCE, HOLD_FACTOR, NOMINAL_CORNER,
+                                WIRING_FARADS, InverterTiming, Load, ScreenFeed, Steering, TimingCorner, Wave,
+                                flip_edges, follower_edge, inverter_edge, slow_corner)
 
 from .assemble import Placement
 from .plan import Plan, StageTiming, Timing
@@ -58,7 +58,7 @@ from .registers import COMPLEMENT
 #: ngspice within 25 % (tests/test_timing_ngspice.py).
 MARGIN = ESTIMATE_TOLERANCE
 
-CORNER = NOMINAL_CORNER.description(WIRING_PF)
+CORNER = NOMINAL_CORNER.description(WIRING_FARADS)
 
 RISE, FALL = "rise", "fall"
 
@@ -85,26 +85,26 @@ class _Nets:
         self.loads: dict[str, list[Load]] = {}
         self.farads: dict[str, float] = {}
         self.followed = frozenset(s.output for s in network.stages if s.kind == "follower")
-        heavy = max(family.receivers.values(), key=lambda r: (r.load_ma_high, r.tube, r.grid_role))
+        heavy = max(family.receivers.values(), key=lambda r: (r.load_amps_high, r.tube, r.grid_role))
         self.heavy = Load(heavy.upper_ohms, heavy.lower_ohms, self.vc, self.tube(heavy.tube))
         for stage in network.stages:
             way = placement.ways[stage.id]
             tube = self.tube(way.tube)
             if stage.kind == "follower":
-                self._add(stage.input, None, (tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0))
-                self._add(stage.output, None, tube.c_out_pf or 0.0)
+                self._add(stage.input, None, (tube.c_in_farads or 0.0) + (tube.c_gp_farads or 0.0))
+                self._add(stage.output, None, tube.c_out_farads or 0.0)
                 continue
             for branch in stage.branches:
-                self._add(stage.output, None, tube.c_out_pf or 0.0)
+                self._add(stage.output, None, tube.c_out_farads or 0.0)
                 recs = branch_receivers(family, way.tube, way.template, branch.inputs, self.followed)
                 for position, net in enumerate(branch.inputs):
                     role = input_role(way.template, len(branch.inputs), position)
                     rec = recs[position]
                     if role == "diode":
-                        self._add(net, self.receiver_load(rec, tube), DIODE_PF)
+                        self._add(net, self.receiver_load(rec, tube), DIODE_FARADS)
                         continue
-                    c1 = rec.speedup_pf or 0.0
-                    grid = (tube.c_in_pf or 0.0) + (tube.c_gp_pf or 0.0) + WIRING_PF
+                    c1 = rec.speedup_farads or 0.0
+                    grid = (tube.c_in_farads or 0.0) + (tube.c_gp_farads or 0.0) + WIRING_FARADS
                     self._add(net, self.receiver_load(rec, tube), c1 * grid / (c1 + grid) if c1 else 0.0)
         for _name, net in plan.outputs:
             self._add(net, self.heavy, 0.0)
@@ -126,8 +126,8 @@ class _Nets:
             return Load(rec.upper_ohms, rec.lower_ohms, self.vc, tube)
         return Load(rec.upper_ohms, rec.lower_ohms, self.vc, tube, self.drop, rec.pullup_ohms, self.stock.plate.volts)
 
-    def _add(self, net: str, load: Load | None, pf: float) -> None:
-        self.farads[net] = self.farads.get(net, WIRING_PF * 1e-12) + pf * 1e-12
+    def _add(self, net: str, load: Load | None, farads: float) -> None:
+        self.farads[net] = self.farads.get(net, WIRING_FARADS) + farads
         self.loads.setdefault(net, [])
         if load is not None:
             self.loads[net].append(load)
@@ -136,7 +136,7 @@ class _Nets:
         return tuple((1, ld) for ld in tuple(self.loads.get(net, ())) + extra)
 
     def node_farads(self, net: str) -> float:
-        return self.farads.get(net, WIRING_PF * 1e-12)
+        return self.farads.get(net, WIRING_FARADS)
 
 
 def input_role(template: str, width: int, position: int) -> str:
@@ -158,7 +158,7 @@ def _gate_wave(nets: _Nets, rec, width: int, drive: Wave, mid: float) -> Wave:
     vb, vc = nets.stock.plate.volts * c.supply_scale, nets.vc * c.supply_scale
     pullup, top = rec.pullup_ohms * c.ohms_scale, (rec.upper_ohms + rec.lower_ohms) * c.ohms_scale
     opened = (vb / pullup + vc / top) / (1 / pullup + 1 / top)
-    tau = (WIRING_PF + width * DIODE_PF) * c.farads_scale * 1e-12 / (1 / pullup + 1 / top)
+    tau = (WIRING_FARADS + width * DIODE_FARADS) * c.farads_scale / (1 / pullup + 1 / top)
     follows = Wave(drive.from_volts + d, drive.to_volts + d, drive.shape, drive.seconds)
     charged = Wave(drive.from_volts + d, min(drive.to_volts + d, opened), "exponential", tau)
     return follows if follows.crossing_seconds(mid) >= charged.crossing_seconds(mid) else charged
@@ -175,8 +175,8 @@ def _inverter_delay(nets: _Nets, stage, way, driver, branch, position: int, driv
     model = nets.corner.stage(InverterTiming(
         tube, nets.wear(way.tube), nets.stock.plate.volts, driver.plate_load_ohms,
         Load(rec.upper_ohms, rec.lower_ohms, nets.vc, tube), nets.load_pairs(stage.output),
-        nets.node_farads(stage.output), ((tube.c_in_pf or 0.0) + WIRING_PF) * 1e-12, feed,
-        "grid3" if role == "grid3" else "grid", 0.0, (rec.speedup_pf or 0.0) * 1e-12))
+        nets.node_farads(stage.output), (tube.c_in_farads or 0.0) + WIRING_FARADS, feed,
+        "grid3" if role == "grid3" else "grid", 0.0, rec.speedup_farads or 0.0))
     wave, shift = drive, 0.0
     if role == "diode":
         wave = _gate_wave(nets, rec, len(branch.inputs), drive, mid)
@@ -267,19 +267,19 @@ def _register_flips(plan: Plan, nets: _Nets, setting, mid: float, arrivals: dict
         b = setting.bistables[reg.tube]
         tube = nets.tube(reg.tube)
         own = Load(b.upper_ohms, b.lower_ohms, nets.vc, tube)
-        grid = b.grid_node_pf
-        c_series = b.commutating_pf * grid / (b.commutating_pf + grid)
-        base = ((tube.c_out_pf or 0.0) + c_series) * 1e-12
+        grid = b.grid_node_farads
+        c_series = b.commutating_farads * grid / (b.commutating_farads + grid)
+        base = (tube.c_out_farads or 0.0) + c_series
         latest = 0.0
         c, f = nets.corner, nets.corner.farads_scale
         for rising, falling in ((reg.output, reg.complement), (reg.complement, reg.output)):
             steering = _steering_on(plan, setting, rising, c)
             up, down = flip_edges(c.tube(tube), c.wear(tube, nets.wear(reg.tube)),
                                   nets.stock.plate.volts * c.supply_scale, b.plate_load_ohms * c.ohms_scale,
-                                  c.load(own), b.commutating_pf * 1e-12 * f, grid * 1e-12 * f,
+                                  c.load(own), b.commutating_farads * f, grid * f,
                                   nets.loads_at_corner(nets.load_pairs(rising, (own,))),
                                   nets.loads_at_corner(nets.load_pairs(falling, (own,))),
-                                  (base + nets.node_farads(rising) + (tube.c_gp_pf or 0.0) * 1e-12) * f,
+                                  (base + nets.node_farads(rising) + (tube.c_gp_farads or 0.0)) * f,
                                   (base + nets.node_farads(falling)) * f, mid, steering)
             origin = f"register {reg.name}"
             k = c.bound_factor
@@ -302,10 +302,10 @@ def _steering_on(plan: Plan, setting, net: str, corner: TimingCorner) -> Steerin
              if level == net]
     if not found:
         return None
-    b = min(found, key=lambda x: (x.steering_ohms, -x.steering_pf))
+    b = min(found, key=lambda x: (x.steering_ohms, -x.steering_farads))
     swing = b.clock_swing_volts * (1.0 if corner.name == "nominal" else 1.0 + b.clock_tolerance)
     f = corner.farads_scale
-    return Steering(b.steering_ohms * corner.ohms_scale, b.steering_pf * 1e-12 * f, b.steering_node_pf * 1e-12 * f,
+    return Steering(b.steering_ohms * corner.ohms_scale, b.steering_farads * f, b.steering_node_farads * f,
                     swing, len(found))
 
 
@@ -331,7 +331,7 @@ def _summary(plan: Plan, arrivals: dict, stages, flips: dict, setting, mid: floa
                 seconds = arrivals[(net, e)].seconds
                 outputs = max(outputs, seconds)
                 ends.append((seconds, (net, e), f"output {name}"))
-    wiring, text = WIRING_PF, corner.description(WIRING_PF)
+    wiring, text = WIRING_FARADS, corner.description(WIRING_FARADS)
     if not plan.registers:
         seconds, key, label = max(ends, key=lambda x: (x[0], x[2]), default=(0.0, None, ""))
         path = _path(arrivals, key) if key else ()

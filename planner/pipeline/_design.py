@@ -129,10 +129,10 @@ def _register_setting(design, stock, family, tubes) -> RegisterSetting:
     return RegisterSetting(usable, clock, reset, swing)
 
 
-def _reset_ma(stock, rules: DesignRules) -> float:
+def _reset_amps(stock, rules: DesignRules) -> float:
     """The most the reset line takes from B+ (and gives the bias supply) while a reset contact is closed."""
     span = (stock.plate.volts - stock.bias.volts) * (1 + rules.supply_tolerance)
-    return span / (RESET_PULLUP_OHMS * (1 - rules.resistor_tolerance)) * 1e3
+    return span / (RESET_PULLUP_OHMS * (1 - rules.resistor_tolerance))
 
 
 def _primary_limits(design, setting) -> tuple[dict, dict]:
@@ -216,13 +216,13 @@ def _candidates(design, stock, family, rules, options, weights, setting=None) ->
             seen.add(key)
             prove(network, view)  # outputs, next states and their complements, before any plan is made
             registers, stuck_registers = ((), [])
-            reset_ma = 0.0
+            reset_amps = 0.0
             if setting is not None:
                 registers, stuck_registers = register_classes(design, network, setting.bistables, stock.tubes)
-                reset_ma = _reset_ma(stock, rules)
+                reset_amps = _reset_amps(stock, rules)
             # Every network may use every template the stock allows (diode ANDs included).
             problem, ways = build_problem(network, family, stock, weights, diode_fanin=fanin, registers=registers,
-                                          fixed_plate_ma=reset_ma, fixed_bias_ma=reset_ma)
+                                          fixed_plate_amps=reset_amps, fixed_bias_amps=reset_amps)
             loads = network.load_counts()
             stuck = [f"stage {s.id} ({s.view} driving {describe_net(network, s.output, names)}, "
                      f"{loads[s.output]} loads)" for s in network.stages if not ways[s.id]]

@@ -6,14 +6,15 @@ import time
 
 from planner.errors import StockShort
 from planner.mapping import Counts, Infeasible, Problem, diagnose
+from planner.units import milliamps
 
 
 class Shortage(StockShort):
     """The stock or the supplies cannot carry the design.
 
     ``message``: what is short, in words; ``purchase``: tube type -> envelopes
-    to buy (the fewest that make the design fit); ``overloads``: winding id
-    (A), "plate" or "bias" (mA) -> how far over; ``unbuildable``: stages no
+    to buy (the fewest that make the design fit); ``overloads``: winding id,
+    "plate" or "bias" -> how far over, in amperes; ``unbuildable``: stages no
     stocked type has a template for (then nothing can be bought to help).
     """
 
@@ -45,8 +46,7 @@ def diagnose_shortage(candidates, family, stock, options, deadline) -> Shortage:
         except Infeasible:  # no purchase helps: some stages only types with no usable heater winding can build
             heaterless = heaterless or _heater_reasons(cand.problem, stock)
             continue
-        overload = sum(v / _limit(stock, w) for w, v in counts.overloads)
-        key = (sum(counts.purchase), round(overload, 9), dict(counts.terms)["weighted"])
+        key = (sum(counts.purchase), round(_overload(stock, counts.overloads), 9), dict(counts.terms)["weighted"])
         if best is None or key < best[0]:
             best = (key, cand, counts)
     if best is None:
@@ -84,8 +84,7 @@ def diagnose_shortage(candidates, family, stock, options, deadline) -> Shortage:
                                  allow_only=(other.tube,) + tuple(t for t, _ in held), fixed_purchase=held)
             except Infeasible:
                 continue
-            over = sum(v for _w, v in trial.overloads)
-            if over <= sum(overloads.values()) + 1e-6:
+            if _overload(stock, trial.overloads) <= _overload(stock, overloads.items()) + 1e-6:
                 n = dict(zip((k.tube for k in problem.kinds), trial.purchase))[other.tube]
                 alts.append(f"{n} x {other.tube}")
         plural = "s" if short != 1 else ""
@@ -98,9 +97,9 @@ def diagnose_shortage(candidates, family, stock, options, deadline) -> Shortage:
         words.append(held)
     for what, amount in sorted(overloads.items()):
         if what == "plate":
-            words.append(f"plate supply over by {amount:.1f} mA")
+            words.append(f"plate supply over by {milliamps(amount):.1f} mA")
         elif what == "bias":
-            words.append(f"bias supply over by {amount:.1f} mA")
+            words.append(f"bias supply over by {milliamps(amount):.1f} mA")
         else:
             words.append(f"winding {what} over by {amount:.2f} A")
     message = "; ".join(words) or "the stock cannot carry the design"
@@ -200,10 +199,15 @@ def _reserve_note(stock, problem, purchase) -> str:
 
 def _limit(stock, what: str) -> float:
     if what == "plate":
-        return stock.plate.max_ma
+        return stock.plate.max_amps
     if what == "bias":
-        return stock.bias.max_ma
+        return stock.bias.max_amps
     return next(w.max_amps for w in stock.windings if w.id == what)
+
+
+def _overload(stock, overloads) -> float:
+    """How far a solution is over its limits: each (what, amperes) overload as a share of its limit, summed."""
+    return sum(v / _limit(stock, w) for w, v in overloads)
 
 
 def _sections_used(problem: Problem, counts: Counts) -> dict[str, int]:

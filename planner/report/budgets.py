@@ -17,6 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from planner.mapping import Plan
+from planner.units import as_written, milliamps
 
 #: Cold-to-hot resistance ratios of tungsten heaters (common practice): 1/5 to 1/7.
 SURGE_FACTORS = (5.0, 7.0)
@@ -49,7 +50,8 @@ class WindingBudget:
 
 @dataclass(frozen=True)
 class RailBudget:
-    """A DC rail: its volts, the planned current (worst case and typical) and what it may give."""
+    """A DC rail as the reports print it: its volts, the planned current (worst case and typical) and what it may
+    give, in mA (the plan's amperes, converted here where the reports are made), and the worst-case watts."""
 
     name: str
     volts: float
@@ -127,10 +129,12 @@ def plan_budgets(plan: Plan) -> Budgets:
                       w.amps * (1 + HEADROOM),
                       tuple(e.ref for e in plan.envelopes if e.winding == w.id), w.elevated_volts)
         for w in b.windings)
-    plate = RailBudget("B+", plan.plate_volts, b.plate_ma_worst, b.plate_ma_typical, b.plate_max_ma,
-                       plan.plate_volts * b.plate_ma_worst / 1000.0, b.plate_ma_worst * (1 + HEADROOM))
-    bias = RailBudget("BIAS", plan.bias_volts, b.bias_ma, b.bias_ma, b.bias_max_ma,
-                      abs(plan.bias_volts) * b.bias_ma / 1000.0, b.bias_ma * (1 + HEADROOM))
+    plate_ma, bias_ma = milliamps(b.plate_amps_worst), milliamps(b.bias_amps)
+    plate = RailBudget("B+", plan.plate_volts, plate_ma, milliamps(b.plate_amps_typical),
+                       as_written(milliamps(b.plate_max_amps)), plan.plate_volts * b.plate_amps_worst,
+                       plate_ma * (1 + HEADROOM))
+    bias = RailBudget("BIAS", plan.bias_volts, bias_ma, bias_ma, as_written(milliamps(b.bias_max_amps)),
+                      abs(plan.bias_volts) * b.bias_amps, bias_ma * (1 + HEADROOM))
     resistors = tuple(ResistorLoad(p.ref, p.value, p.role, p.stage, p.dissipation_watts or 0.0, p.watts_rating)
                       for p in plan.parts if p.kind == "resistor")
     return Budgets(windings, b.heater_watts, plate, bias, b.heater_watts + plate.watts_worst + bias.watts_worst,

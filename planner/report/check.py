@@ -8,6 +8,7 @@ from tabulate import tabulate
 
 from planner.logic import MAX_TABLE_INPUTS, output_support, output_table
 from planner.spec import Design, Stock
+from planner.units import milliamps
 
 
 def design_summary(design: Design) -> str:
@@ -52,8 +53,8 @@ def stock_summary(stock: Stock) -> str:
     lines = [f"stock ({stock.path})",
              tabulate(rows, headers=["tube", "base", "on hand", "reserve", "usable", "sections", "scarce"]),
              "usable sections by kind: " + ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())),
-             f"plate supply {stock.plate.volts:g} V, {stock.plate.max_ma:g} mA max; "
-             f"bias supply {stock.bias.volts:g} V, {stock.bias.max_ma:g} mA max",
+             f"plate supply {stock.plate.volts:g} V, {milliamps(stock.plate.max_amps):g} mA max; "
+             f"bias supply {stock.bias.volts:g} V, {milliamps(stock.bias.max_amps):g} mA max",
              "heater windings: " + ", ".join(f"{w.id} {w.volts:g} V {w.max_amps:g} A"
                                              + (f" at {w.elevated_volts:+g} V DC" if w.elevated_volts else "")
                                              for w in stock.windings)

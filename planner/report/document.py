@@ -17,6 +17,7 @@ from pathlib import Path
 
 from planner import __version__
 from planner.mapping import Plan
+from planner.units import milliamps, picofarads
 
 #: 2: keys are identifiers (solution terms and criteria), ``tool`` and ``input_files`` added.
 SCHEMA = 2
@@ -47,9 +48,9 @@ def _num(value: float | None) -> float | None:
 def _stage(stage) -> dict:
     entry = {"id": stage.id, "kind": stage.kind, "output": stage.output, "view": stage.view,
              "fanout": stage.fanout, "fanout_limit": stage.fanout_limit,
-             "supply_ma_worst": _num(stage.supply_ma_worst),
-             "supply_ma_typical": _num(stage.supply_ma_typical),
-             "bias_ma_worst": _num(stage.bias_ma_worst), "template": stage.template}
+             "supply_ma_worst": _num(milliamps(stage.supply_amps_worst)),
+             "supply_ma_typical": _num(milliamps(stage.supply_amps_typical)),
+             "bias_ma_worst": _num(milliamps(stage.bias_amps_worst)), "template": stage.template}
     if stage.kind == "follower":
         entry.update(input=stage.input, tube=stage.tube, envelope=stage.envelope, section=stage.section,
                      load_ohms=_num(stage.load_ohms))
@@ -80,8 +81,9 @@ def _register(reg) -> dict:
             "plate_load_ohms": _num(reg.plate_load_ohms), "upper_ohms": _num(reg.upper_ohms),
             "lower_ohms": _num(reg.lower_ohms), "commutating_farads": _num(reg.commutating_farads),
             "steering_farads": _num(reg.steering_farads), "steering_ohms": _num(reg.steering_ohms),
-            "supply_ma_worst": _num(reg.supply_ma_worst), "supply_ma_typical": _num(reg.supply_ma_typical),
-            "bias_ma_worst": _num(reg.bias_ma_worst), "clock_to_q_seconds": _num(reg.clock_to_q_seconds),
+            "supply_ma_worst": _num(milliamps(reg.supply_amps_worst)),
+            "supply_ma_typical": _num(milliamps(reg.supply_amps_typical)),
+            "bias_ma_worst": _num(milliamps(reg.bias_amps_worst)), "clock_to_q_seconds": _num(reg.clock_to_q_seconds),
             "setup_seconds": _num(reg.setup_seconds)}
 
 
@@ -101,7 +103,8 @@ def _timing(t) -> dict | None:
             "output_seconds": _num(t.output_seconds), "clock_to_q_seconds": _num(t.clock_to_q_seconds),
             "setup_seconds": _num(t.setup_seconds), "high_seconds_min": _num(t.high_seconds_min),
             "low_seconds_min": _num(t.low_seconds_min), "min_period_seconds": _num(t.min_period_seconds),
-            "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz), "wiring_pf": _num(t.wiring_pf),
+            "margin": _num(t.margin), "max_clock_hz": _num(t.max_clock_hz),
+            "wiring_pf": _num(picofarads(t.wiring_farads)),
             "corner": t.corner,
             "worst": {"corner": t.corner_worst, "path": list(t.path_worst), "start": t.start_worst,
                       "end": t.end_worst, "path_seconds": _num(t.path_seconds_worst),
@@ -148,10 +151,11 @@ def plan_document(plan: Plan, input_files: Sequence[dict] = ()) -> dict:
                    "windings": [{"id": w.id, "volts": _num(w.volts), "amps": _num(w.amps),
                                  "max_amps": _num(w.max_amps), "elevated_volts": _num(w.elevated_volts)}
                                 for w in budget.windings],
-                   "plate_ma_worst": _num(budget.plate_ma_worst),
-                   "plate_ma_typical": _num(budget.plate_ma_typical),
-                   "bias_ma": _num(budget.bias_ma),
-                   "plate_max_ma": _num(budget.plate_max_ma), "bias_max_ma": _num(budget.bias_max_ma)},
+                   "plate_ma_worst": _num(milliamps(budget.plate_amps_worst)),
+                   "plate_ma_typical": _num(milliamps(budget.plate_amps_typical)),
+                   "bias_ma": _num(milliamps(budget.bias_amps)),
+                   "plate_max_ma": _num(milliamps(budget.plate_max_amps)),
+                   "bias_max_ma": _num(milliamps(budget.bias_max_amps))},
         "stock": [{"tube": s.tube, "on_hand": s.on_hand, "reserve": s.reserve, "used": s.used,
                    "scarce": s.scarce, "from_memory": s.from_memory} for s in plan.stock],
         "solution": {"solver": plan.solution.solver, "status": plan.solution.status,

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from planner.mapping import Plan
+from planner.units import milliamps
 
 from .bom import BomLine, tube_label
 from .budgets import Budgets
@@ -97,7 +98,7 @@ def stage_table(plan: Plan) -> Table:
             what = "; ".join(_branch_text(b) for b in s.branches) or "(no branches)"
             load = "" if s.plate_load_ohms is None else f"{s.plate_load_ohms / 1000:g}k"
         rows.append((s.id, s.view, s.output, what, load, f"{s.fanout} of {s.fanout_limit}",
-                     f"{s.supply_ma_worst:.2f} / {s.supply_ma_typical:.2f} mA"))
+                     f"{milliamps(s.supply_amps_worst):.2f} / {milliamps(s.supply_amps_typical):.2f} mA"))
     return Table(("stage", "view", "output", "branches (conduct when all inputs high)", "load",
                   "fan-out (of limit)", "B+ worst / typical"), tuple(rows))
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from planner.mapping import Plan
+from planner.units import picofarads
 
 from .tables import Table
 
@@ -57,7 +58,7 @@ def clock_lines(plan: Plan) -> list[str]:
         return []
     return [f"Clock net {c.net}: a falling step of {c.swing_volts:g} V (the steering works from "
             f"{c.swing_min_volts:.0f} V to {c.swing_max_volts:.0f} V; keep within +-{c.tolerance * 100:g} %), "
-            f"falling within {seconds_text(c.fall_seconds_max)}, into {c.load_farads * 1e12:.0f} pF; its DC level "
+            f"falling within {seconds_text(c.fall_seconds_max)}, into {picofarads(c.load_farads):.0f} pF; its DC level "
             "does not matter. The registers take their next state on the falling edge.",
             f"Reset: {c.reset_net} rests at B+ through {c.reset_pullup_ohms / 1e6:g} MOhm; a momentary contact "
             f"from {c.reset_net} to BIAS sets every register to its reset state (the contact carries the B+ to "

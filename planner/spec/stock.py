@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from planner.catalogue import Catalogue, CatalogueDataError, builtin_catalogue, tube_type_from_mapping
+from planner.units import amps_from_milliamps
 
 from .fields import (check_keys, check_not_swapped, expect_list, expect_mapping, get_bool, get_int, get_number,
                      get_text, line_of)
@@ -21,10 +22,10 @@ PRICE_KEYS = ("resistor", "socket", "diode", "capacitor")
 
 @dataclass(frozen=True)
 class Supply:
-    """A DC rail: nominal volts and the most current it may deliver."""
+    """A DC rail: nominal volts and the most current it may deliver (the file's ``max_ma``, in amperes)."""
 
     volts: float
-    max_ma: float
+    max_amps: float
 
 
 @dataclass(frozen=True)
@@ -135,7 +136,7 @@ def _read_supply(file: YamlFile, supplies: Mapping, key: str, *, negative: bool)
     volts = get_number(file, entry, "volts", what, negative=negative, positive=not negative,
                        minimum=-2000 if negative else None, maximum=None if negative else 2000)
     max_ma = get_number(file, entry, "max_ma", what, positive=True)
-    return Supply(volts, max_ma)
+    return Supply(volts, amps_from_milliamps(max_ma))
 
 
 def _read_windings(file: YamlFile, supplies: Mapping, plate: Supply, bias: Supply) -> tuple[Winding, ...]:
