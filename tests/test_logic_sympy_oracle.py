@@ -28,7 +28,7 @@ def test_never_worse_than_sympy(n):
         on, dc = minterms(table.on), minterms(table.dc)
         ref_sop = SOPform(symbols, on, dc)
         ref_pos = POSform(symbols, on, dc)
-        ours = forms(table)
+        ours = forms(table, cover_budget_s=None)  # proven whatever the machine's load
         for expr in (ref_sop, ref_pos, ours.sop.to_expr(), ~ours.inverted.to_expr()):
             got = table_from_expr(expr, table.names)
             assert got.on & table.care == table.on, (n, seed, expr)  # equal on the care set
