@@ -265,7 +265,8 @@ def test_overloaded_plate_supply_is_reported_in_amperes_and_told_in_milliamperes
     tubes = "12AU7: {count: 2}\n"
     need = plan_design(design, _stock(tmp_path, tubes)).budget.plate_amps_worst
     limit_ma = 1.5  # the stock file's max_ma, well under what two stages draw
-    with pytest.raises(Shortage) as short:
+    message = f"plate supply over by {need * 1000 - limit_ma:.1f} mA"
+    with pytest.raises(Shortage, match=f"^{re.escape(message)}$") as short:
         plan_design(design, _stock(tmp_path, tubes, plate=limit_ma, name="small.yaml"))
     assert set(short.value.overloads) == {"plate"}
     assert short.value.overloads["plate"] == pytest.approx(need - limit_ma / 1000, abs=1e-9)
