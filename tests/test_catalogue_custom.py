@@ -100,7 +100,7 @@ BAD = [
     ("model.mu", KeyError, "model.mu", "missing; expected a number"),
     ("model.g3_zero_volts", -5, "model.g3_zero_volts", "only dual-control sections take a g3 gate"),
     ("ratings.max_screen_watts", 1.0, "ratings.max_screen_watts", "this type has no screen grid; leave it out"),
-    ("sources", KeyError, "sources", "no source for base; give sources.base, sources.base or sources.default "
+    ("sources", KeyError, "sources", "no source for base; give sources.base or sources.default "
      "(a datasheet or handbook name, or 'from memory')"),
     ("sources.default", "", "sources.default",
      "expected the name of a datasheet or handbook, or 'from memory', got ''"),

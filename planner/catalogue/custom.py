@@ -306,9 +306,9 @@ def _sources(data: Mapping, present: dict) -> FrozenMap:
         candidates.append("default")
         hit = next((raw[c] for c in candidates if c in raw), None)
         if hit is None:
-            raise CatalogueDataError("sources", f"no source for {path}; give sources.{path}, "
-                                     f"sources.{candidates[-2]} or sources.default (a datasheet or "
-                                     "handbook name, or 'from memory')")
+            keys = [f"sources.{c}" for c in candidates]
+            raise CatalogueDataError("sources", f"no source for {path}; give {', '.join(keys[:-1])} or {keys[-1]} "
+                                     "(a datasheet or handbook name, or 'from memory')")
         out[attr] = hit.strip()
     return FrozenMap(out)
 
