@@ -27,7 +27,7 @@ from pathlib import Path
 from planner.electrical import Rails, design_family
 from planner.mapping import MappingOptions
 from planner.mapping.model import Infeasible, solve_problem
-from planner.pipeline._design import _fanout_limits, _rank, _repair_caps, _weights, design_rules
+from planner.pipeline._design import _capped, _fanout_limits, _rank, _repair_caps, _weights, design_rules
 from planner.mapping.problem import DIODE_FANIN, build_problem
 from planner.spec import load_stock
 from planner.stages import Branch, Network, Stage, repair_fanout
@@ -128,7 +128,8 @@ def best_plan(networks, family, stock, weights):
 def run(loads: int, stock, family, weights) -> tuple:
     network = fan_network(loads)
     caps = _repair_caps(family, stock)
-    limits = [_fanout_limits(family, stock, DIODE_FANIN, cap) for cap in caps]
+    best = _fanout_limits(family, stock, DIODE_FANIN)
+    limits = [_capped(best, cap) for cap in caps]
     start = time.perf_counter()
     ours = [repair_fanout(network, limit, strategy=s) for limit in limits for s in ("buffers", "duplicates")]
     ours = best_plan(ours, family, stock, weights)

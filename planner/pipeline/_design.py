@@ -78,9 +78,9 @@ def _synthesis_variants(stock, family, rules: DesignRules, options: MappingOptio
     return out, fanin
 
 
-def _fanout_limits(family, stock, diode_fanin: int, cap: int | None = None):
+def _fanout_limits(family, stock, diode_fanin: int):
     """The most loads a stage may drive: the best stocked way that builds it (see
-    :func:`planner.mapping.stage_ways`), at most ``cap``; a follower, the best stocked follower."""
+    :func:`planner.mapping.stage_ways`); a follower, the best stocked follower."""
     kinds = tube_kinds(stock, family)
     follower = max((family.followers[k.tube].fanout_limit for k in kinds if k.tube in family.followers), default=0)
     best: dict[tuple, int] = {}
@@ -92,8 +92,15 @@ def _fanout_limits(family, stock, diode_fanin: int, cap: int | None = None):
         if shape not in best:
             ways = stage_ways(stage, 0, family, kinds, frozenset(), diode_fanin)
             best[shape] = max((w.fanout_limit for w in ways), default=0)
-        return best[shape] if cap is None else min(best[shape], cap)
+        return best[shape]
     return limit
+
+
+def _capped(limit, cap: int | None):
+    """``limit`` held to at most ``cap`` loads (None: as it is); a follower's limit is never capped."""
+    if cap is None:
+        return limit
+    return lambda stage: limit(stage) if stage.kind == "follower" else min(limit(stage), cap)
 
 
 def _repair_caps(family, stock) -> list[int | None]:
@@ -163,12 +170,13 @@ def _repaired(label, network, family, stock, fanin, limits, names, options):
     follower drives two loads or more, and first: among equal plans the first
     found wins, and a follower adds no inversion delay); the integer program then chooses.
     """
+    best = _fanout_limits(family, stock, fanin)  # one table of stage shapes, held to each cap below
     strategies = ["buffers", "duplicates"]
-    if _fanout_limits(family, stock, fanin)(_FOLLOWER_PROBE) >= 2:
+    if best(_FOLLOWER_PROBE) >= 2:
         strategies.insert(0, "followers")
     out, seen = [], set()
     for cap in _repair_caps(family, stock):
-        limit = _fanout_limits(family, stock, fanin, cap)
+        limit = _capped(best, cap)
         for strategy in strategies:
             try:
                 repaired = repair_fanout(network, limit, limits, strategy=strategy, names=names)
@@ -367,9 +375,12 @@ def _solve_candidates(candidates, weights: Weights, options: MappingOptions, dea
         if cand.problem is None:
             tried.append(_tried(cand, None, cand.reason))
             continue
-        counts, note = outcomes.get(k, (None, "does not fit the stock" if bounds[k] is None else ""))
-        if k not in outcomes and bounds[k] is not None:
-            note = _pruned_note(bounds[k], best[2], weights)
+        if k in outcomes:
+            counts, note = outcomes[k]
+        elif bounds[k] is None:  # its LP relaxation is infeasible
+            counts, note = None, "does not fit the stock"
+        else:  # its bound exceeds the best plan's
+            counts, note = None, _pruned_note(bounds[k], best[2], weights)
         if counts is None:
             options.say(f"mapping: network '{cand.label}' {note}")
             tried.append(_tried(cand, None, note))
