@@ -46,12 +46,16 @@ def _describe(value):
     return repr(value)
 
 
+def _synthesis_source() -> str:
+    """The digest of the packages whose code decides a network: ``spec``, ``logic`` and ``stages``."""
+    packages = Path(__file__).resolve().parent.parent
+    return source_digest(packages / name for name in ("spec", "logic", "stages"))
+
+
 def network_key(design, options: SynthesisOptions) -> str:
     """The hash naming the cache entry of ``synthesise(design, options).network``: the whole
     design (:func:`_describe`), the options and the source of the packages that synthesise."""
-    packages = Path(__file__).resolve().parent.parent
-    source = source_digest(packages / name for name in ("spec", "logic", "stages"))
-    return key_of(source, _describe(options), _describe(design))
+    return key_of(_synthesis_source(), _describe(options), _describe(design))
 
 
 def _folder(directory) -> Path | None:
@@ -90,12 +94,10 @@ def multilevel_key(design, options: SynthesisOptions, section_cost=None, diode_c
     """The hash naming the cache entry of ``multilevel(design, options, section_cost, diode_cost, stage_cost)``:
     what :func:`network_key` covers, the costs, the genlib text and scripts the engine is given and
     the engine's identity (:func:`engine_identity`)."""
-    packages = Path(__file__).resolve().parent.parent
-    source = source_digest(packages / name for name in ("spec", "logic", "stages"))
     genlib = genlib_text(stage_library(options, section_cost, diode_cost, stage_cost))
     scripts = ENGINE_SCRIPTS + (COLLAPSE_SCRIPTS if len(design.input_names) <= COLLAPSE_MAX_INPUTS else ())
     costs = tuple(sorted((section_cost or {}).items()))
-    return key_of(source, engine_identity(), genlib, scripts, costs, repr(diode_cost), repr(stage_cost),
+    return key_of(_synthesis_source(), engine_identity(), genlib, scripts, costs, repr(diode_cost), repr(stage_cost),
                   _describe(options), _describe(design))
 
 
