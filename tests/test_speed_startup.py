@@ -83,9 +83,16 @@ def test_minterm_table_matches_sympy_sop_on_every_assignment(tmp_path):
     assert sympy.simplify_logic(output.expr ^ SOPform(over, [0, 3, 5, 6])) == sympy.false
 
 
-def test_a_warm_plan_of_minterm_lists_loads_no_sympy(tmp_path):
-    """With its networks and family in the cache, a design of minterm lists plans without sympy."""
-    design = ROOT / "benchmarks" / "designs" / "seven_segment.yaml"
+def test_reading_expressions_loads_no_sympy():
+    design = ROOT / "inventory_demo" / "design.yaml"
+    assert _imported_after(f"from planner.spec import load_design\nload_design({str(design)!r})") == []
+
+
+@pytest.mark.parametrize("design", [ROOT / "benchmarks" / "designs" / "seven_segment.yaml",
+                                    ROOT / "inventory_demo" / "design.yaml"], ids=["minterm lists", "expressions"])
+def test_a_warm_plan_loads_no_sympy(tmp_path, design):
+    """With its networks and family in the cache, a design plans without sympy (minterm lists and
+    expressions alike: expressions are formulas, not sympy objects)."""
     stock = ROOT / "inventory_demo" / "stock.yaml"
     env = dict(os.environ, PYTHONPATH=str(ROOT), TUBEPLAN_CACHE_DIR=str(tmp_path / "cache"))
     plan = [sys.executable, "-m", "planner.cli", "plan", str(design), "--stock", str(stock), "--quiet", "--out"]

@@ -86,7 +86,7 @@ def test_simulation_matches_sympy():
     for index, (row, _) in enumerate(truth_table(sympy.true, syms)):
         env = dict(zip(syms, row))
         for s in net.stages:
-            assert (values[s.output] >> index & 1) == bool(exprs[s.output].subs(env))   # sympy evaluation
+            assert (values[s.output] >> index & 1) == bool(sympy.sympify(exprs[s.output]).subs(env))  # sympy evaluation
 
 
 def test_simulation_of_chosen_assignments():

@@ -1,8 +1,8 @@
 """Logic layer: truth tables as bitsets, two-level minimisation, equivalence.
 
-sympy expressions are the type at this layer's boundary; inside, functions
-are integers used as bitsets (bit ``i`` = input assignment ``i``,
-``names[0]`` most significant).
+Formulas (:mod:`planner.formula`) are the type at this layer's boundary (sympy
+expressions are accepted and converted); inside, functions are integers used as
+bitsets (bit ``i`` = input assignment ``i``, ``names[0]`` most significant).
 
 Public API
 ----------

@@ -3,15 +3,13 @@
 from __future__ import annotations
 
 from collections.abc import Iterable
-from typing import TYPE_CHECKING
+
+from planner.formula import FALSE, Formula
 
 from .table import Space, TruthTable, evaluate, reindex, table_from_minterms
 
-if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
-    import sympy
 
-
-def design_support(design, *exprs: sympy.Basic) -> tuple[str, ...]:
+def design_support(design, *exprs: Formula) -> tuple[str, ...]:
     """The design inputs that ``exprs`` reach, directly or through named signals, in input order.
 
     Cost: linear in the size of the design's expressions.
@@ -24,7 +22,7 @@ def _inputs_among(design, names: set[str]) -> tuple[str, ...]:
     return tuple(name for name in design.input_names if name in names)
 
 
-def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic | None = None,
+def design_table(design, expr: Formula, dont_care: Formula | None = None,
                  names: Iterable[str] | None = None) -> TruthTable:
     """Truth table of ``expr`` (don't-cares ``dont_care``, None: none) over the design inputs ``names``.
 
@@ -35,9 +33,7 @@ def design_table(design, expr: sympy.Basic, dont_care: sympy.Basic | None = None
     :func:`design_support` of the two expressions.
     """
     if dont_care is None:
-        import sympy
-
-        dont_care = sympy.false
+        dont_care = FALSE
     reached = design.reached_names(expr, dont_care)
     names = _inputs_among(design, reached) if names is None else tuple(names)
     space = Space(len(names))
@@ -54,7 +50,7 @@ def output_support(design, output) -> tuple[str, ...]:
     """The design inputs a design output depends on, in input order.
 
     A minterm list depends on the inputs it ranges over (its ``over``); an
-    expression on those it reaches (:func:`design_support`). No sympy expression
+    expression on those it reaches (:func:`design_support`). No formula
     is built for a minterm list.
     """
     if output.minterms is not None:
@@ -67,7 +63,7 @@ def output_table(design, output, names: Iterable[str] | None = None) -> TruthTab
 
     A minterm list becomes its table directly (:func:`table_from_minterms`, then
     :func:`reindex` when ``names`` differs from its ``over``): cost linear in the
-    list, never a sympy expression of 2**n terms. An expression goes through
+    list, never a formula of 2**n terms. An expression goes through
     :func:`design_table`.
     """
     names = output_support(design, output) if names is None else tuple(names)

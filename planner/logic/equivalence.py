@@ -4,19 +4,21 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Iterable
 
-from .table import Space, assignment, evaluate, fold, symbol_names
+from planner.formula import TRUE, Formula, as_formula, fold
 
-if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+from .table import Space, assignment, evaluate
+
+if TYPE_CHECKING:  # sympy expressions are accepted and converted
     import sympy
 
 EXHAUSTIVE_LIMIT = 20
 """Up to this many inputs equivalence is decided by full truth tables."""
 
 
-def _names(names: Iterable[str] | None, *exprs: sympy.Basic) -> tuple[str, ...]:
+def _names(names: Iterable[str] | None, *exprs: Formula) -> tuple[str, ...]:
     used: set[str] = set()
     for e in exprs:
-        used |= symbol_names(e)
+        used |= e.names
     if names is None:
         return tuple(sorted(used))
     names = tuple(names)
@@ -47,19 +49,17 @@ class _Tseitin:
         self.variables += 1
         return self.variables
 
-    def encode(self, expr: sympy.Basic) -> int:
+    def encode(self, expr: Formula) -> int:
         """The literal equal to ``expr`` (a :func:`fold`: iterative, memo by node identity)."""
         return fold(expr, self.index.__getitem__, self.true, -self.true, self._gate)
 
-    def _gate(self, node: sympy.Basic, lits: list[int]) -> int:
-        """The literal of one And/Or/Not/Xor node over its arguments' literals."""
-        from sympy.logic.boolalg import And, Not, Or
-
-        if isinstance(node, Not):
+    def _gate(self, op: str, lits: list[int]) -> int:
+        """The literal of one not/and/or/xor node over its arguments' literals."""
+        if op == "not":
             return -lits[0]
-        if isinstance(node, And):
+        if op == "and":
             return self._and(lits)
-        if isinstance(node, Or):
+        if op == "or":
             return -self._and([-x for x in lits])
         return self._xor(lits)
 
@@ -135,9 +135,12 @@ def _model_sympy_dpll(clauses: list[set[int]], variables: int) -> dict[int, bool
     return {k + 1: by_symbol.get(s, False) for k, s in enumerate(symbols)}
 
 
-def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,
-                   care: sympy.Basic | None = None, *, sat_solver: str = "cadical") -> dict[str, bool] | None:
+def counterexample(a: Formula | sympy.Basic, b: Formula | sympy.Basic, names: Iterable[str] | None = None,
+                   care: Formula | sympy.Basic | None = None, *,
+                   sat_solver: str = "cadical") -> dict[str, bool] | None:
     """An assignment where ``care`` holds (None: everywhere) and ``a`` differs from ``b``, or None.
+
+    The expressions are formulas or sympy expressions (converted).
 
     ``names`` defaults to the sorted symbol names of the three expressions.
     Up to 20 inputs: exhaustive, one big-integer XOR over all 2**n
@@ -155,10 +158,7 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
     """
     if sat_solver not in SAT_SOLVERS:
         raise ValueError(f"unknown SAT solver {sat_solver!r}; expected one of {SAT_SOLVERS}")
-    if care is None:
-        import sympy
-
-        care = sympy.true
+    a, b, care = as_formula(a), as_formula(b), TRUE if care is None else as_formula(care)
     names = _names(names, a, b, care)
     n = len(names)
     if n <= EXHAUSTIVE_LIMIT:
@@ -183,8 +183,8 @@ def counterexample(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None =
     return values
 
 
-def equivalent(a: sympy.Basic, b: sympy.Basic, names: Iterable[str] | None = None,
-               care: sympy.Basic | None = None, *, sat_solver: str = "cadical") -> bool:
+def equivalent(a: Formula | sympy.Basic, b: Formula | sympy.Basic, names: Iterable[str] | None = None,
+               care: Formula | sympy.Basic | None = None, *, sat_solver: str = "cadical") -> bool:
     """True when ``a`` and ``b`` agree wherever ``care`` holds (see :func:`counterexample`).
 
     >>> import sympy

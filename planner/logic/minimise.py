@@ -10,9 +10,11 @@ from .cover import Cover, Cube
 from .exact import DEFAULT_COVER_BUDGET_S, minimum_cover
 from .heuristic import heuristic_cover
 from .primes import prime_implicants
+from planner.formula import FALSE, Formula
+
 from .table import TruthTable, symbol_names, table_from_expr
 
-if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
+if TYPE_CHECKING:  # sympy expressions are accepted and converted
     import sympy
 
 
@@ -121,7 +123,7 @@ def forms(table: TruthTable, *, exact_limit: int = 10, time_limit_s: float | Non
     return Forms(minimise(table, **limits), minimise_complement(table, **limits))
 
 
-def used_inputs(order: Iterable[str], *exprs: sympy.Basic) -> tuple[str, ...]:
+def used_inputs(order: Iterable[str], *exprs: Formula | sympy.Basic) -> tuple[str, ...]:
     """The names of ``order`` that occur in any of ``exprs``, in ``order``'s order.
 
     Raises ValueError if an expression uses a name that is not in ``order``.
@@ -141,7 +143,7 @@ def used_inputs(order: Iterable[str], *exprs: sympy.Basic) -> tuple[str, ...]:
     return tuple(name for name in order if name in used)
 
 
-def expr_forms(expr: sympy.Basic, order: Iterable[str], dont_care: sympy.Basic | None = None, *,
+def expr_forms(expr: Formula | sympy.Basic, order: Iterable[str], dont_care: Formula | sympy.Basic | None = None, *,
                exact_limit: int = 10, time_limit_s: float | None = None) -> Forms:
     """:func:`forms` of ``expr`` over the inputs it (or ``dont_care``; None: none) uses, in ``order``.
 
@@ -151,9 +153,7 @@ def expr_forms(expr: sympy.Basic, order: Iterable[str], dont_care: sympy.Basic |
     '~(a & b | a & c)'
     """
     if dont_care is None:
-        import sympy
-
-        dont_care = sympy.false
+        dont_care = FALSE
     names = used_inputs(order, expr, dont_care)
     table = table_from_expr(expr, names, dont_care)
     return forms(table, exact_limit=exact_limit, time_limit_s=time_limit_s)

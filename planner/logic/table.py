@@ -10,12 +10,12 @@ positions.  Whole tables are combined with single integer operations (``&``,
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Callable, Iterable, Mapping, TypeVar
+from typing import TYPE_CHECKING, Iterable, Mapping
 
-if TYPE_CHECKING:  # sympy is loaded by the functions that read expressions: tables never need it
+from planner.formula import Formula, as_formula, fold
+
+if TYPE_CHECKING:  # sympy expressions are accepted and converted; tables never need sympy itself
     import sympy
-
-T = TypeVar("T")
 
 MAX_TABLE_INPUTS = 24
 """Largest input count for which a full table is built (2**24 bits = 2 MiB)."""
@@ -130,156 +130,56 @@ def iter_bits(x: int) -> Iterable[int]:
         x ^= low
 
 
-def _core_form(node: sympy.Basic) -> sympy.Basic | None:
-    """``node`` rewritten one level into And/Or/Not/Xor, or None if it is already core.
+def evaluate(expr: Formula | sympy.Basic, variables: Mapping[str, int], full: int) -> int:
+    """Bit-parallel value of ``expr`` (a formula, or a sympy expression): each name maps to its table.
 
-    Lets every traversal handle the few other sympy connectives without recursion.
-    """
-    from sympy.logic.boolalg import ITE, And, Equivalent, Implies, Nand, Nor, Not, Or, Xnor, Xor
+    A :func:`planner.formula.fold`, so shared subexpressions are evaluated once
+    and nesting depth is unlimited.  Cost: one big-integer operation per argument
+    of every distinct node.
 
-    if isinstance(node, (And, Or, Not, Xor)):
-        return None
-    args = node.args
-    if isinstance(node, Nand):
-        return Not(And(*args))
-    if isinstance(node, Nor):
-        return Not(Or(*args))
-    if isinstance(node, Xnor):
-        return Not(Xor(*args))
-    if isinstance(node, Implies):
-        return Or(Not(args[0]), args[1])
-    if isinstance(node, Equivalent):
-        return Or(And(*args), And(*[Not(a) for a in args]))
-    if isinstance(node, ITE):
-        return Or(And(args[0], args[1]), And(Not(args[0]), args[2]))
-    raise TypeError(f"not a boolean expression sympy can hand to the logic layer: {node!r}")
-
-
-def fold(expr: sympy.Basic, symbol: Callable[[str], T], true: T, false: T,
-         combine: Callable[[sympy.Basic, list[T]], T]) -> T:
-    """Bottom-up value of ``expr``: ``symbol(name)`` at a symbol, ``true`` and
-    ``false`` at the constants, ``combine(node, argument values)`` at each
-    And/Or/Not/Xor node.
-
-    Other connectives are rewritten one level by :func:`_core_form` and take the
-    value of their rewriting.  Iterative post-order walk with a memo keyed by
-    node identity, so shared subexpressions are combined once and nesting depth
-    is unlimited.  Cost: one ``combine`` call per distinct node.
-
-    >>> import sympy
-    >>> a, b = sympy.symbols("a b")
-    >>> def show(node, args):
-    ...     return f"{type(node).__name__}({', '.join(args)})"
-    >>> fold(sympy.Nand(a, b), str, "1", "0", show)
-    'Not(And(a, b))'
-    """
-    import sympy
-    from sympy.logic.boolalg import BooleanFalse, BooleanTrue
-
-    memo: dict[int, T] = {}
-    rewritten: dict[int, sympy.Basic] = {}  # keeps rewritten nodes alive while their ids are in use
-    stack = [expr]
-    while stack:
-        node = stack[-1]
-        key = id(node)
-        if key in memo:
-            stack.pop()
-            continue
-        if isinstance(node, sympy.Symbol):
-            memo[key] = symbol(node.name)
-            stack.pop()
-            continue
-        if isinstance(node, BooleanTrue):
-            memo[key] = true
-            stack.pop()
-            continue
-        if isinstance(node, BooleanFalse):
-            memo[key] = false
-            stack.pop()
-            continue
-        if not isinstance(node, sympy.Basic):
-            raise TypeError(f"not a sympy boolean expression: {node!r}")
-        if key not in rewritten:
-            core = _core_form(node)
-            rewritten[key] = node if core is None else core
-        core = rewritten[key]
-        args = core.args if core is node else (core,)
-        pending = [a for a in args if id(a) not in memo]
-        if pending:
-            stack.extend(pending)
-            continue
-        stack.pop()
-        memo[key] = memo[id(core)] if core is not node else combine(node, [memo[id(a)] for a in args])
-    return memo[id(expr)]
-
-
-def evaluate(expr: sympy.Basic, variables: Mapping[str, int], full: int) -> int:
-    """Bit-parallel value of ``expr``: each symbol name maps to its table.
-
-    A :func:`fold`, so shared subexpressions are evaluated once and nesting
-    depth is unlimited.  Cost: one big-integer operation per argument of every
-    distinct node.
-
-    >>> import sympy
-    >>> a, b = sympy.symbols("a b")
-    >>> bin(evaluate(a & ~b, {"a": 0b1100, "b": 0b1010}, 0b1111))
+    >>> from planner.formula import symbol
+    >>> bin(evaluate(symbol("a") & ~symbol("b"), {"a": 0b1100, "b": 0b1010}, 0b1111))
     '0b100'
     """
-    from sympy.logic.boolalg import And, Or, Xor
-
-    def symbol(name: str) -> int:
+    def at_name(name: str) -> int:
         if name not in variables:
             raise ValueError(f"the expression uses {name!r}, which is not among the inputs "
                              f"{tuple(variables)}")
         return variables[name]
 
-    def combine(node: sympy.Basic, values: list[int]) -> int:
-        if isinstance(node, And):
+    def combine(op: str, values: list[int]) -> int:
+        if op == "and":
             v = full
             for x in values:
                 v &= x
             return v
-        if isinstance(node, Or):
+        if op == "or":
             v = 0
             for x in values:
                 v |= x
             return v
-        if isinstance(node, Xor):
+        if op == "xor":
             v = 0
             for x in values:
                 v ^= x
             return v
-        return full ^ values[0]  # Not
+        return full ^ values[0]  # not
 
-    return fold(expr, symbol, full, 0, combine)
+    return fold(as_formula(expr), at_name, full, 0, combine)
 
 
-def symbol_names(expr: sympy.Basic) -> frozenset[str]:
-    """Names of the symbols in ``expr`` (iterative: any nesting depth).
+def symbol_names(expr: Formula | sympy.Basic) -> frozenset[str]:
+    """Names used in ``expr`` (a formula, or a sympy expression).
 
-    >>> import sympy
-    >>> sorted(symbol_names(sympy.Symbol("b") | ~sympy.Symbol("a")))
+    >>> from planner.formula import symbol
+    >>> sorted(symbol_names(symbol("b") | ~symbol("a")))
     ['a', 'b']
     """
-    import sympy
-
-    seen: set[int] = set()
-    names: set[str] = set()
-    stack = [expr]
-    while stack:
-        node = stack.pop()
-        if id(node) in seen:
-            continue
-        seen.add(id(node))
-        if isinstance(node, sympy.Symbol):
-            names.add(node.name)
-        else:
-            stack.extend(node.args)
-    return frozenset(names)
+    return as_formula(expr).names
 
 
-def table_from_expr(expr: sympy.Basic, names: Iterable[str],
-                    dont_care: sympy.Basic | None = None) -> TruthTable:
+def table_from_expr(expr: Formula | sympy.Basic, names: Iterable[str],
+                    dont_care: Formula | sympy.Basic | None = None) -> TruthTable:
     """Truth table of ``expr`` over ``names``; where ``dont_care`` holds (None: nowhere) the value is free.
 
     Cost: one big-integer operation per expression node (see :func:`evaluate`).

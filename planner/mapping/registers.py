@@ -20,6 +20,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from planner.electrical import RESET_PULLUP_OHMS, resistor_rating_watts
+from planner.formula import FALSE, negate
 from planner.spec import Design, OutputSpec
 
 from .model import RegisterClass, RegisterWay
@@ -53,10 +54,8 @@ def register_view(design: Design) -> Design:
     """
     if not design.registers:
         return design
-    import sympy
-
     view = design.combinational()
-    extra = tuple(OutputSpec(COMPLEMENT + reg.next_output, sympy.Not(reg.next), sympy.false,
+    extra = tuple(OutputSpec(COMPLEMENT + reg.next_output, negate(reg.next), FALSE,
                              f"complement of the next state of register {reg.name}") for reg in design.registers)
     return Design(view.name, view.path, view.inputs, view.signals, view.outputs + extra, view.lines)
 

@@ -5,16 +5,13 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import TYPE_CHECKING
+from planner.formula import FALSE, Formula, as_formula, conjoin, disjoin, negate, shape, substitute, symbol
 
 from .errors import InputError
 from .expressions import expression_names, is_valid_name, parse_expression
 from .fields import (check_keys, check_not_swapped, describe, describe_name, expect_list, expect_mapping, get_bool,
                      get_int, get_text, line_of)
 from .yamlfile import Mapping, YamlFile, read_yaml
-
-if TYPE_CHECKING:  # sympy is loaded only when an expression is parsed or built
-    import sympy
 
 #: Most inputs a minterm list may range over (2**20 assignments).
 MAX_MINTERM_INPUTS = 20
@@ -41,10 +38,13 @@ class InputSpec:
 
 @dataclass(frozen=True)
 class SignalSpec:
-    """A named intermediate expression over inputs and earlier signals."""
+    """A named intermediate expression over inputs and earlier signals (a sympy one is converted)."""
 
     name: str
-    expr: sympy.Basic
+    expr: Formula
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "expr", as_formula(self.expr))
 
 
 @dataclass(frozen=True)
@@ -56,35 +56,39 @@ class OutputSpec:
     logic layer builds their truth tables from the lists directly
     (``planner.logic.output_table``). ``given_expr`` / ``given_dont_care`` are the
     expressions as read (None for a minterm list; ``given_dont_care`` None also means
-    no don't-cares); ``expr`` and ``dont_care`` are always sympy expressions, for a
-    minterm list the sum of its minterms, built only when first asked for.
+    no don't-cares); ``expr`` and ``dont_care`` are always formulas, for a
+    minterm list the sum of its minterms, built only when first asked for. Sympy
+    expressions given are converted.
     """
 
     name: str
-    given_expr: sympy.Basic | None
-    given_dont_care: sympy.Basic | None = None
+    given_expr: Formula | None
+    given_dont_care: Formula | None = None
     text: str = ""
     over: tuple[str, ...] | None = None
     minterms: tuple[int, ...] | None = None
     dont_care_minterms: tuple[int, ...] | None = None
 
+    def __post_init__(self) -> None:
+        for name in ("given_expr", "given_dont_care"):
+            if getattr(self, name) is not None:
+                object.__setattr__(self, name, as_formula(getattr(self, name)))
+
     @cached_property
-    def expr(self) -> sympy.Basic:
-        """The function as a sympy expression (for a minterm list: the OR of its minterms)."""
+    def expr(self) -> Formula:
+        """The function as a formula (for a minterm list: the OR of its minterms)."""
         if self.given_expr is not None:
             return self.given_expr
         return _sum_of_minterms(self.over, self.minterms)
 
     @cached_property
-    def dont_care(self) -> sympy.Basic:
-        """Where any value will do, as a sympy expression (``false`` when nowhere)."""
+    def dont_care(self) -> Formula:
+        """Where any value will do, as a formula (``FALSE`` when nowhere)."""
         if self.given_dont_care is not None:
             return self.given_dont_care
         if self.minterms is not None:
             return _sum_of_minterms(self.over, self.dont_care_minterms or ())
-        import sympy
-
-        return sympy.false
+        return FALSE
 
 
 @dataclass(frozen=True)
@@ -92,8 +96,11 @@ class RegisterSpec:
     """A clocked register: its output is net ``name`` (and ``~name``); ``next`` is its next state."""
 
     name: str
-    next: sympy.Basic
+    next: Formula
     reset: int = 0
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "next", as_formula(self.next))
 
     @property
     def next_output(self) -> str:
@@ -131,10 +138,8 @@ class Design:
         """
         if not self.registers:
             return self
-        import sympy
-
         inputs = self.inputs + tuple(InputSpec(reg.name, True) for reg in self.registers)
-        outputs = self.outputs + tuple(OutputSpec(reg.next_output, reg.next, sympy.false,
+        outputs = self.outputs + tuple(OutputSpec(reg.next_output, reg.next, FALSE,
                                                   f"next state of register {reg.name}")
                                        for reg in self.registers)
         return Design(self.name, self.path, inputs, self.signals, outputs, self.lines)
@@ -147,8 +152,9 @@ class Design:
     def signal_names(self) -> tuple[str, ...]:
         return tuple(spec.name for spec in self.signals)
 
-    def reached_names(self, *exprs: sympy.Basic) -> set[str]:
-        """Every input and signal name that ``exprs`` use, directly or through signals.
+    def reached_names(self, *exprs: Formula) -> set[str]:
+        """Every input and signal name that ``exprs`` (formulas; sympy ones are converted) use,
+        directly or through signals.
 
         >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
         ...            (SignalSpec("s", parse_expression("a & b")),))
@@ -157,13 +163,13 @@ class Design:
         """
         reached: set[str] = set()
         for expr in exprs:
-            reached |= expression_names(expr)
+            reached |= expression_names(as_formula(expr))
         for signal in reversed(self.signals):  # topological order, so one backward pass suffices
             if signal.name in reached:
                 reached |= expression_names(signal.expr)
         return reached
 
-    def flattened_shape(self, expr: sympy.Basic) -> tuple[int, int]:
+    def flattened_shape(self, expr: Formula) -> tuple[int, int]:
         """(nodes, depth) of ``expr`` once its signals are written out, without writing them out.
 
         Cost: linear in the size of the design's expressions (shared parts counted once
@@ -176,10 +182,10 @@ class Design:
         """
         shapes: dict[str, tuple[int, int]] = {}
         for signal in self.signals:
-            shapes[signal.name] = _tree_shape(signal.expr, shapes)
-        return _tree_shape(expr, shapes)
+            shapes[signal.name] = shape(signal.expr, shapes)
+        return shape(as_formula(expr), shapes)
 
-    def flatten(self, expr: sympy.Basic, *, line: int = 0) -> sympy.Basic:
+    def flatten(self, expr: Formula, *, line: int = 0) -> Formula:
         """``expr`` with every named signal replaced by its definition (inputs only).
 
         Refuses (InputError at ``line``) an expression that would grow past
@@ -190,7 +196,7 @@ class Design:
         >>> d = Design("d", "-", (InputSpec("a"), InputSpec("b")),
         ...            (SignalSpec("s", parse_expression("a & b")),))
         >>> d.flatten(parse_expression("s | ~a"))
-        ~a | (a & b)
+        Formula('a & b | ~a')
         """
         nodes, depth = self.flattened_shape(expr)
         if nodes > MAX_FLATTENED_NODES or depth > MAX_FLATTENED_DEPTH:
@@ -199,43 +205,18 @@ class Design:
                              f"its named signals are written out; the limits are {MAX_FLATTENED_NODES} and "
                              f"{MAX_FLATTENED_DEPTH}: keep it under 20 inputs so it can be checked by truth "
                              "table, or use each signal fewer times")
-        import sympy
-
         needed = self.reached_names(expr)
-        flat: dict = {}
+        flat: dict[str, Formula] = {}
         for signal in self.signals:
             if signal.name in needed:
-                flat[sympy.Symbol(signal.name)] = signal.expr.xreplace(flat)
-        return expr.xreplace(flat)
+                flat[signal.name] = substitute(signal.expr, flat)
+        return substitute(as_formula(expr), flat)
 
 
 #: Largest expression (names plus operators) that ``Design.flatten`` writes out.
 MAX_FLATTENED_NODES = 20_000
 #: Deepest operator nesting that ``Design.flatten`` writes out.
 MAX_FLATTENED_DEPTH = 150
-
-
-def _tree_shape(expr: sympy.Basic, leaves: dict[str, tuple[int, int]]) -> tuple[int, int]:
-    """(nodes, depth) of ``expr`` as a tree, where a symbol named in ``leaves`` stands for that shape."""
-    import sympy
-
-    memo: dict[int, tuple[int, int]] = {}
-    stack = [(expr, False)]
-    while stack:
-        node, ready = stack.pop()
-        if id(node) in memo:
-            continue
-        if isinstance(node, sympy.Symbol):
-            memo[id(node)] = leaves.get(node.name, (1, 0))
-        elif not node.args:
-            memo[id(node)] = (1, 0)
-        elif ready:
-            shapes = [memo[id(arg)] for arg in node.args]
-            memo[id(node)] = (1 + sum(n for n, _ in shapes), 1 + max(d for _, d in shapes))
-        else:
-            stack.append((node, True))
-            stack.extend((arg, False) for arg in node.args)
-    return memo[id(expr)]
 
 
 def load_design(path) -> Design:
@@ -359,7 +340,7 @@ def _check_new_names(file: YamlFile, mapping: Mapping, kind: str, inputs: set, s
                                    f"{signal_lines[name]}")
 
 
-def _expression_value(file: YamlFile, mapping: Mapping, key: str, value, what: str) -> sympy.Basic:
+def _expression_value(file: YamlFile, mapping: Mapping, key: str, value, what: str) -> Formula:
     """Parse the expression given as the value of ``key`` (text or a bare 0 / 1)."""
     line = line_of(mapping, key)
     if isinstance(value, (str, int)):
@@ -472,22 +453,15 @@ def _read_indices(file: YamlFile, mapping: Mapping, key: str, what: str, size: i
     return tuple(sorted(seen))
 
 
-def _sum_of_minterms(names, indices) -> sympy.Basic:
+def _sum_of_minterms(names, indices) -> Formula:
     """OR of the minterms ``indices`` over inputs ``names`` (first = most significant bit).
 
-    Built only when a sympy expression of a minterm list is asked for (proofs by SAT
-    above 20 inputs, flattening); truth tables come from the lists themselves.
+    Built only when a formula of a minterm list is asked for (proofs by SAT above
+    20 inputs, flattening); truth tables come from the lists themselves.
     """
-    import sympy
-
-    symbols = [sympy.Symbol(n) for n in names]
-    width = len(symbols)
-    terms = []
-    for index in indices:
-        literals = [symbol if (index >> (width - 1 - position)) & 1 else sympy.Not(symbol)
-                    for position, symbol in enumerate(symbols)]
-        terms.append(sympy.And(*literals))
-    return sympy.Or(*terms)
+    width = len(names)
+    return disjoin(*(conjoin(*(symbol(name) if (index >> (width - 1 - position)) & 1 else negate(symbol(name))
+                               for position, name in enumerate(names))) for index in indices))
 
 
 __all__ = ["NEXT_SUFFIX", "Design", "InputSpec", "OutputSpec", "RegisterSpec", "SignalSpec", "load_design"]

@@ -1,4 +1,4 @@
-"""The safe expression parser: design-file text to sympy expressions.
+"""The safe expression parser: design-file text to formulas (:class:`planner.formula.Formula`).
 
 Syntax (our own): names, the operators ``~ & ^ |`` or the words
 ``not and xor or``, parentheses, and the constants ``0`` and ``1``.
@@ -13,12 +13,9 @@ so deep nesting can never exhaust Python's recursion limit.
 from __future__ import annotations
 
 import re
-from typing import TYPE_CHECKING
+from planner.formula import FALSE, TRUE, Formula, conjoin, disjoin, exclusive, negate, symbol
 
 from .errors import InputError
-
-if TYPE_CHECKING:
-    import sympy
 
 #: Longest expression text accepted; longer blocks belong in named signals.
 MAX_EXPRESSION_CHARS = 20_000
@@ -68,35 +65,32 @@ def _tokens(text: str, path: str, line: int):
 
 
 def _apply(op: str, operands: list, depths: list) -> None:
-    """Pop the operands of ``op`` and push the sympy node it builds."""
-    import sympy
-
+    """Pop the operands of ``op`` and push the formula it builds."""
     if op == "~":
         arg = operands.pop()
         depth = depths.pop() + 1
-        node = sympy.Not(arg)
+        node = negate(arg)
     else:
         right, left = operands.pop(), operands.pop()
         depth = max(depths.pop(), depths.pop()) + 1
-        node = {"&": sympy.And, "^": sympy.Xor, "|": sympy.Or}[op](left, right)
+        node = {"&": conjoin, "^": exclusive, "|": disjoin}[op](left, right)
     operands.append(node)
     depths.append(depth)
 
 
-def parse_expression(text: str, *, path: str = "<expression>", line: int = 1) -> sympy.Basic:
-    """Parse design-file expression ``text`` into a sympy Boolean expression.
+def parse_expression(text: str, *, path: str = "<expression>", line: int = 1) -> Formula:
+    """Parse design-file expression ``text`` into a Boolean formula.
 
-    Cost: O(len(text)) tokens, each pushed and popped once.
+    Cost: O(len(text)) tokens, each pushed and popped once, and the canonical
+    text of each node built (see :mod:`planner.formula`).
 
     >>> parse_expression("a & ~b | not a and b")
-    (a & ~b) | (b & ~a)
+    Formula('a & ~b | b & ~a')
     >>> parse_expression("a ^ b & c")
-    a ^ (b & c)
+    Formula('a ^ b & c')
     >>> parse_expression("1")
-    True
+    Formula('1')
     """
-    import sympy  # here, not at the top: commands that parse no expression never load it
-
     if not isinstance(text, str):
         raise InputError(path, line, f"expected an expression as text, found {text!r}")
     if len(text) > MAX_EXPRESSION_CHARS:
@@ -118,11 +112,11 @@ def parse_expression(text: str, *, path: str = "<expression>", line: int = 1) ->
         last_column = column
         if expect_operand:
             if kind == "name":
-                operands.append(sympy.Symbol(value))
+                operands.append(symbol(value))
                 depths.append(0)
                 expect_operand = False
             elif kind == "const":
-                operands.append(sympy.true if value == "1" else sympy.false)
+                operands.append(TRUE if value == "1" else FALSE)
                 depths.append(0)
                 expect_operand = False
             elif value in ("~", "("):
@@ -170,10 +164,10 @@ def parse_expression(text: str, *, path: str = "<expression>", line: int = 1) ->
     return operands[0]
 
 
-def expression_names(expr: sympy.Basic) -> set[str]:
+def expression_names(expr: Formula) -> frozenset[str]:
     """The names a parsed expression uses.
 
     >>> sorted(expression_names(parse_expression("a & (b | ~c)")))
     ['a', 'b', 'c']
     """
-    return {symbol.name for symbol in expr.free_symbols}
+    return expr.names

@@ -28,6 +28,7 @@ from types import MappingProxyType
 from typing import Mapping
 
 from planner.errors import PlanningFailure, ToolError
+from planner.formula import to_sympy
 
 from .network import Network, renumber
 from .options import SynthesisOptions
@@ -216,7 +217,8 @@ def expression_blif(design, outputs: list[str]) -> str | None:
     besides the minimised sums of products.  Output don't-cares are not used
     (implementing the on-set exactly is always right).  None when an expression
     holds an operator other than those four or a constant (then only the minimised
-    form is used).  Names as in :func:`blif_text`.
+    form is used).  Names as in :func:`blif_text`. The formulas go through sympy, whose
+    argument order the net numbering follows, so the engine sees the text it always has.
     """
     import sympy
 
@@ -255,7 +257,7 @@ def expression_blif(design, outputs: list[str]) -> str | None:
 
     try:
         for spec in list(design.signals) + [o for o in design.outputs if o.name in outputs]:
-            lines += [f".names {node(spec.expr)} {rename[spec.name]}", "1 1"]
+            lines += [f".names {node(to_sympy(spec.expr))} {rename[spec.name]}", "1 1"]
     except ValueError:
         return None
     lines.append(".end")

@@ -32,17 +32,13 @@ from .synthesis import synthesise
 
 def _describe(value):
     """A hashable, exact description of a design value: dataclasses field by field (the fields
-    that take part in equality, so a new field is keyed as soon as it exists), sympy
-    expressions by ``srepr``, anything else by ``repr``."""
+    that take part in equality, so a new field is keyed as soon as it exists; a formula by
+    its canonical text), anything else by ``repr``."""
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
         return (type(value).__name__,) + tuple(
             (f.name, _describe(getattr(value, f.name))) for f in dataclasses.fields(value) if f.compare)
     if isinstance(value, (tuple, list)):
         return tuple(_describe(v) for v in value)
-    if type(value).__module__.startswith("sympy"):
-        import sympy
-
-        return sympy.srepr(value)
     return repr(value)
 
 

@@ -2,15 +2,13 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Mapping
+from typing import Mapping
 
-from planner.logic import EXHAUSTIVE_LIMIT, counterexample, output_table
 from planner.errors import InternalError
+from planner.formula import Formula, conjoin, disjoin, negate, symbol
+from planner.logic import EXHAUSTIVE_LIMIT, counterexample, output_table
 
 from .network import Network
-
-if TYPE_CHECKING:  # sympy is loaded only where an expression is built or read
-    import sympy
 
 
 class ProofError(InternalError):
@@ -78,19 +76,17 @@ def simulate(network: Network, assignment_bits: Mapping[str, int] | None = None,
     return values
 
 
-def network_exprs(network: Network) -> dict[str, sympy.Boolean]:
-    """Every net as a sympy expression over the inputs (shared subexpressions, iterative)."""
-    import sympy
-
-    exprs: dict[str, sympy.Boolean] = {name: sympy.Symbol(name) for name in network.inputs}
+def network_exprs(network: Network) -> dict[str, Formula]:
+    """Every net as a formula over the inputs (shared subformulas, iterative)."""
+    exprs: dict[str, Formula] = {name: symbol(name) for name in network.inputs}
     for name in network.complements:
-        exprs["~" + name] = sympy.Not(sympy.Symbol(name))
+        exprs["~" + name] = negate(symbol(name))
     for stage in network.stages:
         if stage.kind == "follower":
             exprs[stage.output] = exprs[stage.input]
         else:
-            exprs[stage.output] = sympy.Not(sympy.Or(*[sympy.And(*[exprs[x] for x in b.inputs])
-                                                       for b in stage.branches]))
+            exprs[stage.output] = negate(disjoin(*[conjoin(*[exprs[x] for x in b.inputs])
+                                                   for b in stage.branches]))
     return exprs
 
 
@@ -127,13 +123,11 @@ def prove(network: Network, design) -> None:
                                  f"{int(not table.on >> index & 1)} but the design needs "
                                  f"{table.on >> index & 1} at {_describe(assign, names)}")
         return
-    import sympy
-
     exprs = network_exprs(network)
     for out in design.outputs:
         line = design.lines.get("outputs", {}).get(out.name, 0)
         spec = design.flatten(out.expr, line=line)
-        care = sympy.Not(design.flatten(out.dont_care, line=line))
+        care = negate(design.flatten(out.dont_care, line=line))
         got = exprs[network.outputs[out.name]]
         witness = counterexample(got, spec, names, care=care)
         if witness is not None:

@@ -29,6 +29,7 @@ from dataclasses import dataclass, replace
 from types import MappingProxyType
 from typing import Callable, Mapping
 
+from planner.formula import FALSE
 from planner.logic import (EXHAUSTIVE_LIMIT, BlockTooLarge, Cover, TruthTable, minimise, minimise_complement,
                            table_from_expr)
 from planner.logic import design_support, design_table, output_support, output_table, used_inputs
@@ -137,9 +138,7 @@ def _blocks(design, options: SynthesisOptions) -> list[_Block]:
     full = 0
     if exhaustive:
         bits, full = input_patterns(names)
-    import sympy  # here: a plan whose networks all come from the cache never needs it
-
-    specs = [(s.name, "signal", s.expr, sympy.false, None) for s in design.signals]
+    specs = [(s.name, "signal", s.expr, FALSE, None) for s in design.signals]
     specs += [(o.name, "output", None, None, o) for o in design.outputs]
     blocks = []
     for name, kind, expr, dc, output in specs:
