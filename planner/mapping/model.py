@@ -253,6 +253,21 @@ def _integer(lp: pulp.LpProblem, name: str, low, high, cat: str = "Integer") -> 
     return pulp.LpVariable(name, low, high, cat=cat)
 
 
+def _linear(terms) -> pulp.LpAffineExpression:
+    """The sum of ``coefficient * variable`` over ``terms`` (pairs), built as one expression.
+
+    The same expression ``pulp.lpSum`` of the products gives (terms in first-appearance
+    order, a zero coefficient dropped as pulp's product drops it), without the intermediate
+    expression pulp's operators build for every product: the model's main cost when a plan
+    bounds a few dozen candidates.
+    """
+    coefficients: dict = {}
+    for coefficient, variable in terms:
+        if coefficient != 0:
+            coefficients[variable] = coefficients[variable] + coefficient if variable in coefficients else coefficient
+    return pulp.LpAffineExpression(coefficients)
+
+
 def _subsets(kinds: list[str]):
     for r in range(1, len(kinds) + 1):
         yield from itertools.combinations(kinds, r)
@@ -288,17 +303,18 @@ class _Model:
                 bistables[index[way.tube]].append(self.y[r][w])
         demand = [{k: [] for k in KINDS} for _ in kinds]
         plate, bias, diodes = [], [], []
+        # (coefficient, variable) pairs, summed by _linear
         for c, cls in enumerate(classes):
             for w, way in enumerate(cls.ways):
-                diodes.append(way.diodes * self.x[c][w])
+                diodes.append((way.diodes, self.x[c][w]))
                 for kind, sections in way.demand:
-                    demand[index[way.tube]][kind].append(sections * self.x[c][w])
-                plate.append(way.plate_amps * SUPPLY_ROW_SCALE * self.x[c][w])
-                bias.append(way.bias_amps * SUPPLY_ROW_SCALE * self.x[c][w])
+                    demand[index[way.tube]][kind].append((sections, self.x[c][w]))
+                plate.append((way.plate_amps * SUPPLY_ROW_SCALE, self.x[c][w]))
+                bias.append((way.bias_amps * SUPPLY_ROW_SCALE, self.x[c][w]))
         for r, reg in enumerate(problem.registers):
             for w, way in enumerate(reg.ways):
-                plate.append(way.plate_amps * SUPPLY_ROW_SCALE * self.y[r][w])
-                bias.append(way.bias_amps * SUPPLY_ROW_SCALE * self.y[r][w])
+                plate.append((way.plate_amps * SUPPLY_ROW_SCALE, self.y[r][w]))
+                bias.append((way.bias_amps * SUPPLY_ROW_SCALE, self.y[r][w]))
         self.hosted = []
         for t, kind in enumerate(kinds):
             if slack:
@@ -306,28 +322,28 @@ class _Model:
             self.lp += pulp.lpSum(self.h[t]) == self.n[t], f"heated_{t}"
             self.hosted.append(self._hosting(t, kind, demand[t], bistables[t]))
         if problem.vacuum_diodes and any(way.diodes for cls in classes for way in cls.ways):
-            self.lp += pulp.lpSum(kind.diode_sections * self.n[t] for t, kind in enumerate(kinds)
-                                  if kind.diode_sections) >= pulp.lpSum(diodes), "diodes"
+            self.lp += _linear((kind.diode_sections, self.n[t]) for t, kind in enumerate(kinds)
+                               if kind.diode_sections) >= _linear(diodes), "diodes"
         self.over = {}
         for wi, (ident, _volts, max_amps) in enumerate(supplies.windings):
-            amps = pulp.lpSum(way.amps * self.h[t][k] for t, kind in enumerate(kinds)
-                              for k, way in enumerate(kind.heaters) if way.winding == ident)
+            amps = _linear((way.amps, self.h[t][k]) for t, kind in enumerate(kinds)
+                           for k, way in enumerate(kind.heaters) if way.winding == ident)
             self.lp += amps <= max_amps + self._over(ident, f"over_w{wi}"), f"winding_{wi}"
-        self.lp += (pulp.lpSum(plate) + supplies.fixed_plate_amps * SUPPLY_ROW_SCALE
+        self.lp += (_linear(plate) + supplies.fixed_plate_amps * SUPPLY_ROW_SCALE
                     <= supplies.plate_max_amps * SUPPLY_ROW_SCALE + self._over("plate", "over_plate")), "plate"
-        self.lp += (pulp.lpSum(bias) + supplies.fixed_bias_amps * SUPPLY_ROW_SCALE
+        self.lp += (_linear(bias) + supplies.fixed_bias_amps * SUPPLY_ROW_SCALE
                     <= supplies.bias_max_amps * SUPPLY_ROW_SCALE + self._over("bias", "over_bias")), "bias"
         self.envelopes = pulp.lpSum(self.n)
         self.scarce = pulp.lpSum(self.n[t] for t, kind in enumerate(kinds) if kind.scarce)
-        self.heater_watts = pulp.lpSum(way.watts * self.h[t][k] for t, kind in enumerate(kinds)
-                                       for k, way in enumerate(kind.heaters))
+        self.heater_watts = _linear((way.watts, self.h[t][k]) for t, kind in enumerate(kinds)
+                                    for k, way in enumerate(kind.heaters))
         ranks = {t: r for r, t in enumerate(sorted(range(len(kinds)), key=lambda t: kinds[t].tube))}
         scale = TIE_BREAK / max(1, len(kinds)) / max(1, sum(cls.count for cls in classes) + len(kinds))
         # Among equal plans, fewer AND diodes: a one-input branch needs none, and solid-state
         # diodes cost nothing in the objective, so without this a tie could add them anyway.  A whole
         # TIE_BREAK per diode: a smaller share falls below the solver's tolerances and is ignored.
-        self.tie = (pulp.lpSum(scale * (ranks[t] + 1) * self.n[t] for t in range(len(kinds)))
-                    + TIE_BREAK * pulp.lpSum(diodes))
+        self.tie = (_linear((scale * (ranks[t] + 1), self.n[t]) for t in range(len(kinds)))
+                    + TIE_BREAK * _linear(diodes))
         self.purchase = pulp.lpSum(self.buy) if slack else 0
         self.overload = pulp.lpSum(var / max(limit, 1e-9) for var, limit in self._limits())
 
@@ -374,11 +390,11 @@ class _Model:
             b = _integer(self.lp, f"b_{t}_{g}", 0, None) if bistables and "grounded" in hosts else None
             if b is not None:
                 held.append(b)
-            self._packing(t, kind, {k: [split[k]] if k in split else [] for k in KINDS}, b, n, f"{t}_{g}")
+            self._packing(t, kind, {k: [(1, split[k])] if k in split else [] for k in KINDS}, b, n, f"{t}_{g}")
             out.append((hosts, split, b))
         for k in KINDS:
             if demand[k]:
-                self.lp += pulp.lpSum(shares[k]) == pulp.lpSum(demand[k]), f"share_{t}_{k}"
+                self.lp += pulp.lpSum(shares[k]) == _linear(demand[k]), f"share_{t}_{k}"
         if bistables:
             self.lp += pulp.lpSum(held) == pulp.lpSum(bistables), f"share_{t}_bistables"
         return out
@@ -391,7 +407,7 @@ class _Model:
         if not present:
             return
         n = pool if bistables is None else pool - bistables
-        followers = pulp.lpSum(demand["follower"])
+        followers = _linear(demand["follower"])
         grounded = [k for k in present if k != "follower"]
         if kind.shared_cathode and "follower" in present:
             self.lp += followers <= n, f"followers_{tag}"
@@ -401,7 +417,7 @@ class _Model:
         for members, envelopes in groups:
             for subset in _subsets(members):
                 serving = sum(1 for caps in kind.sections if caps & set(subset))
-                self.lp += (pulp.lpSum(term for k in subset for term in demand[k])
+                self.lp += (_linear(term for k in subset for term in demand[k])
                             <= serving * envelopes), f"pack_{tag}_{'_'.join(subset)}"
 
     def weighted(self):

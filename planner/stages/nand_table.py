@@ -41,16 +41,19 @@ def _permuted(f: int, order: tuple[int, ...]) -> int:
     return out
 
 
-_PERMUTATIONS = tuple(tuple(_permuted(f, p) for f in range(256)) for p in permutations(range(3)))
+@lru_cache(maxsize=1)
+def _permutations() -> tuple[tuple[int, ...], ...]:
+    """Every function under each of the six input orders (built when first needed, not at import)."""
+    return tuple(tuple(_permuted(f, p) for f in range(256)) for p in permutations(range(3)))
 
 
 def class_of(f: int) -> int:
     """The permutation class of a 3-input truth table: its smallest member."""
-    return min(p[f] for p in _PERMUTATIONS)
+    return min(p[f] for p in _permutations())
 
 
 def _state_key(nodes: list[int]) -> tuple[int, ...]:
-    return min(tuple(sorted(p[f] for f in nodes)) for p in _PERMUTATIONS)
+    return min(tuple(sorted(p[f] for f in nodes)) for p in _permutations())
 
 
 def minimum_circuits(max_gates: int) -> dict[int, tuple[int, list[tuple[int, int]]]]:
