@@ -42,8 +42,8 @@ from dataclasses import dataclass, replace
 from planner.catalogue import TubeType, plate_current_amps
 from planner.units import picofarads
 
-from .circuit import (Load, ScreenFeed, SectionState, follower_cathode_volts, load_state, section_amps,
-                      solve_plate, thevenin)
+from .circuit import (Load, ScreenFeed, SectionState, follower_cathode_volts, load_amps, load_state,
+                      plate_amps_function, section_amps, solve_plate, thevenin)
 from .roots import NoBracket, brent_root
 
 #: Wiring allowance per node: sockets, point-to-point wires and resistor bodies add about
@@ -269,14 +269,20 @@ class InverterTiming:
 def threshold_grid_volts(stage: InverterTiming, mid_volts: float) -> float:
     """The switching grid's voltage at which the stage's plate sits at ``mid_volts`` (DC).
 
-    The plate voltage falls as the grid rises, so Brent's method on
-    [deep cut-off, 0 V] finds the one crossing (about 15 plate solves).
-    Raises ValueError when the plate cannot reach ``mid_volts`` (the stage
-    cannot switch at these levels).
+    With the plate at ``mid_volts`` the section must carry what the plate load
+    delivers there less what the stage's loads draw (the plate node's equation,
+    :func:`solve_plate`, at that voltage); its current rises with the grid, so
+    Brent's method on [deep cut-off, 0 V] finds that grid voltage, one section
+    current per step (no plate solve inside each step).  Raises ValueError
+    when the plate cannot reach ``mid_volts`` (the stage cannot switch at
+    these levels).
     """
     deep = -(stage.supply_volts + abs(stage.divider.bias_volts)) - 50.0
+    needed = ((stage.supply_volts - mid_volts) / stage.plate_load_ohms
+              - sum(n * load_amps(load, mid_volts) for n, load in stage.loads))
     try:
-        return brent_root(lambda g: stage.plate_volts(g) - mid_volts, deep, 0.0, xtol=1e-4)
+        return brent_root(lambda g: plate_amps_function(stage.section(g), stage.supply_volts)(mid_volts) - needed,
+                          deep, 0.0, xtol=1e-4)
     except NoBracket:
         raise ValueError(f"a {stage.tube.name} stage cannot take its plate through {mid_volts:.1f} V") from None
 
