@@ -7,7 +7,8 @@ import pytest
 
 from planner.catalogue import builtin_catalogue
 from planner.electrical import InverterTiming, Wave, inverter_edge
-from planner.electrical.circuit import Load
+from planner.electrical.circuit import Load, ScreenFeed
+from planner.electrical.timing import threshold_grid_volts
 from planner.mapping import model as M
 from planner.mapping.solver import solve
 
@@ -26,6 +27,23 @@ def test_a_shared_memo_of_dc_solves_gives_the_same_edges():
     # One threshold search per stage model, one plate solve per (stage model, grid level).
     assert {key[1:] for key in memo if key[0] == "threshold"} == {(stage, 70.0), (other, 70.0)}
     assert len([key for key in memo if key[0] == "plate"]) == 4
+
+
+@pytest.mark.parametrize("name, feed, role", [("12AU7", None, "grid"), ("6SN7", None, "grid"),
+                                              ("6AU6", ScreenFeed(100e3, 47e3), "grid"),
+                                              ("6AS6", ScreenFeed(56e3), "grid"), ("6AS6", ScreenFeed(56e3), "grid3")])
+@pytest.mark.parametrize("mid_volts", [40.0, 70.0, 100.0])
+def test_the_threshold_puts_the_plate_at_the_mid_level(name, feed, role, mid_volts):
+    # The threshold is solved on the section's current at the mid level; its definition is the grid
+    # voltage where the plate node's own solve (solve_plate) gives the mid level: the plate must
+    # cross it within the search's tolerance (1e-4 V of grid) of the threshold found.
+    tube = builtin_catalogue().get(name)
+    divider = Load(820e3, 820e3, -90.0, tube)
+    stage = InverterTiming(tube, 0.9, 170.0, 100e3, divider, ((3, divider),), 14e-12, 12e-12, feed, role)
+    grid = threshold_grid_volts(stage, mid_volts)
+    assert stage.plate_volts(grid - 2e-4) > mid_volts > stage.plate_volts(grid + 2e-4)
+    with pytest.raises(ValueError, match="cannot take its plate through 180.0 V"):
+        threshold_grid_volts(stage, 180.0)
 
 
 @pytest.mark.parametrize("seed", range(40))
