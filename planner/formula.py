@@ -184,28 +184,38 @@ def fold(formula: Formula, at_name: Callable[[str], T], true: T, false: T,
     >>> fold(symbol("a") & ~symbol("b"), str, "1", "0", lambda op, v: f"{op}({', '.join(v)})")
     'and(a, not(b))'
     """
-    memo: dict[int, T] = {}
-    stack = [formula]
+    def value(node: Formula, values: list[T]) -> T:
+        if node.op == "name":
+            return at_name(node.name)
+        if node.op == "true":
+            return true
+        if node.op == "false":
+            return false
+        return combine(node.op, values)
+
+    return _post_order(formula, lambda node: node.args, value)
+
+
+def _post_order(root, children: Callable, value: Callable):
+    """``value(node, values of its children)`` at ``root``, children first: an iterative walk with a
+    memo by node identity (shared nodes once, any depth). ``children`` must give the same nodes
+    each time it is asked about a node."""
+    memo: dict[int, object] = {}
+    stack = [root]
     while stack:
         node = stack[-1]
         key = id(node)
         if key in memo:
             stack.pop()
             continue
-        if node.op == "name":
-            memo[key] = at_name(node.name)
-        elif node.op == "true":
-            memo[key] = true
-        elif node.op == "false":
-            memo[key] = false
-        else:
-            pending = [a for a in node.args if id(a) not in memo]
-            if pending:
-                stack.extend(pending)
-                continue
-            memo[key] = combine(node.op, [memo[id(a)] for a in node.args])
+        below = children(node)
+        pending = [c for c in below if id(c) not in memo]
+        if pending:
+            stack.extend(pending)
+            continue
+        memo[key] = value(node, [memo[id(c)] for c in below])
         stack.pop()
-    return memo[id(formula)]
+    return memo[id(root)]
 
 
 def substitute(formula: Formula, definitions: Mapping[str, Formula]) -> Formula:
@@ -269,37 +279,29 @@ def from_sympy(expr: sympy.Basic) -> Formula:
                 return rewrite()
         raise TypeError(f"not a boolean expression sympy can hand to the logic layer: {node!r}")
 
-    memo: dict[int, Formula] = {}
-    rewrites: dict[int, sympy.Basic] = {}  # also keeps rewritten nodes alive while their ids are memo keys
-    stack = [expr]
-    while stack:
-        node = stack[-1]
-        key = id(node)
-        if key in memo:
-            stack.pop()
-            continue
-        if isinstance(node, sympy.Symbol):
-            memo[key] = symbol(node.name)
-        elif isinstance(node, (BooleanTrue, BooleanFalse)) or node is True or node is False:
-            memo[key] = constant(bool(node))
-        elif not isinstance(node, sympy.Basic):
+    rewrites: dict[int, sympy.Basic] = {}  # also keeps rewritten nodes alive while their ids are in use
+
+    def children(node) -> tuple:
+        if isinstance(node, (sympy.Symbol, BooleanTrue, BooleanFalse)) or node is True or node is False:
+            return ()
+        if not isinstance(node, sympy.Basic):
             raise TypeError(f"not a sympy boolean expression: {node!r}")
-        elif type(node) not in core:
-            if key not in rewrites:
-                rewrites[key] = rewritten(node)
-            other = rewrites[key]
-            if id(other) not in memo:
-                stack.append(other)
-                continue
-            memo[key] = memo[id(other)]
-        else:
-            pending = [a for a in node.args if id(a) not in memo]
-            if pending:
-                stack.extend(pending)
-                continue
-            memo[key] = _COMBINE[core[type(node)]]([memo[id(a)] for a in node.args])
-        stack.pop()
-    return memo[id(expr)]
+        if type(node) in core:
+            return node.args
+        if id(node) not in rewrites:
+            rewrites[id(node)] = rewritten(node)
+        return (rewrites[id(node)],)
+
+    def value(node, values: list[Formula]) -> Formula:
+        if isinstance(node, sympy.Symbol):
+            return symbol(node.name)
+        if isinstance(node, (BooleanTrue, BooleanFalse)) or node is True or node is False:
+            return constant(bool(node))
+        if type(node) in core:
+            return _COMBINE[core[type(node)]](values)
+        return values[0]
+
+    return _post_order(expr, children, value)
 
 
 def as_formula(expr) -> Formula:
