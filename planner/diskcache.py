@@ -10,6 +10,9 @@ safe to delete. Entries are written whole (a temporary file renamed into place);
 cannot be read, or records another key, is ignored and computed again, and a failure to
 write only costs the next run the work.
 
+The same directory holds ``templates/``, jinja2's cache of the report's compiled templates
+(``planner.report``; jinja2's own format and keys).
+
 Where: ``$TUBEPLAN_CACHE_DIR`` when set (empty: no cache at all); else
 ``$XDG_CACHE_HOME/tubeplan``; else ``~/.cache/tubeplan``.
 """
@@ -41,10 +44,12 @@ def cache_dir() -> Path | None:
 
 
 def source_digest(packages: Iterable[Path]) -> str:
-    """SHA-256 of the ``*.py`` files (and data files ``*.json``) of the package directories given."""
+    """SHA-256 of the ``*.py`` files (and data files ``*.json``) of the package directories given,
+    and of any single module file given."""
     digest = hashlib.sha256()
     for package in packages:
-        for path in sorted(list(package.glob("*.py")) + list(package.glob("*.json"))):
+        files = [package] if package.is_file() else list(package.glob("*.py")) + list(package.glob("*.json"))
+        for path in sorted(files):
             digest.update(path.name.encode())
             digest.update(path.read_bytes())
     return digest.hexdigest()

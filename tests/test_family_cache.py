@@ -87,3 +87,19 @@ def test_every_field_of_an_input_is_part_of_the_network_key():
     limited = dataclasses.replace(design, inputs=(dataclasses.replace(design.inputs[0], fanout=2),)
                                   + design.inputs[1:])
     assert network_key(limited, SynthesisOptions()) != network_key(design, SynthesisOptions())
+
+
+def test_the_network_key_hashes_the_formula_module_with_the_synthesising_packages(tmp_path, monkeypatch):
+    from planner import diskcache
+    from planner.stages import SynthesisOptions, network_cache, network_key
+    from planner.spec import load_design
+
+    module = tmp_path / "formula.py"
+    module.write_text("A = 1\n")
+    before = diskcache.source_digest([module])
+    module.write_text("A = 2\n")
+    assert diskcache.source_digest([module]) != before  # a single module file is hashed
+    hashed = []
+    monkeypatch.setattr(network_cache, "source_digest", lambda paths: hashed.extend(paths) or "digest")
+    network_key(load_design("inventory_demo/design.yaml"), SynthesisOptions())
+    assert sorted(p.name for p in hashed) == ["formula.py", "logic", "spec", "stages"]

@@ -4,8 +4,10 @@ from __future__ import annotations
 
 import dataclasses
 import json
+import os
 import shutil
 import subprocess
+import sys
 import tempfile
 from html.parser import HTMLParser
 from pathlib import Path
@@ -88,6 +90,33 @@ def test_report_parses_and_holds_the_cautions():
 def test_report_is_deterministic():
     assert report_html(_content()) == report_html(_content())
     assert report_markdown(_content()) == report_markdown(_content())
+
+
+def _page_in_fresh_process(cache: Path) -> str:
+    """report.html of the fixture plan, rendered in a new interpreter with ``cache`` as the cache directory."""
+    code = ("import sys\nfrom planner.catalogue import builtin_catalogue\n"
+            "from planner.report.content import report_content\nfrom planner.report.html_report import report_html\n"
+            "from test_report_fixtures import fixture_plan\n"
+            "sys.stdout.write(report_html(report_content(fixture_plan(), builtin_catalogue(), "
+            "design_path='fixture.yaml')))")
+    tests = Path(__file__).resolve().parent
+    env = dict(os.environ, TUBEPLAN_CACHE_DIR=str(cache),
+               PYTHONPATH=os.pathsep.join([str(tests.parent), str(tests)]))
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, timeout=300)
+    assert done.returncode == 0, done.stderr
+    return done.stdout
+
+
+def test_compiled_templates_kept_in_the_cache_give_the_same_page(tmp_path):
+    fresh = _page_in_fresh_process(tmp_path / "cache")
+    kept = sorted((tmp_path / "cache" / "templates").iterdir())
+    assert kept  # jinja2 stored the compiled templates
+    assert _page_in_fresh_process(tmp_path / "cache") == fresh
+    for path in kept:  # a corrupt entry is compiled again, not trusted
+        path.write_bytes(b"not jinja2 bytecode")
+    assert _page_in_fresh_process(tmp_path / "cache") == fresh
+    (tmp_path / "a-file").write_text("")  # a cache that cannot be written only costs the compile
+    assert _page_in_fresh_process(tmp_path / "a-file") == fresh == report_html(_content())
 
 
 def test_markdown_report_holds_the_cautions_and_tables():

@@ -43,9 +43,10 @@ def _describe(value):
 
 
 def _synthesis_source() -> str:
-    """The digest of the packages whose code decides a network: ``spec``, ``logic`` and ``stages``."""
+    """The digest of the code that decides a network: the packages ``spec``, ``logic`` and ``stages``
+    and the formula type they share (``planner/formula.py``)."""
     packages = Path(__file__).resolve().parent.parent
-    return source_digest(packages / name for name in ("spec", "logic", "stages"))
+    return source_digest(packages / name for name in ("spec", "logic", "stages", "formula.py"))
 
 
 def network_key(design, options: SynthesisOptions) -> str:
