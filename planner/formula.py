@@ -90,7 +90,15 @@ FALSE = Formula("0", "false")
 
 
 def symbol(name: str) -> Formula:
-    """The formula of one name."""
+    """The formula of one name: an identifier, so that no name reads as a formula's text.
+
+    >>> symbol("a & b")
+    Traceback (most recent call last):
+    ...
+    ValueError: a formula's names are identifiers, not 'a & b'
+    """
+    if not name.isidentifier():
+        raise ValueError(f"a formula's names are identifiers, not {name!r}")
     return Formula(name, "name", name=name)
 
 

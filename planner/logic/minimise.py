@@ -6,12 +6,12 @@ import time
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Iterable
 
+from planner.formula import FALSE, Formula
+
 from .cover import Cover, Cube
 from .exact import DEFAULT_COVER_BUDGET_S, minimum_cover
 from .heuristic import heuristic_cover
 from .primes import prime_implicants
-from planner.formula import FALSE, Formula
-
 from .table import TruthTable, symbol_names, table_from_expr
 
 if TYPE_CHECKING:  # sympy expressions are accepted and converted
