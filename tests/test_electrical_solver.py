@@ -56,14 +56,17 @@ def test_plate_node_with_loads_matches_sympy_koren():
     assert (ref * r2 + bias * r1) / (r1 + r2) < 0  # the taps were indeed below the clamp
 
 
-def test_grid_clamp_matches_sympy():
-    tube = CAT.get("12AT7")
+@pytest.mark.parametrize("name", ["12AT7", "12AU7", "6AU6"])
+@pytest.mark.parametrize("open_volts, source_ohms", [(30.0, 400e3), (0.05, 1e6), (250.0, 10e3), (120.0, 5e6)])
+def test_grid_clamp_matches_sympy(name, open_volts, source_ohms):
+    tube = CAT.get(name)
     k = tube.model.grid_perveance
-    vg = clamp_grid_volts(tube, 30.0, 400e3)
+    vg = clamp_grid_volts(tube, open_volts, source_ohms)
     x = sympy.Symbol("x", positive=True)
-    ref = float(sympy.nsolve((30 - x) / 400e3 - k * x ** sympy.Rational(3, 2), x, 0.5))  # sympy nsolve
-    assert vg == pytest.approx(ref, abs=1e-6)
-    assert clamp_grid_volts(tube, -5.0, 400e3) == -5.0  # a negative grid draws nothing
+    balance = (sympy.Float(open_volts) - x) / source_ohms - k * x ** sympy.Rational(3, 2)
+    ref = float(sympy.nsolve(balance, x, (0, open_volts), solver="bisect", prec=30))  # sympy nsolve
+    assert vg == pytest.approx(ref, abs=1e-8)
+    assert clamp_grid_volts(tube, -5.0, source_ohms) == -5.0  # a negative grid draws nothing
 
 
 def test_diode_input_pushes_current_into_a_low_node():
