@@ -58,7 +58,7 @@ from planner.catalogue import TubeType
 
 from .circuit import Load, ScreenFeed, SectionState, load_state, section_amps, thevenin
 from .context import TubeContext
-from .eseries import nearest_values, resistor_rating_watts, series_values
+from .eseries import nearest_log_value, resistor_rating_watts, series_values
 from .parts import Family, Shortfall
 from .rules import DIODE_DROP_VOLTS
 from .roots import brent_root
@@ -138,11 +138,6 @@ def is_dual_triode(tube: TubeType) -> bool:
     """Two amplifying sections, both triodes: what a bistable needs from one envelope."""
     sections = tube.amplifying_sections
     return len(sections) == 2 and all(s.kind == "triode" for s in sections)
-
-
-def _nearest_e12(farads: float) -> float:
-    below, above = nearest_values(farads, "E12")
-    return below if farads * farads <= below * above else above
 
 
 def _low_output_ohms(family: Family, types) -> float:
@@ -347,7 +342,7 @@ def design_bistable(family: Family, tube: TubeType, wear: float, types: Mapping[
     _, drop_hi = DIODE_DROP_VOLTS["solid-state"]
     c_in, c_gp = (tube.c_in_farads or 0.0), (tube.c_gp_farads or 0.0)
     grid_static = c_in + c_gp + WIRING_FARADS + DIODE_FARADS
-    commutating = _nearest_e12(grid_static * rec.lower_ohms / rec.upper_ohms)
+    commutating = nearest_log_value(grid_static * rec.lower_ohms / rec.upper_ohms)
     # Largest grid-node capacitance the pulse must move at the edge: the reset diode too, and the
     # commutating capacitor in series with the other plate's node (at least its output capacitance,
     # the wiring and the grid-plate capacitance).

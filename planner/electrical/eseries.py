@@ -90,6 +90,18 @@ def nearest_values(r_ohms: float, series: str = "E24") -> tuple[float, float]:
     return below, above
 
 
+def nearest_log_value(value: float, series: str = "E12") -> float:
+    """The series value nearest ``value`` on a log scale (the lower one on a tie).
+
+    For a capacitor chosen by a ratio, as a compensated divider's R1*C1 = R2*Cin. Cost O(n).
+
+    >>> nearest_log_value(33e-12), nearest_log_value(40e-12), nearest_log_value(37e-12)
+    (3.3e-11, 3.9e-11, 3.9e-11)
+    """
+    below, above = nearest_values(value, series)
+    return below if value * value <= below * above else above
+
+
 def resistor_rating_watts(dissipation_watts: float) -> float | None:
     """The smallest offered rating at least twice ``dissipation_watts`` (None if over 2 W).
 

@@ -37,7 +37,7 @@ from planner.units import milliamps
 
 from .circuit import Load, clamp_grid_volts, load_amps, thevenin
 from .context import TubeContext
-from .eseries import nearest_values, resistor_rating_watts
+from .eseries import nearest_log_value, resistor_rating_watts
 from .parts import Receiver, Shortfall
 from .rules import DIODE_DROP_VOLTS
 
@@ -226,16 +226,10 @@ def _check(ctx: TubeContext, role: str, r1: float, r2: float, low: float, high: 
     load = load_amps(Load(box.r(r1, -1), box.r(r2, -1), box.vc(+1), tube), high)
     speedup = None
     if rules.speedup_caps and tube.c_in_farads:
-        speedup = _nearest_e12(tube.c_in_farads * r2 / r1)
+        speedup = nearest_log_value(tube.c_in_farads * r2 / r1)
     return Receiver(
         tube=tube.name, grid_role=role, upper_ohms=r1, lower_ohms=r2, upper_watts=upper_w, lower_watts=lower_w,
         grid_high_volts=grid_high, grid_low_volts=grid_low, cutoff_volts=cutoff,
         margin_high_volts=tap_hi, margin_low_volts=margin_low,
         bias_amps_worst=lower_v / box.r(r2, -1), load_amps_high=load, grid_amps_worst=grid_amps,
         speedup_farads=speedup)
-
-
-def _nearest_e12(farads: float) -> float:
-    """The E12 value nearest ``farads`` on a log scale (a compensated divider: R1*C1 = R2*Cin)."""
-    below, above = nearest_values(farads, "E12")
-    return below if farads * farads <= below * above else above
