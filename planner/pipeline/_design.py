@@ -163,7 +163,8 @@ def _primary_limits(design, setting) -> tuple[dict, dict]:
 
 
 def _repaired(label, network, family, stock, fanin, limits, names, options):
-    """``network`` repaired for fan-out every way worth trying: [(label, network or None, reason)], deduplicated.
+    """``network`` repaired for fan-out every way worth trying: [(label, network or None, reason)]; the
+    caller drops networks met before (:func:`_candidates`).
 
     Each cap of :func:`_repair_caps` with each strategy of
     :func:`planner.stages.repair_fanout` (followers only where a stocked
@@ -174,7 +175,7 @@ def _repaired(label, network, family, stock, fanin, limits, names, options):
     strategies = ["buffers", "duplicates"]
     if best(_FOLLOWER_PROBE) >= 2:
         strategies.insert(0, "followers")
-    out, seen = [], set()
+    out = []
     for cap in _repair_caps(family, stock):
         limit = _capped(best, cap)
         for strategy in strategies:
@@ -185,10 +186,6 @@ def _repaired(label, network, family, stock, fanin, limits, names, options):
                 options.say(f"mapping: network '{label}' fails: {reason}")
                 out.append((label, None, reason))
                 continue
-            key = (repaired.stages, tuple(sorted(repaired.outputs.items())))
-            if key in seen:
-                continue
-            seen.add(key)
             if repaired == network:
                 out.append((label, repaired, ""))
                 continue
