@@ -4,8 +4,9 @@ Synthesis depends only on the design's logic and the options, and its exact NAND
 searches take most of a small plan's time; a builder who changes the stock or a rail
 and plans again meets the same networks. :func:`cached_network` keys each network by
 the whole design (every field of its inputs, signals, outputs and registers; expressions
-by ``srepr``, minterm lists as given), the options, and the source text of the ``spec``, ``logic`` and
-``stages`` packages (so a change of the code that made it never reads a stale one). The
+by their canonical text, minterm lists as given), the options, and the source text of the ``spec``,
+``logic`` and ``stages`` packages and ``planner/formula.py`` (so a change of the code that made it
+never reads a stale one). The
 caller proves the network against the design on every run, hit or miss.
 
 :func:`cached_multilevel` does the same for the multi-level networks
